@@ -1,0 +1,47 @@
+"""subsurf: plan and interpret ground-penetrating-radar surveys.
+
+Site facts (moisture, salinity, temperature, texture) become the complex permittivity
+and conductivity the radar wave sees; from those follow velocity, attenuation, the
+maximum depth at which a target can be detected, antenna choice, acquisition settings,
+time-to-depth conversion with uncertainty and feasibility maps over a survey area.
+
+Submodules are imported on first use so that the command line starts quickly.
+"""
+
+from __future__ import annotations
+
+import importlib
+from pathlib import Path
+
+from .errors import InputError, ModelRangeWarning, SubsurfError
+
+__version__ = "0.1.0"
+__all__ = ["SubsurfError", "InputError", "ModelRangeWarning", "config_dir", "__version__"]
+
+_SUBMODULES = {
+    "soil", "propagation", "detection", "antennas", "acquisition", "velocity", "grid",
+    "feasibility", "survey", "plot", "report", "cli", "units", "errors", "layers",
+    "configs", "outputs", "scale", "picks",
+}
+
+
+def config_dir() -> Path:
+    """Folder holding the bundled configuration tables (``configs/`` at the project root)."""
+    import os
+
+    env = os.environ.get("SUBSURF_CONFIG_DIR")
+    if env:
+        return Path(env)
+    here = Path(__file__).resolve().parent.parent / "configs"
+    if here.is_dir():
+        return here
+    raise SubsurfError(
+        "cannot find the configs/ folder; install subsurf from its source tree "
+        "(pip install -e .) or set SUBSURF_CONFIG_DIR to a folder holding the tables"
+    )
+
+
+def __getattr__(name: str):
+    if name in _SUBMODULES:
+        return importlib.import_module(f".{name}", __name__)
+    raise AttributeError(f"module 'subsurf' has no attribute {name!r}")
