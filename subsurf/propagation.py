@@ -192,7 +192,7 @@ def wave_properties(eps_r, sigma, freq_hz, mu_r=1.0) -> WaveProperties:
     gamma = np.sqrt(1j * omega * mu * _MU0 * (sigma_a + 1j * omega * _EPS0 * eps))
     alpha = gamma.real
     beta = gamma.imag
-    with np.errstate(divide="ignore"):
+    with np.errstate(divide="ignore", over="ignore"):
         skin = np.where(alpha > 0, 1.0 / np.where(alpha > 0, alpha, 1.0), np.inf)
     eps_imag = -eps.imag
     sigma_eff = sigma_a + omega * _EPS0 * eps_imag
