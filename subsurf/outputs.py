@@ -148,3 +148,32 @@ def atomic_write_text(path: os.PathLike | str, text: str, *, force: bool = False
     with atomic_path(path, force=force) as tmp:
         Path(tmp).write_text(text, encoding="utf-8")
     return Path(path)
+
+
+@contextlib.contextmanager
+def collect_warnings():
+    """Collect the project's model warnings raised inside the block as a list of strings.
+
+    The CLI shows them as one-line notes on stderr (unless ``--quiet``) and includes them
+    in JSON output under ``"warnings"``; duplicates are dropped, order is kept.
+    """
+    import warnings
+
+    messages: list[str] = []
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        try:
+            yield messages
+        finally:
+            for w in caught:
+                text = str(w.message)
+                if text not in messages:
+                    messages.append(text)
+
+
+def print_notes(messages, *, quiet: bool, prefix: str = "subsurf") -> None:
+    """Print collected warnings as ``note:`` lines on stderr unless quiet."""
+    if quiet:
+        return
+    for m in messages:
+        print(f"{prefix}: note: {m}", file=sys.stderr)

@@ -194,7 +194,7 @@ def wave_properties(eps_r, sigma, freq_hz, mu_r=1.0) -> WaveProperties:
     beta = gamma.imag
     with np.errstate(divide="ignore", over="ignore"):
         skin = np.where(alpha > 0, 1.0 / np.where(alpha > 0, alpha, 1.0), np.inf)
-    eps_imag = -eps.imag
+    eps_imag = -eps.imag + 0.0  # no negative zero
     sigma_eff = sigma_a + omega * _EPS0 * eps_imag
     return WaveProperties(
         gamma=gamma,

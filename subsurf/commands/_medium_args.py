@@ -89,7 +89,7 @@ def medium_from_args(args, *, required: bool = True) -> Medium | None:
         if sigma < 0:
             raise InputError(f"--sigma must be >= 0 S/m, got {sigma:g}")
         label = f"ε'={eps.real:g}" + (f", ε''={-eps.imag:g}" if eps.imag else "") + f", σ={sigma * 1e3:g} mS/m"
-        return Medium(label=label, facts={"eps_real": eps.real, "eps_imag": -eps.imag, "sigma_s_per_m": sigma},
+        return Medium(label=label, facts={"eps_real": eps.real, "eps_imag": -eps.imag + 0.0, "sigma_s_per_m": sigma},
                       eps_const=eps, sigma_const=sigma)
     if args.sigma is not None:
         raise InputError("--sigma goes with --eps; for a soil, give pore water as --pore-water-ec or --salinity")
