@@ -9,13 +9,13 @@ together (e.g. 2-D grids of shape (ny, nx)).
 
 from __future__ import annotations
 
-import re
 from dataclasses import dataclass, field, fields
 from typing import Any, Literal
 
 import numpy as np
 
 from ..errors import InputError, SubsurfError, check_positive, check_range
+from ._mapping import soil_kwargs_from_mapping
 from .conductivity import (
     CLAY_CEC,
     cec_from_clay,
@@ -43,25 +43,6 @@ DEFAULT_PEPLINSKI_BULK_DENSITY = 1500.0
 _MODELS = ("crim", "peplinski", "topp")
 _POROSITY_TOLERANCE = 0.02
 
-# Field name -> (quantity kind for subsurf.units.parse_quantity, default unit of bare numbers).
-_FIELD_KINDS = {
-    "moisture": ("fraction", "dimensionless"),
-    "sand": ("fraction", "dimensionless"),
-    "clay": ("fraction", "dimensionless"),
-    "porosity": ("fraction", "dimensionless"),
-    "bulk_density": ("density", "kg/m**3"),
-    "particle_density": ("density", "kg/m**3"),
-    "temp_c": ("temperature", "degC"),
-    "pore_water_salinity_psu": ("salinity", "psu"),
-    "pore_water_ec25": ("conductivity", "S/m"),
-    "pore_water_tds": ("mass_concentration", "kg/m**3"),
-    "eps_solid": ("dimensionless", "dimensionless"),
-    "archie_a": ("dimensionless", "dimensionless"),
-    "archie_m": ("dimensionless", "dimensionless"),
-    "archie_n": ("dimensionless", "dimensionless"),
-    "clay_cec": ("dimensionless", "dimensionless"),
-}
-_CUBE = re.compile(r"(?<=[A-Za-z])(?<![0-9][eE])([23])(?![\d.])")
 
 
 def _first_bad(mask, *arrays):
@@ -351,44 +332,11 @@ class Soil:
         arrays.  Errors are :class:`~subsurf.errors.InputError` naming ``source``,
         the field, the value and the allowed range.
         """
-        from ..units import parse_quantity
-
-        if not isinstance(mapping, dict):
-            raise InputError(f"{source}: soil must be a table of fields, got {type(mapping).__name__}")
-        allowed = [f.name for f in fields(cls) if f.init]
-        kwargs = {}
-        for key, value in mapping.items():
-            if key not in allowed:
-                raise InputError(f"{source}: unknown soil field {key!r}; allowed: {', '.join(allowed)}")
-            if key in ("texture", "model"):
-                if not isinstance(value, str):
-                    raise InputError(f"{source}: field '{key}' must be a string, got {value!r}")
-                kwargs[key] = value
-                continue
-            kind, unit = _FIELD_KINDS[key]
-
-            def one(v, key=key, kind=kind, unit=unit):
-                if isinstance(v, bool) or not isinstance(v, (int, float, str)):
-                    raise InputError(f"field '{key}' must be a number or a string with unit, got {v!r}")
-                if isinstance(v, str):
-                    v = _CUBE.sub(r"**\1", v)
-                return parse_quantity(v, kind, default_unit=unit, name=f"field '{key}'")
-
-            try:
-                kwargs[key] = (np.asarray(_map_nested(one, value), dtype=float)
-                               if isinstance(value, list) else one(value))
-            except SubsurfError as exc:
-                raise InputError(f"{source}: {exc}") from None
+        kwargs = soil_kwargs_from_mapping(mapping, [f.name for f in fields(cls) if f.init], source=source)
         if "moisture" not in kwargs:
             raise InputError(f"{source}: soil field 'moisture' is required (volumetric fraction 0-1, e.g. '25 %')")
         try:
             return cls(**kwargs)
         except SubsurfError as exc:
             raise InputError(f"{source}: {exc}") from None
-
-
-def _map_nested(fn, value):
-    if isinstance(value, list):
-        return [_map_nested(fn, v) for v in value]
-    return fn(value)
 
