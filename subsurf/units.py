@@ -9,6 +9,7 @@ frequency flag) - never guessed.  Physics modules never import this file.
 
 from __future__ import annotations
 
+import re
 from functools import lru_cache
 
 from .errors import InputError
@@ -76,7 +77,9 @@ def parse_quantity(text, kind: str, *, default_unit: str, name: str = "value") -
         s = str(text).strip()
         if not s:
             raise InputError(f"{name}: empty value; expected a number with unit such as '1 {default_unit}'")
-        s = s.replace("µ", "u").replace("μ", "u")
+        s = s.replace("µ", "u").replace("μ", "u").replace("³", "**3").replace("²", "**2")
+        # "g/cm3", "kg/m3", "m2": a unit letter followed by an exponent digit
+        s = re.sub(r"(?<=[A-Za-z])([23])\b", r"**\1", s)
         try:
             num = float(s)
         except ValueError:
