@@ -105,7 +105,7 @@ def print_result(payload: dict, text: str, *, as_json: bool, stream=None) -> Non
     """Print ``text`` (the readable table) or ``payload`` as JSON."""
     stream = stream or sys.stdout
     if as_json:
-        json.dump(to_jsonable(payload), stream, indent=2, allow_nan=False)
+        json.dump(to_jsonable(payload), stream, indent=2, allow_nan=False, ensure_ascii=False)
         stream.write("\n")
     else:
         stream.write(text.rstrip("\n") + "\n")
