@@ -20,7 +20,6 @@ from .detection import (
     REACHES_MARGIN_DB,
     Target,
     band_spectrum,
-    check_target_footprint,
     margin_db,
     max_depth,
     resolution_at_depth,
@@ -303,7 +302,6 @@ def rank_antennas(electrical, antennas: list[Antenna], target: Target, *, surfac
         f, amp = grids[i]
         eps_b, sig_b = electrical(f)
         res = resolution_at_depth(eps_b, sig_b, f, amp, target.depth_m)
-        check_target_footprint(target, res.footprint_radius_m, stacklevel=2)
         rows.append({
             "name": a.name,
             "centre_freq_hz": a.centre_freq_hz,
@@ -323,6 +321,17 @@ def rank_antennas(electrical, antennas: list[Antenna], target: Target, *, surfac
             "smallest_separable_m": float(res.smallest_separable_m),
             "illustrative": a.illustrative,
         })
+    narrow = [r["name"] for r in rows if target.kind != "planar" and target.size_m > 2 * r["footprint_radius_m"]]
+    if narrow:
+        import warnings
+
+        from .errors import ModelRangeWarning
+
+        warnings.warn(
+            f"target size {target.size_m:g} m is larger than the antenna footprint at {target.depth_m:g} m "
+            f"depth for {', '.join(narrow)}: the {target.kind}-target model does not hold there; "
+            "its top reflects like a planar interface (use kind 'planar')",
+            ModelRangeWarning, stacklevel=2)
     return rows
 
 
