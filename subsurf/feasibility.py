@@ -211,7 +211,8 @@ def _chain_kwargs(values: dict) -> dict:
 def _antenna_axes(antennas, ndim: int):
     shape = (-1,) + (1,) * ndim
     freq = np.array([a.centre_freq_hz for a in antennas], dtype=float).reshape(shape)
-    perf = np.array([a.performance_db for a in antennas], dtype=float).reshape(shape)
+    perf = np.array([getattr(a, "effective_performance_db", a.performance_db) for a in antennas],
+                    dtype=float).reshape(shape)
     gain = np.array([getattr(a, "gain", 1.0) or 1.0 for a in antennas], dtype=float).reshape(shape)
     bws = [getattr(a, "bandwidth_hz", None) for a in antennas]
     bw = None if any(b is None for b in bws) else np.array(bws, dtype=float).reshape(shape)

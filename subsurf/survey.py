@@ -256,6 +256,15 @@ def _check_value(name: str, v: float, *, path, field: str, row: int | None = Non
                              f"{q.low:g} to {q.high:g} ({q.si_unit})", row=row, field=field)
 
 
+def _texture(name, *, path, field: str) -> dict:
+    from .soil.presets import texture_preset
+
+    try:
+        return texture_preset(str(name))
+    except InputError as exc:
+        raise FileInputError(path, str(exc), field=field) from None
+
+
 def _quantity_table(table: dict, *, path, where: str) -> tuple[dict, dict]:
     values, sds = {}, {}
     for key, raw in table.items():
@@ -441,6 +450,10 @@ def _read_zones(entry: dict, *, survey_path: Path, index: int) -> ZoneSet:
             v, s = _quantity_table(props, path=path, where=f"features[{i}].properties")
         except FileInputError:
             raise
+        if texture is not None:
+            preset = _texture(texture, path=path, field=f"features[{i}].properties.texture")
+            for q in ("sand", "clay", "bulk_density"):
+                v.setdefault(q, preset[q])
         names.append(name)
         geoms.append(shape)
         values.append(v)
@@ -646,6 +659,10 @@ def load_survey(path) -> Survey:
                              field="soil.model")
     texture = soil.get("texture")
     defaults, default_sd = _quantity_table(soil.get("defaults", {}), path=path, where="soil.defaults")
+    if texture is not None:
+        preset = _texture(texture, path=path, field="soil.texture")
+        for q in ("sand", "clay", "bulk_density"):
+            defaults.setdefault(q, preset[q])
     samples = [_read_samples(e, survey_path=path, index=i) for i, e in enumerate(soil.get("samples", []))]
     zones = [_read_zones(e, survey_path=path, index=i) for i, e in enumerate(soil.get("zones", []))]
     rasters = [_read_raster(e, survey_path=path, index=i) for i, e in enumerate(soil.get("rasters", []))]
