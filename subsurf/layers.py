@@ -289,7 +289,7 @@ def layered_depth_from_time(twt_s, earth: LayeredEarth, *, offset_m=0.0, time_ze
     x = check_nonnegative("offset_m", offset_m, unit="m")
     tau, x = np.broadcast_arrays(tau, x)
     v, h = earth.velocity, earth.thickness
-    t_min = _forward(np.zeros(tau.shape), v, h, x)
+    t_min = x / v[0]  # the direct path along the top of the first layer
     if np.any(tau < t_min * (1 - 1e-12)):
         raise InputError("offset_m is too large for the travel time: the direct path between the antennas "
                          "through the top layer takes longer than the pick (no real depth)")
@@ -400,8 +400,7 @@ def layered_depth_monte_carlo(twt_s, earth: LayeredEarth, *, offset_m=0.0, time_
     hh = np.broadcast_to(h[:, None, :], (draws, t.size, h.shape[1]))
     xx = np.broadcast_to(x, tau.shape)
     tau_c = np.maximum(tau, 0.0)
-    t_min = _forward(np.zeros(tau.shape), np.where(ok[:, None, None], vv, 1e8),
-                     np.where(ok[:, None, None], hh, 1.0), xx)
+    t_min = xx / np.where(ok[:, None], vv[..., 0], 1e8)
     good = ok[:, None] & (tau >= t_min)
     vsafe = np.where(ok[:, None, None], vv, 1e8)
     hsafe = np.where(ok[:, None, None], hh, 1.0)

@@ -144,7 +144,7 @@ def run(args) -> int:
     if mode == "homogeneous":
         v_min_ok = model * tau >= offset * (1 - 1e-12)
     else:
-        t_min = layers.layered_time_from_depth(np.zeros(1), model, offset_m=offset)[0]
+        t_min = offset / model.velocity[0]  # direct path through the top layer
         v_min_ok = tau >= t_min * (1 - 1e-12)
     problems = []
     for i, (row, col) in enumerate(where):
