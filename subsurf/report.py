@@ -83,6 +83,11 @@ REFERENCES = {
                   "doi:10.1111/j.1365-2478.1989.tb02221.x", "velocity, attenuation and typical material values"),
     "annan1992": ("Annan, A. P. & Cosway, S. W. (1992). Ground penetrating radar survey design. Proceedings "
                   "of SAGEEP 1992, 329–351.", "footprint and acquisition settings"),
+    "annan2009": ("Annan, A. P. (2009). Electromagnetic principles of ground penetrating radar. In Jol, H. M. "
+                  "(ed.), Ground Penetrating Radar: Theory and Applications, Elsevier, ch. 1.",
+                  "time window, sampling and trace spacing"),
+    "grasmueck2005": ("Grasmueck, M., Weger, R. & Horstmeyer, H. (2005). Full-resolution 3D GPR imaging. "
+                      "Geophysics 70(1), K12–K19. doi:10.1190/1.1852780", "line spacing for 3D imaging"),
     "widess1973": ("Widess, M. B. (1973). How thin is a thin bed? Geophysics 38(6), 1176–1180. "
                    "doi:10.1190/1.1440403", "vertical resolution (quarter wavelength)"),
     "gum2008": ("JCGM 100:2008. Evaluation of measurement data — Guide to the expression of uncertainty in "
@@ -246,16 +251,35 @@ def _nice_step(x: float) -> float:
     return 10.0 * mag  # pragma: no cover
 
 
-def _acquisition(antenna, soil, target, reach_m: float) -> list[dict] | None:
-    """Acquisition settings for the recommended antenna as (label, value, note) rows."""
-    try:
-        from . import acquisition
-    except ImportError:
-        return None
-    fn = getattr(acquisition, "acquisition_settings", None)
-    if fn is None:
-        return None
-    return fn(antenna, soil.electrical, target)
+def _acquisition(antenna, site: SiteSoil, target, *, area_m2: float | None) -> dict:
+    """Acquisition settings for ``antenna`` at the target depth, from ``subsurf setup``'s computation."""
+    from .commands._medium_args import Medium
+    from .commands.setup import ROWS_SPEC, compute
+
+    medium = Medium(label="site median soil", facts=dict(site.mapping), soil=site.soil)
+    result = compute(medium, antenna, target=target, depth_m=target.depth_m, area_m2=area_m2)
+    rows = []
+    for key, label, unit, fmt, rule in ROWS_SPEC:
+        value = result["settings"].get(key)
+        if value is None:
+            continue
+        rows.append({"key": key, "label": label, "value": value, "unit": unit, "fmt": fmt, "rule": rule})
+    return {"rows": rows, "notes": result["notes"], "window_s": result["settings"]["window_ns"] * 1e-9,
+            "area_m2": area_m2}
+
+
+def _site_area_m2(survey) -> float:
+    """Area of the site outline in the projected grid CRS (m²)."""
+    import shapely
+
+    from .grid import transform_points
+
+    def project(geom):
+        coords = shapely.get_coordinates(geom)
+        x, y = transform_points(coords[:, 0], coords[:, 1], survey.outline_crs, survey.grid_crs)
+        return shapely.set_coordinates(geom, np.column_stack([x, y]))
+
+    return float(project(survey.outline).area)
 
 
 def collect(survey_path, *, map_result: dict | None = None, bar=None) -> dict:
@@ -308,14 +332,9 @@ def collect(survey_path, *, map_result: dict | None = None, bar=None) -> dict:
         rec_ant = next((a for a in antennas if a.name == rec_name), None)
         chart_ant = rec_ant or max(antennas, key=lambda a: next(r["margin_db"] for r in rows if r["name"] == a.name))
         rec_row = next(r for r in rows if r["name"] == chart_ant.name)
-        acq = _acquisition(chart_ant, site.soil, target, rec_row["max_depth_m"])
+        acq = _acquisition(chart_ant, site, target, area_m2=_site_area_m2(survey))
         step("depth chart")
-        window_s = None
-        if acq:
-            window_s = next((r.get("value_si") for r in acq if r.get("key") == "time_window_s"), None)
-        if not window_s:
-            reach = max(t.depth_m * 1.5, min(rec_row["max_depth_m"], 3 * t.depth_m))
-            window_s = 2.0 * reach / rec_row["velocity_m_per_s"] * 1.3
+        window_s = acq["window_s"]
         chart = _depth_chart(site.soil, site.sd, chart_ant.centre_freq_hz, chart_ant.separation_m, window_s,
                              draws=survey.draws, seed=survey.seed)
         step("maps")
@@ -657,14 +676,15 @@ def _antennas(data) -> str:
 
 def _settings(data) -> str:
     acq = data["acquisition"]
-    if not acq:
-        body = ('<p class="note">Acquisition settings are not available in this build of subsurf '
-                "(the acquisition module is missing).</p>")
-    else:
-        rows = [[r["label"], _Raw(_e(r["value"])), r.get("note", "")] for r in acq]
-        body = (f"<p>For <strong>{_e(data['chart_antenna'])}</strong>:</p>" +
-                _table(["setting", "value", "why"], rows))
-    return _section("settings", body)
+    which = "the recommended antenna" if data["recommended"] else "the antenna that comes closest"
+    rows = [[r["label"], _fmt(r["value"], r["fmt"]), r["unit"], r["rule"]] for r in acq["rows"]]
+    parts = [f"<p>For <strong>{_e(data['chart_antenna'])}</strong> ({which}), with the target depth "
+             f"({data['target']['depth_m']:.2f} m) as the depth of interest and the whole site "
+             f"({acq['area_m2']:,.0f} m²) for the survey time:</p>",
+             _table(["setting", "value", "unit", "rule"], rows, numeric=(1,))]
+    if acq["notes"]:
+        parts.append("<ul>" + "".join(f"<li>{_e(n)}</li>" for n in acq["notes"]) + "</ul>")
+    return _section("settings", "".join(parts))
 
 
 def _maps(data) -> str:
