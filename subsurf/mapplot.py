@@ -23,7 +23,7 @@ _PROB_CMAP = "RdYlBu"
 _HATCH_COLOUR = "#4a4a4a"
 
 
-def _figure(n_panels: int, *, ncols: int | None = None, panel_w: float = 4.2, panel_h: float = 3.6):
+def _figure(n_panels: int, *, ncols: int | None = None, panel_w: float = 4.2, panel_h: float = 3.6, aspect=None):
     import matplotlib
 
     matplotlib.use("Agg", force=False)
@@ -31,11 +31,18 @@ def _figure(n_panels: int, *, ncols: int | None = None, panel_w: float = 4.2, pa
 
     ncols = ncols or min(n_panels, 3)
     nrows = int(np.ceil(n_panels / ncols))
+    if aspect is not None:  # height/width of the site: size panels to the map
+        panel_h = min(max(panel_w * aspect, 2.0), 6.0) + 0.5
     fig, axes = plt.subplots(nrows, ncols, figsize=(panel_w * ncols + 0.6, panel_h * nrows + 0.9),
                              squeeze=False, sharex=True, sharey=True, layout="constrained")
     for ax in axes.ravel()[n_panels:]:
         ax.set_visible(False)
     return fig, axes.ravel()[:n_panels]
+
+
+def _aspect(grid) -> float:
+    x, y = grid["x"].values, grid["y"].values
+    return float((np.ptp(y) + 1e-9) / (np.ptp(x) + 1e-9))
 
 
 def _decorate(ax, grid, *, outline=None, samples=None, extrapolated=None, crs_name="", first_col=True,
@@ -58,6 +65,10 @@ def _decorate(ax, grid, *, outline=None, samples=None, extrapolated=None, crs_na
         ax.scatter(samples[0], samples[1], s=14, marker="o", facecolor="white", edgecolor="black", lw=0.7,
                    zorder=5, label="soil samples")
     ax.set_aspect("equal")
+    from matplotlib.ticker import MaxNLocator
+
+    ax.xaxis.set_major_locator(MaxNLocator(4))
+    ax.yaxis.set_major_locator(MaxNLocator(5))
     ax.ticklabel_format(useOffset=False, style="plain")
     ax.tick_params(labelsize=7)
     if last_row:
@@ -84,7 +95,7 @@ def antenna_figure(grid, result, *, scenario: str, target_depth_m: float, outlin
     """
     da = result["max_depth"].sel(scenario=scenario)
     names = [str(a) for a in result["antenna"].values]
-    fig, axes = _figure(len(names), ncols=2 if len(names) == 4 else None)
+    fig, axes = _figure(len(names), ncols=2 if len(names) == 4 else None, aspect=_aspect(grid))
     vmax = float(np.nanpercentile(da.values, 99)) if np.any(np.isfinite(da.values)) else 1.0
     vmax = max(vmax, 1.5 * target_depth_m)
     ncols = 2 if len(names) == 4 else min(len(names), 3)
@@ -109,7 +120,7 @@ def scenario_figure(grid, result, *, target_depth_m: float, outline, samples, cr
     """Probability of reaching the target with the recommended antenna, one panel per scenario."""
     scen = [str(s) for s in result["scenario"].values]
     names = [str(a) for a in result["antenna"].values]
-    fig, axes = _figure(len(scen))
+    fig, axes = _figure(len(scen), aspect=_aspect(grid))
     ncols = min(len(scen), 3)
     for i, (ax, s) in enumerate(zip(axes, scen)):
         p = result["reach_probability"].sel(scenario=s).values
@@ -141,7 +152,7 @@ def inputs_figure(grid, soil, *, outline, samples, crs_name: str, quantities=("m
     qs = [q for q in quantities if q in soil]
     qs.append("distance_to_sample") if "distance_to_sample" in soil and np.any(
         np.isfinite(soil["distance_to_sample"].values)) else None
-    fig, axes = _figure(len(qs))
+    fig, axes = _figure(len(qs), aspect=_aspect(grid))
     for i, (ax, q) in enumerate(zip(axes, qs)):
         data = soil[q].values
         base = q[:-3] if q.endswith("_sd") else q

@@ -17,6 +17,7 @@ import json
 from pathlib import Path
 
 import numpy as np
+import shapely
 import xarray as xr
 from pyproj import CRS, Transformer
 
@@ -26,6 +27,8 @@ TO_LONLAT = Transformer.from_crs(UTM, "EPSG:4326", always_xy=True)
 
 # Site corner in UTM 30N (invented field, ~150 m x 100 m)
 E0, N0 = 596_400.0, 5_781_200.0
+SOUTH = [(-20, -20), (-20, 52), (60, 62), (180, 38), (200, 38), (200, -20), (-20, -20)]
+NORTH = [(-20, 52), (-20, 200), (200, 200), (200, 38), (180, 38), (60, 62), (-20, 52)]
 OUTLINE_UTM = [(0, 0), (150, 8), (158, 70), (120, 104), (40, 98), (-6, 60), (0, 0)]
 
 
@@ -43,20 +46,19 @@ def write_outline():
 
 
 def write_zones():
-    south = [(-20, -20), (-20, 52), (60, 62), (180, 38), (200, 38), (200, -20), (-20, -20)]
-    north = [(-20, 52), (-20, 200), (200, 200), (200, 38), (180, 38), (60, 62), (-20, 52)]
+    south, north = SOUTH, NORTH
 
     def utm(points):
         return [[E0 + x, N0 + y] for x, y in points]
 
     feats = [
-        {"type": "Feature", "properties": {"name": "upper terrace", "texture": "loam", "moisture": "17 %",
-                                           "moisture_sd": "3 %", "pore_water_ec": "35 mS/m",
-                                           "pore_water_ec_sd": "10 mS/m"},
+        {"type": "Feature", "properties": {"name": "upper terrace", "texture": "loamy sand", "moisture": "14 %",
+                                           "moisture_sd": "3 %", "pore_water_ec": "20 mS/m",
+                                           "pore_water_ec_sd": "6 mS/m"},
          "geometry": {"type": "Polygon", "coordinates": [utm(north)]}},
-        {"type": "Feature", "properties": {"name": "lower hollow", "texture": "clay loam", "moisture": "27 %",
-                                           "moisture_sd": "4 %", "pore_water_ec": "90 mS/m",
-                                           "pore_water_ec_sd": "25 mS/m"},
+        {"type": "Feature", "properties": {"name": "lower hollow", "texture": "loam", "moisture": "21 %",
+                                           "moisture_sd": "4 %", "pore_water_ec": "45 mS/m",
+                                           "pore_water_ec_sd": "12 mS/m"},
          "geometry": {"type": "Polygon", "coordinates": [utm(south)]}},
     ]
     (HERE / "zones.geojson").write_text(json.dumps({"type": "FeatureCollection", "features": feats}, indent=1))
@@ -68,9 +70,10 @@ def write_samples():
            (25, 75), (60, 70), (100, 65), (130, 80), (70, 92), (105, 95), (45, 55)]
     rows = []
     for i, (x, y) in enumerate(pts, start=1):
-        wet = 1.0 if y < 45 else 0.0  # the invented hollow is wetter and more saline
-        moisture = 0.17 + 0.09 * wet + rng.normal(0, 0.015) - 0.0004 * x
-        ec = 35 + 50 * wet + rng.normal(0, 6) + 0.1 * x
+        # the invented hollow (south of the zone boundary) is wetter and more saline
+        wet = 1.0 if shapely.contains_xy(shapely.Polygon(SOUTH), x, y) else 0.0
+        moisture = 0.14 + 0.07 * wet + rng.normal(0, 0.012) + 0.0003 * (x - 75)
+        ec = 18 + 27 * wet + rng.normal(0, 4) + 0.05 * x
         lon, lat = lonlat([(x, y)])[0]
         rows.append({"id": f"S{i:02d}", "lon": lon, "lat": lat, "moisture [%]": round(100 * moisture, 1),
                      "moisture_sd [%]": 1.5, "pore_water_ec [mS/m]": round(ec, 0), "pore_water_ec_sd [mS/m]": 8})
