@@ -37,8 +37,7 @@ __all__ = [
 REPORT_FREQS_HZ = np.geomspace(10e6, 3e9, 121)
 
 #: Quantities of the survey schema whose spread feeds the depth chart (Soil field names).
-_SPREAD_FIELDS = ("moisture", "pore_water_ec25", "pore_water_salinity_psu", "temp_c", "clay", "sand",
-                  "bulk_density")
+_SPREAD_FIELDS = ("moisture", "pore_water_ec25", "pore_water_salinity_psu", "temp_c")
 
 _HUMAN = {
     # survey quantity -> (label, unit shown, factor from SI, format)
@@ -208,33 +207,71 @@ def _ground_over_frequency(soil, freqs_hz):
     }
 
 
+def _velocity_draws(soil, sd: dict, freq_hz: float, *, draws: int, seed: int):
+    """Nominal phase velocity and seeded Monte Carlo draws from the soil-input spread.
+
+    Each input in ``sd`` (Soil field names among moisture, pore-water EC/salinity and
+    temperature) is drawn from a normal distribution, independently; fractions are
+    clipped to [0, 1], conductivities to ≥ 0 and moisture to 0.995 × porosity (a soil
+    cannot hold more water than its pores), as the feasibility maps do.  Texture
+    fractions are not varied: independent draws of sand and clay can be impossible
+    (sand + clay > 1), and their effect on velocity is small beside moisture's.
+    """
+    import dataclasses
+
+    from .propagation import wave_properties
+
+    rng = np.random.default_rng(seed)
+    eps, sig = soil.electrical(freq_hz)
+    v_nom = float(np.asarray(wave_properties(eps, sig, freq_hz).velocity).ravel()[0])
+    changes = {}
+    for name in _SPREAD_FIELDS:
+        s = sd.get(name, 0.0)
+        base = getattr(soil, name, None)
+        if not s or base is None:
+            continue
+        val = rng.normal(float(base), float(s), int(draws))
+        if name == "moisture":
+            phi = soil.porosity_value
+            upper = 1.0 if phi is None else 0.995 * float(phi)
+            val = np.clip(val, 0.0, upper)
+        else:  # conductivities, salinity >= 0; temperature >= 0 degC (liquid pore water)
+            val = np.clip(val, 0.0, None)
+        changes[name] = val
+    if not changes:
+        return v_nom, np.full(int(draws), v_nom), []
+    varied = dataclasses.replace(soil, **changes)
+    eps_d, sig_d = varied.electrical(freq_hz)
+    v = np.asarray(wave_properties(eps_d, sig_d, freq_hz).velocity, dtype=float).ravel()
+    return v_nom, v, sorted(changes)
+
+
 def _depth_chart(soil, sd: dict, freq_hz: float, offset_m: float, twt_max_s: float, *, draws: int,
                  seed: int) -> dict:
     """Central depth and 5–95 % band against two-way time, from the soil-input spread."""
     from .propagation import depth_from_time
-    from .velocity import velocity_from_soil
 
-    usable = {k: v for k, v in sd.items() if k in _SPREAD_FIELDS and getattr(soil, k, None) is not None}
-    sv = velocity_from_soil(soil, freq_hz, sd=usable, draws=max(int(draws), 200), seed=seed)
-    v_draws = np.asarray(sv.samples, float)
+    n = max(int(draws), 400)
+    v_nom, v_draws, varied = _velocity_draws(soil, sd, freq_hz, draws=n, seed=seed)
     # times from the arrival of the direct ground wave of the slowest draw (v·t ≥ x is
     # needed for a real depth with antenna separation x) to the end of the window
     t_start = offset_m / float(v_draws.min()) if offset_m > 0 else 0.0
     t = np.linspace(t_start, twt_max_s, 161)
     d_all = depth_from_time(t[None, :], v_draws[:, None], offset_m=offset_m)
     lo, hi = np.percentile(d_all, [5.0, 95.0], axis=0)
-    central = depth_from_time(t, sv.velocity, offset_m=offset_m)
+    central = depth_from_time(t, v_nom, offset_m=offset_m)
     step_ns = _nice_step(twt_max_s * 1e9 / 12.0)
     t_tab = np.arange(step_ns, twt_max_s * 1e9 + 1e-9, step_ns) * 1e-9
     t_tab = t_tab[t_tab >= t_start]
     d_tab = depth_from_time(t_tab[None, :], v_draws[:, None], offset_m=offset_m)
     tab_lo, tab_hi = np.percentile(d_tab, [5.0, 95.0], axis=0)
     return {
-        "velocity": sv.velocity, "velocity_sd": sv.velocity_sd, "velocity_p05": sv.velocity_p05,
-        "velocity_p95": sv.velocity_p95, "draws": sv.draws, "seed": sv.seed, "varied": sorted(usable),
+        "velocity": v_nom, "velocity_sd": float(np.std(v_draws, ddof=1)),
+        "velocity_p05": float(np.percentile(v_draws, 5)), "velocity_p95": float(np.percentile(v_draws, 95)),
+        "draws": n, "seed": int(seed), "varied": varied,
         "offset_m": offset_m, "freq_hz": freq_hz,
         "twt_s": t, "depth_m": central, "depth_p05_m": lo, "depth_p95_m": hi,
-        "table": [{"twt_ns": float(tt * 1e9), "depth_m": float(depth_from_time(tt, sv.velocity, offset_m=offset_m)),
+        "table": [{"twt_ns": float(tt * 1e9), "depth_m": float(depth_from_time(tt, v_nom, offset_m=offset_m)),
                    "depth_p05_m": float(a), "depth_p95_m": float(b)}
                   for tt, a, b in zip(t_tab, tab_lo, tab_hi)],
     }
@@ -331,7 +368,6 @@ def collect(survey_path, *, map_result: dict | None = None, bar=None) -> dict:
 
         rec_ant = next((a for a in antennas if a.name == rec_name), None)
         chart_ant = rec_ant or max(antennas, key=lambda a: next(r["margin_db"] for r in rows if r["name"] == a.name))
-        rec_row = next(r for r in rows if r["name"] == chart_ant.name)
         acq = _acquisition(chart_ant, site, target, area_m2=_site_area_m2(survey))
         step("depth chart")
         window_s = acq["window_s"]
@@ -363,19 +399,36 @@ def collect(survey_path, *, map_result: dict | None = None, bar=None) -> dict:
     }
 
 
+_MAP_CAPTIONS = {
+    "png_antennas": "Maximum detectable depth of the target across the site for each antenna (first scenario).",
+    "png_scenarios": "How each scenario changes where the target can be reached.",
+    "png_inputs": "The soil inputs on the survey grid, with the sample positions.",
+}
+
+#: map summary columns shown in the scenario comparison: key, header, format
+_MAP_COLUMNS = (
+    ("scenario", "scenario", "s"), ("antenna", "antenna", "s"),
+    ("reach_pct", "area reached (%)", ".0f"), ("reach_headroom_pct", "reached with 6 dB to spare (%)", ".0f"),
+    ("expected_reach_pct", "mean probability of reaching (%)", ".0f"),
+    ("median_max_depth_m", "median max depth (m)", ".2f"), ("recommended_pct", "area where recommended (%)", ".0f"),
+)
+
+
 def _maps_section(map_result: dict | None) -> dict | None:
-    """Figures and scenario comparison from a feasibility map run (paths read here)."""
+    """Figures (read from the files ``subsurf map`` wrote) and its scenario × antenna summary."""
     if not map_result:
         return None
     figs = []
-    for item in map_result.get("figures", []):
-        path = Path(item["path"] if isinstance(item, dict) else item)
-        caption = item.get("caption", path.stem.replace("_", " ")) if isinstance(item, dict) else \
-            path.stem.replace("_", " ")
-        if path.suffix.lower() == ".png" and path.is_file():
-            figs.append({"caption": caption, "png": path.read_bytes(), "file": path.name})
-    return {"figures": figs, "scenarios": map_result.get("scenarios", []),
-            "files": [str(p) for p in map_result.get("files", [])]}
+    for key, path in map_result.get("paths", {}).items():
+        path = Path(path)
+        if key.startswith("png_") and path.is_file():
+            figs.append({"caption": _MAP_CAPTIONS.get(key, path.stem.replace("_", " ")), "png": path.read_bytes(),
+                         "file": path.name})
+    return {"figures": figs, "summary": list(map_result.get("summary", [])),
+            "files": (sorted(str(Path(p).relative_to(Path(map_result["out_dir"]))) if map_result.get("out_dir")
+                             else Path(p).name for p in map_result.get("paths", {}).values())
+                      if map_result.get("kept", True) else []),
+            "monte_carlo": map_result.get("monte_carlo", {})}
 
 
 # --- HTML -----------------------------------------------------------------------------------
@@ -690,18 +743,27 @@ def _settings(data) -> str:
 def _maps(data) -> str:
     m = data["maps"]
     if not m:
-        return _section("maps", '<p class="note">No feasibility maps were computed for this report.</p>')
+        return _section("maps", '<p class="note">No feasibility maps were computed for this report '
+                        "(run <code>subsurf map</code>, or the report without <code>--no-maps</code>).</p>")
     parts = []
-    if m["scenarios"]:
-        keys = [k for k in m["scenarios"][0] if k != "name"]
-        rows = [[s["name"]] + [_fmt(s.get(k)) if not isinstance(s.get(k), str) else s.get(k) for k in keys]
-                for s in m["scenarios"]]
-        parts.append("<h3>Scenario comparison</h3>")
-        parts.append(_table(["scenario"] + [k.replace("_", " ") for k in keys], rows,
-                            numeric=tuple(i + 1 for i, k in enumerate(keys)
-                                          if not isinstance(m["scenarios"][0].get(k), str))))
-    figs = [_img(f["png"], f["caption"], f["caption"]) for f in m["figures"]]
-    parts.append("".join(figs))
+    scen = data["survey"]["scenarios"]
+    if len(scen) > 1 or (scen and scen[0]["name"] != "base"):
+        parts.append("<h3>Scenarios</h3><ul>" + "".join(
+            f"<li><strong>{_e(s['name'])}</strong>: {_e(s['description'])}</li>" for s in scen) + "</ul>")
+    if m["summary"]:
+        rows = [[_fmt(r.get(k), f) if f != "s" else str(r.get(k, "")) for k, _, f in _MAP_COLUMNS]
+                for r in m["summary"]]
+        parts.append("<h3>Scenario and antenna comparison over the site</h3>")
+        parts.append(_table([h for _, h, _ in _MAP_COLUMNS], rows, numeric=tuple(range(2, len(_MAP_COLUMNS)))))
+        mc = m.get("monte_carlo") or {}
+        if mc:
+            parts.append(f'<p class="note">Probabilities from {mc.get("draws")} Monte Carlo draws per cell '
+                         f'(seed {mc.get("seed")}); standard error at most {mc.get("max_standard_error", 0):.3f}. '
+                         "Percentages are of the grid cells inside the site outline.</p>")
+    parts.extend(_img(f["png"], f["caption"], f["caption"]) for f in m["figures"])
+    if m["files"]:
+        parts.append(f'<p class="note">Map files kept with this report (GIS-ready NetCDF, GeoTIFF, PNG and '
+                     f'tables): {_e(", ".join(m["files"]))}.</p>')
     return _section("maps", "".join(parts))
 
 
