@@ -425,12 +425,14 @@ def _geojson_geometries(path: Path, *, survey_path: Path, field: str) -> list[tu
 def _check_polygon(shape, *, path, field: str) -> None:
     import shapely
 
-    if shape.is_empty or shape.area <= 0:
-        raise FileInputError(path, "polygon is empty or has zero area", field=field)
+    if shape.is_empty:
+        raise FileInputError(path, "polygon is empty", field=field)
     if not shape.is_valid:
         reason = shapely.is_valid_reason(shape)
         raise FileInputError(path, f"polygon is not valid ({reason}); fix self-intersections "
                              "or ring order in a GIS", field=field)
+    if shape.area <= 0:
+        raise FileInputError(path, "polygon has zero area", field=field)
 
 
 def _read_zones(entry: dict, *, survey_path: Path, index: int) -> ZoneSet:
