@@ -25,6 +25,7 @@ COMMANDS: dict[str, str] = {
     "depth": "subsurf.commands.depth",
     "velocity": "subsurf.commands.velocity",
     "map": "subsurf.commands.map",
+    "region": "subsurf.commands.region",
     "report": "subsurf.commands.report",
 }
 

@@ -25,7 +25,7 @@ from __future__ import annotations
 
 import contextlib
 import os
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -494,7 +494,3 @@ def write_region(result, path, *, force: bool = False, batch: int = 4, dtype: st
             nc.close()
     return summary
 
-
-def with_stacks(antennas, stacks: int):
-    """Antennas with ``stacks`` traces stacked (catalogue entries keep their own method)."""
-    return [a.with_stacks(stacks) if hasattr(a, "with_stacks") else replace(a) for a in antennas]
