@@ -886,21 +886,64 @@ def summary_payload(data: dict, report_path) -> dict:
     }
 
 
+def report_tables(data: dict) -> dict[str, str]:
+    """The report's main tables as CSV text: file name -> content (human units, caution column)."""
+    import csv
+    import io
+
+    from .outputs import CAUTION
+
+    def to_csv(header, rows):
+        buf = io.StringIO()
+        w = csv.writer(buf, lineterminator="\n")
+        w.writerow(header + ["caution"])
+        for i, r in enumerate(rows):
+            w.writerow([f"{v:.6g}" if isinstance(v, float) else v for v in r] + [CAUTION if i == 0 else ""])
+        return buf.getvalue()
+
+    c = data["depth_chart"]
+    ranking = to_csv(
+        ["antenna", "centre_frequency_mhz", "performance_db", "max_depth_m", "margin_db", "verdict",
+         "vertical_resolution_m", "horizontal_resolution_m", "recommended"],
+        [[r["name"], r["centre_freq_hz"] / 1e6, r["performance_db"], r["max_depth_m"], r["margin_db"],
+          r["verdict"], r["vertical_resolution_m"], r["fresnel_radius_m"], "yes" if r["recommended"] else "no"]
+         for r in data["ranking"]])
+    depth = to_csv(["two_way_time_ns", "depth_m", "depth_p05_m", "depth_p95_m", "antenna", "velocity_m_per_ns",
+                    "antenna_separation_m"],
+                   [[r["twt_ns"], r["depth_m"], r["depth_p05_m"], r["depth_p95_m"], data["chart_antenna"],
+                     c["velocity"] * 1e-9, c["offset_m"]] for r in c["table"]])
+    g = data["ground"]
+    idx = np.unique(np.searchsorted(g["freq_hz"], [25e6, 50e6, 100e6, 200e6, 250e6, 400e6, 500e6, 1e9, 2e9]))
+    ground = to_csv(["frequency_mhz", "eps_real", "eps_imag", "sigma_eff_ms_per_m", "loss_tangent",
+                     "velocity_m_per_ns", "attenuation_db_per_m", "skin_depth_m"],
+                    [[g["freq_hz"][i] / 1e6, g["eps_real"][i], g["eps_imag"][i], g["sigma_eff"][i] * 1e3,
+                      g["loss_tangent"][i], g["velocity"][i] * 1e-9, g["attenuation_db_per_m"][i],
+                      g["skin_depth"][i]] for i in idx if i < g["freq_hz"].size])
+    return {"antenna_ranking.csv": ranking, "time_to_depth.csv": depth, "ground_properties.csv": ground}
+
+
 def write_report(survey_path, out_path, *, force: bool = False, map_result: dict | None = None,
-                 bar=None) -> dict:
+                 bar=None, tables_dir=None) -> dict:
     """Build the report for ``survey_path`` and write it atomically to ``out_path``.
 
-    Returns the summary of :func:`summary_payload`.  Raises
-    :class:`~subsurf.errors.OutputExistsError` if ``out_path`` exists and not ``force``
+    Returns the summary of :func:`summary_payload` (with ``tables``: the CSV files
+    written to ``tables_dir`` when given).  Raises
+    :class:`~subsurf.errors.OutputExistsError` if an output exists and not ``force``
     (checked before any work is done).
     """
     from .outputs import atomic_write_text, check_outputs_free
 
     out_path = Path(out_path)
-    check_outputs_free([out_path], force=force)
+    names = ("antenna_ranking.csv", "time_to_depth.csv", "ground_properties.csv")
+    check_outputs_free([out_path] + ([Path(tables_dir) / n for n in names] if tables_dir else []), force=force)
     data = collect(survey_path, map_result=map_result, bar=bar)
     page = render_html(data)
     if bar is not None:
         bar.advance("writing")
     atomic_write_text(out_path, page, force=force)
-    return summary_payload(data, out_path)
+    summary = summary_payload(data, out_path)
+    summary["tables"] = []
+    if tables_dir is not None:
+        for name, text in report_tables(data).items():
+            summary["tables"].append(str(atomic_write_text(Path(tables_dir) / name, text, force=force)))
+    return summary

@@ -29,7 +29,7 @@ def default_report_name(survey_path) -> str:
 
 
 def make_report(survey_path, out_path, *, force: bool = False, quiet: bool = False, maps: bool = True,
-                maps_out=None, map_result: dict | None = None) -> dict:
+                maps_out=None, map_result: dict | None = None, tables_dir=None) -> dict:
     """Run the maps (unless given or skipped) and write the report; return the summary.
 
     Existing outputs are checked before any work starts.  Map files go to ``maps_out``
@@ -58,11 +58,12 @@ def make_report(survey_path, out_path, *, force: bool = False, quiet: bool = Fal
                     tmp = tempfile.TemporaryDirectory(prefix="subsurf-maps-")
                 folder = maps_out if tmp is None else tmp.name
                 map_result = {**run_map(survey_path, folder, force=force or tmp is not None, quiet=True),
-                              "kept": tmp is None}
+                              "kept": tmp is None, "out_dir": str(folder)}
                 bar.advance("site and soil")
             else:
                 bar.start("site and soil")
-            return write_report(survey_path, out_path, force=force, map_result=map_result, bar=bar)
+            return write_report(survey_path, out_path, force=force, map_result=map_result, bar=bar,
+                                tables_dir=tables_dir)
         finally:
             if tmp is not None:
                 tmp.cleanup()
