@@ -260,7 +260,7 @@ def _depth_chart(soil, sd: dict, freq_hz: float, offset_m: float, twt_max_s: flo
     d_all = depth_from_time(t[None, :], v_draws[:, None], offset_m=offset_m)
     lo, hi = np.percentile(d_all, [5.0, 95.0], axis=0)
     central = depth_from_time(t, v_nom, offset_m=offset_m)
-    step_ns = _nice_step(twt_max_s * 1e9 / 12.0)
+    step_ns = _nice_step(twt_max_s * 1e9 / 20.0)
     t_tab = np.arange(step_ns, twt_max_s * 1e9 + 1e-9, step_ns) * 1e-9
     t_tab = t_tab[t_tab >= t_start]
     d_tab = depth_from_time(t_tab[None, :], v_draws[:, None], offset_m=offset_m)
@@ -462,7 +462,9 @@ nav.toc a { color: var(--accent); text-decoration: none; }
 table { border-collapse: collapse; margin: 8px 0 14px; font-size: 13px; width: 100%; }
 th, td { border-bottom: 1px solid var(--line); padding: 4px 8px; text-align: left; vertical-align: top; }
 th { background: var(--tint); font-weight: bold; }
-td.n, th.n { text-align: right; font-variant-numeric: tabular-nums; white-space: nowrap; }
+td.n, th.n { text-align: right; font-variant-numeric: tabular-nums; }
+td.n { white-space: nowrap; }
+td:first-child { white-space: nowrap; }
 tr.rec td { background: #e3f1ef; font-weight: bold; }
 figure { margin: 10px 0 18px; }
 figure img { max-width: 100%; height: auto; border: 1px solid var(--line); display: block; }
@@ -670,11 +672,16 @@ def _ground(data) -> str:
 
     g = data["ground"]
     conduction_in_eps = bool(getattr(data["site_soil"].soil, "conduction_in_eps", False))
+    from scipy import constants
+
+    eps_eff = g["sigma_eff"] / (2 * np.pi * g["freq_hz"] * constants.epsilon_0)
     png = ground_properties_png(g["freq_hz"], g["eps_real"], g["eps_imag"], g["velocity"],
-                                g["attenuation_db_per_m"], antenna_freqs_hz=data["ground_table_freqs_hz"])
+                                g["attenuation_db_per_m"], antenna_freqs_hz=data["ground_table_freqs_hz"],
+                                eps_effective=eps_eff)
     parts = [_img(png, "relative permittivity, loss, velocity and attenuation against frequency",
-                  "The site-median ground against frequency; dotted lines mark the centre frequencies of the "
-                  "antennas considered.")]
+                  "The site-median ground against frequency. Loss panel: the dielectric ε'' of the soil model "
+                  "and the effective ε''_eff = σ_eff/(ωε₀) that includes DC conduction. Vertical lines mark the "
+                  "centre frequencies of the antennas considered.")]
     from .propagation import wave_properties
 
     soil = data["site_soil"].soil
@@ -713,7 +720,7 @@ def _antennas(data) -> str:
     rows, classes = [], []
     for r in sorted(data["ranking"], key=lambda r: -r["margin_db"]):
         rows.append([r["name"] + (" ★" if r["recommended"] else ""), _fmt(r["centre_freq_hz"] / 1e6, ".4g"),
-                     _fmt(r["performance_db"], ".4g"), _fmt(r["max_depth_m"]), _fmt(r["margin_db"], ".1f"),
+                     _fmt(r["performance_db"], ".1f"), _fmt(r["max_depth_m"]), _fmt(r["margin_db"], ".1f"),
                      _verdict_html(r["verdict"]), _fmt(r["vertical_resolution_m"], ".2g"),
                      _fmt(r["fresnel_radius_m"], ".2g"), _fmt(r["received_freq_hz"] / 1e6, ".3g")])
         classes.append("rec" if r["recommended"] else "")
@@ -762,9 +769,20 @@ def _maps(data) -> str:
                          "Percentages are of the grid cells inside the site outline.</p>")
     parts.extend(_img(f["png"], f["caption"], f["caption"]) for f in m["figures"])
     if m["files"]:
-        parts.append(f'<p class="note">Map files kept with this report (GIS-ready NetCDF, GeoTIFF, PNG and '
-                     f'tables): {_e(", ".join(m["files"]))}.</p>')
+        parts.append(f'<p class="note">Map files kept with this report: {_e(_describe_files(m["files"]))}.</p>')
     return _section("maps", "".join(parts))
+
+
+def _describe_files(files) -> str:
+    """Short description of a list of output file names, grouped by kind."""
+    kinds = {".nc": "CF NetCDF", ".tif": "GeoTIFF layers", ".png": "PNG maps", ".csv": "CSV", ".md": "Markdown",
+             ".json": "JSON"}
+    counts: dict = {}
+    for f in files:
+        k = kinds.get(Path(f).suffix.lower(), "other")
+        counts[k] = counts.get(k, 0) + 1
+    return ", ".join(f"{n} {k}" if n > 1 else f"{k}" if k != "other" else "1 other" for k, n in counts.items()) + \
+        f" ({len(files)} files)"
 
 
 def _depth(data) -> str:
@@ -783,7 +801,9 @@ def _depth(data) -> str:
     parts.append('<div class="grid2"><div>' +
                  _table(["two-way time (ns)", "depth (m)", "5 % (m)", "95 % (m)"], rows, numeric=(0, 1, 2, 3)) +
                  "</div><div>")
-    varied = ", ".join(c["varied"]) or "none (no spread given)"
+    names = {"moisture": "moisture", "pore_water_ec25": "pore-water EC", "pore_water_salinity_psu": "salinity",
+             "temp_c": "temperature"}
+    varied = ", ".join(names.get(v, v) for v in c["varied"]) or "none (no spread given)"
     parts.append(f'<p class="note">Velocity at {c["freq_hz"] / 1e6:.0f} MHz from the site-median soil. '
                  f"The band is the 5–95 % range of {c['draws']} Monte Carlo draws (seed {c['seed']}) of the "
                  f"uncertain soil inputs ({_e(varied)}) through the soil model and the exact phase velocity, "

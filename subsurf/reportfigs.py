@@ -70,7 +70,15 @@ def figure_png(fig) -> bytes:
 
 def _mark_antennas(ax, antenna_freqs_hz):
     for f in antenna_freqs_hz or ():
-        ax.axvline(f / 1e6, color=PALETTE["muted"], linewidth=0.6, linestyle=":", zorder=0)
+        ax.axvline(f / 1e6, color=PALETTE["third"], linewidth=0.9, linestyle=":", zorder=1)
+
+
+def _plain_log_ticks(axis, subs=(1.0, 2.0, 5.0)):
+    from matplotlib.ticker import FuncFormatter, LogLocator
+
+    axis.set_major_locator(LogLocator(base=10, subs=subs))
+    axis.set_major_formatter(FuncFormatter(lambda v, _: f"{v:g}"))
+    axis.set_minor_formatter(FuncFormatter(lambda v, _: ""))
 
 
 def site_map_png(outline_rings, samples=(), *, crs_name: str = "", scale_m: float | None = None,
@@ -121,35 +129,43 @@ def site_map_png(outline_rings, samples=(), *, crs_name: str = "", scale_m: floa
 
 
 def ground_properties_png(freq_hz, eps_real, eps_imag, velocity_m_per_s, attenuation_db_per_m, *,
-                          antenna_freqs_hz=(), eps_imag_label: str = "ε''") -> bytes:
+                          antenna_freqs_hz=(), eps_effective=None) -> bytes:
     """Four panels against frequency: ε', ε'' (and σ_eff/(ωε₀)), velocity and attenuation.
 
     Parameters
     ----------
     freq_hz : (n,) array
     eps_real, eps_imag : (n,) arrays
-        Relative permittivity ε' and the loss part shown (dielectric ε'' or the total
-        effective loss, as ``eps_imag_label`` says).
+        Relative permittivity ε' and the dielectric loss ε''.
     velocity_m_per_s, attenuation_db_per_m : (n,) arrays
     antenna_freqs_hz : sequence of float
         Centre frequencies of the catalogue antennas, drawn as dotted guides.
+    eps_effective : (n,) array, optional
+        Effective loss σ_eff/(ωε₀) including DC conduction, drawn beside ε''.
     """
     f_mhz = np.asarray(freq_hz, dtype=float) / 1e6
     fig = _new_figure(7.2, 5.0)
     axes = fig.subplots(2, 2, sharex=True)
     panels = [
         (axes[0, 0], eps_real, "ε' (relative permittivity)", "linear", PALETTE["accent"]),
-        (axes[0, 1], eps_imag, f"{eps_imag_label} (loss part)", "log", PALETTE["second"]),
+        (axes[0, 1], eps_imag, "ε'' (loss part)", "log", PALETTE["second"]),
         (axes[1, 0], np.asarray(velocity_m_per_s, dtype=float) * 1e-9, "velocity (m/ns)", "linear",
          PALETTE["accent"]),
         (axes[1, 1], attenuation_db_per_m, "attenuation (dB/m, one way)", "log", PALETTE["second"]),
     ]
-    for ax, y, label, yscale, colour in panels:
+    for k, (ax, y, label, yscale, colour) in enumerate(panels):
         y = np.asarray(y, dtype=float)
-        ax.plot(f_mhz, y, color=colour, linewidth=1.8)
+        ax.plot(f_mhz, y, color=colour, linewidth=1.8, label="ε'' dielectric" if k == 1 else None)
+        if k == 1 and eps_effective is not None:
+            ax.plot(f_mhz, eps_effective, color=PALETTE["ink"], linewidth=1.4, linestyle="--",
+                    label="ε''_eff with conduction")
+            ax.legend(fontsize=7, loc="best")
         ax.set_xscale("log")
+        _plain_log_ticks(ax.xaxis, subs=(1.0,))
         if yscale == "log" and np.all(y[np.isfinite(y)] > 0):
             ax.set_yscale("log")
+            if np.nanmax(y) / np.nanmin(y) < 1e3 and (k != 1 or eps_effective is None):
+                _plain_log_ticks(ax.yaxis)
         ax.set_ylabel(label)
         _mark_antennas(ax, antenna_freqs_hz)
         _style(ax)
@@ -199,6 +215,7 @@ def max_depth_png(freq_hz, depth_curves, target_depth_m: float, antennas, *, tar
                     color=PALETTE["second"] if rec else PALETTE["ink"],
                     fontweight="bold" if rec else "normal")
     ax.set_xscale("log")
+    _plain_log_ticks(ax.xaxis, subs=(1.0, 2.0, 5.0))
     ax.set_ylim(top * 1.12, 0.0)  # depth increases downward
     ax.set_xlabel("antenna centre frequency (MHz)")
     ax.set_ylabel("maximum detectable depth (m)")
