@@ -306,12 +306,14 @@ def test_reflection_magnitude_bounded_for_passive_media(e1, s1, l1, e2, s2, l2, 
 @settings(max_examples=200, deadline=None)
 @given(eps_st, st.floats(0, 30), sig_st, f_st)
 def test_outputs_finite_for_valid_input(eps, loss, sig, f):
-    """Every property is finite (skin depth may be +inf only when lossless)."""
+    """Every property is finite (skin depth may be +inf only where 1/α overflows a float)."""
     w = wave_properties(complex(eps, -loss), sig, f)
     for name in ("alpha", "beta", "velocity", "wavelength", "attenuation_db_per_m", "loss_tangent"):
         assert np.isfinite(getattr(w, name)), name
     assert np.isfinite(w.impedance)
-    assert np.isfinite(w.skin_depth) or w.alpha == 0
+    # a subnormal σ (e.g. 5e-324 S/m) gives α ~ 1e-321 Np/m, whose reciprocal is beyond
+    # the largest float: an infinite skin depth is then the correct float answer
+    assert np.isfinite(w.skin_depth) or w.alpha < 1.0 / np.finfo(float).max
 
 
 @settings(max_examples=100, deadline=None)
