@@ -56,7 +56,8 @@ LAYER_ATTRS = {
     "max_depth": {"long_name": "maximum detectable depth of the target", "units": "m"},
     "margin_db": {"long_name": "detection margin at the target depth (performance minus two-way loss)",
                   "units": "dB"},
-    "vertical_resolution": {"long_name": "vertical resolution at the target depth (quarter received wavelength)",
+    "vertical_resolution": {"long_name": "vertical resolution (quarter wavelength in the ground at the antenna "
+                                         "centre frequency)",
                             "units": "m"},
     "reach_probability": {"long_name": "probability that the target depth is reachable", "units": "1"},
     "reach_probability_se": {"long_name": "Monte Carlo standard error of the reach probability", "units": "1"},
@@ -88,7 +89,7 @@ def _soil_porosity_limit(texture, bulk_density):
 def feasibility_chain(moisture, *, freq_hz, performance_db, target, target_depth_m, gain=1.0,
                       bandwidth_hz=None, sand=None, clay=None, bulk_density=None, temp_c=20.0,
                       pore_water_ec25=None, pore_water_salinity_psu=None, texture=None,
-                      model="crim", band_points: int = 25, surface_loss_db=None, margin_only: bool = False):
+                      model="crim", band_points: int = 97, surface_loss_db=None, margin_only: bool = False):
     """Per-cell chain: soil facts → ε, σ, velocity, attenuation, maximum depth, margin, resolution.
 
     Parameters
@@ -252,10 +253,12 @@ def evaluate(values: dict, antennas, *, target, target_depth_m, texture=None, mo
         Layers of :func:`feasibility_chain` with a leading antenna axis.
     """
     ndim = np.ndim(next(iter(values.values())))
-    freq, perf, gain, bw = _antenna_axes(antennas, ndim)
+    freq, perf, gain, _ = _antenna_axes(antennas, ndim)
     values = _clip_moisture(values, texture=texture)
     try:
-        return feasibility_chain(freq_hz=freq, performance_db=perf, gain=gain, bandwidth_hz=bw, target=target,
+        # Maps use lambda/4 at the centre frequency (bandwidth_hz=None): the received-band centroid of
+        # detection.resolution_at_depth needs a fine frequency grid in lossy ground and costs ~100x more.
+        return feasibility_chain(freq_hz=freq, performance_db=perf, gain=gain, bandwidth_hz=None, target=target,
                                  target_depth_m=target_depth_m, texture=texture, model=model,
                                  **_chain_kwargs(values))
     except SubsurfError as exc:
