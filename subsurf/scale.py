@@ -52,13 +52,30 @@ _REC_FILL = np.int16(-32768)
 
 # --- input ------------------------------------------------------------------------------
 
+def _udunits_to_pint(unit: str) -> str:
+    """CF/UDUNITS products with signed exponents ("S m-1", "kg m-3") as pint text ("S/m", "kg/m**3")."""
+    import re
+
+    num, den = [], []
+    for tok in unit.split():
+        m = re.fullmatch(r"([A-Za-z%]+)(-?\d+)?", tok)
+        if not m:
+            return unit
+        base, exp = m.group(1), int(m.group(2) or 1)
+        (den if exp < 0 else num).append(base if abs(exp) == 1 else f"{base}**{abs(exp)}")
+    if not den:
+        return unit
+    return "*".join(num or ["1"]) + "/" + "/".join(den)
+
+
 def _unit_conversion(unit: str, quantity: str, *, path) -> tuple[float, float]:
     """(factor, offset) taking raster values in ``unit`` to SI for ``quantity``."""
     from .survey import QUANTITIES
     from .units import parse_quantity
 
     q = QUANTITIES[quantity]
-    if unit in ("", "1", q.si_unit) or (q.si_unit == "1" and unit in ("m3 m-3", "m3/m3", "fraction")):
+    unit = _udunits_to_pint(unit)
+    if unit in ("", "1", _udunits_to_pint(q.si_unit)) or (q.si_unit == "1" and unit in ("m3 m-3", "m3/m3", "fraction")):
         return 1.0, 0.0
     try:
         one = parse_quantity(f"1 {unit}", q.kind, default_unit=unit, name="units")
@@ -271,6 +288,20 @@ def feasibility_region(soil, antennas, *, target, target_depth_m: float, texture
 
 # --- scheduler ---------------------------------------------------------------------------
 
+def _probe(address: str, *, timeout_s: float = 5.0) -> None:
+    """Fail fast (OSError) when nothing listens at a tcp:// address, instead of waiting for dask's timeout."""
+    import socket
+    from urllib.parse import urlsplit
+
+    if "://" not in address:
+        address = "tcp://" + address
+    parts = urlsplit(address)
+    if parts.scheme != "tcp" or parts.hostname is None:
+        return
+    with socket.create_connection((parts.hostname, parts.port or 8786), timeout=timeout_s):
+        pass
+
+
 @contextlib.contextmanager
 def scheduler(address: str | None = None, *, workers: int | None = None):
     """Run the dask computations of the block on the chosen scheduler.
@@ -312,7 +343,8 @@ def scheduler(address: str | None = None, *, workers: int | None = None):
                    "client": client}
         return
     try:
-        client = Client(address, timeout="20s", set_as_default=True)
+        _probe(address)
+        client = Client(address, timeout="30s", set_as_default=True)
     except (OSError, TimeoutError, ValueError) as exc:
         raise InputError(f"--scheduler: cannot reach a dask scheduler at {address!r} ({exc}); give an address "
                          "such as tcp://HOST:8786, or 'threads' / 'local'") from None
