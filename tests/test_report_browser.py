@@ -67,10 +67,10 @@ def browser(tmp_path_factory):
 @pytest.fixture(scope="module")
 def opened_report(browser, tmp_path_factory, report_survey):
     """Write the report of the test survey and load it in the browser (once per module)."""
-    from subsurf.report import write_report
+    from subsurf.commands.report import make_report
 
     out = tmp_path_factory.mktemp("browser") / "report.html"
-    summary = write_report(report_survey, out)
+    summary = make_report(report_survey, out, quiet=True)  # with the feasibility maps
     browser.get(out.resolve().as_uri())
     browser.execute_script("return document.readyState")
     shot = out.with_name("report-first-screen.png")
@@ -84,7 +84,7 @@ def test_every_image_loaded(browser, opened_report):
     """Every <img> decoded with a non-zero natural size."""
     sizes = browser.execute_script(
         "return Array.from(document.images).map(i => [i.alt, i.complete, i.naturalWidth, i.naturalHeight]);")
-    assert len(sizes) >= 5, sizes
+    assert len(sizes) >= 7, sizes  # site, ground, reach, depth chart and three map figures
     bad = [s for s in sizes if not (s[1] and s[2] > 0 and s[3] > 0)]
     assert not bad, bad
 
@@ -106,7 +106,8 @@ def test_key_sections_and_numbers_present(browser, opened_report):
     """Section headings, the recommendation, the target depth and the caution are on the page."""
     text = browser.find_element("tag name", "body").text
     for heading in ("At a glance", "Site and inputs", "What the radar wave sees", "How deep can the target be seen",
-                    "Antenna ranking and recommendation", "Acquisition settings", "Travel time to depth",
+                    "Antenna ranking and recommendation", "Acquisition settings", "Feasibility maps and scenarios",
+                    "Scenario and antenna comparison", "Travel time to depth",
                     "Assumptions, validity and warnings", "References", "Safety"):
         assert heading in text, heading
     s = opened_report["summary"]

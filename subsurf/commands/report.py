@@ -57,7 +57,9 @@ def make_report(survey_path, out_path, *, force: bool = False, quiet: bool = Fal
                 if maps_out is None:
                     tmp = tempfile.TemporaryDirectory(prefix="subsurf-maps-")
                 folder = maps_out if tmp is None else tmp.name
-                map_result = {**run_map(survey_path, folder, force=force or tmp is not None, quiet=True),
+                # GeoTIFF layers only when the map files are kept (they are not embedded)
+                map_result = {**run_map(survey_path, folder, force=force or tmp is not None, quiet=True,
+                                        geotiff=tmp is None),
                               "kept": tmp is None, "out_dir": str(folder)}
                 bar.advance("site and soil")
             else:
