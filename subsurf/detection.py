@@ -45,6 +45,7 @@ __all__ = [
     "two_way_loss_db",
     "max_depth",
     "margin_db",
+    "max_depth_and_margin",
     "verdict",
     "band_spectrum",
     "received_centroid_frequency",
@@ -424,6 +425,21 @@ def margin_db(depth_m, eps, sigma, freq_hz, performance_db, *, target: Target, g
     perf = _check_performance(performance_db)
     return perf - two_way_loss_db(depth_m, eps, sigma, freq_hz, target, gain=gain,
                                   surface_loss_db=surface_loss_db)
+
+
+def max_depth_and_margin(depth_m, eps, sigma, freq_hz, performance_db, *, target: Target, gain=1.0,
+                         surface_loss_db=None):
+    """:func:`max_depth` and :func:`margin_db` at ``depth_m`` from one loss budget (half the work).
+
+    Returns exactly what the two functions return separately (same expressions); the
+    depth-free loss K₀ and α are evaluated once.  Used by the grid and regional maps.
+    """
+    perf = _check_performance(performance_db)
+    d = check_positive("depth_m", depth_m, unit="m")
+    k0, p, alpha = loss_constant_db(eps, sigma, freq_hz, target, gain=gain, surface_loss_db=surface_loss_db)
+    dmax = depth_from_loss_terms(k0, p, alpha, perf)
+    margin = perf - (k0 + 10.0 * p * np.log10(d) + 2.0 * NP_TO_DB * alpha * d)
+    return dmax, margin
 
 
 def verdict(margin, *, reaches_db: float = REACHES_MARGIN_DB) -> np.ndarray:

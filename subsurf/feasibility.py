@@ -157,10 +157,8 @@ def feasibility_chain(moisture, *, freq_hz, performance_db, target, target_depth
                                      gain=gain, surface_loss_db=surface_loss_db)
         return {"margin_db": np.where(np.broadcast_to(valid, np.shape(margin)), margin, np.nan)}
     w = wave_properties(eps, sigma, freq_hz)
-    dmax = detection.max_depth(eps, sigma, freq_hz, performance_db, target=target, gain=gain,
-                               surface_loss_db=surface_loss_db)
-    margin = detection.margin_db(target_depth_m, eps, sigma, freq_hz, performance_db, target=target,
-                                 gain=gain, surface_loss_db=surface_loss_db)
+    dmax, margin = detection.max_depth_and_margin(target_depth_m, eps, sigma, freq_hz, performance_db,
+                                                  target=target, gain=gain, surface_loss_db=surface_loss_db)
     if bandwidth_hz is None:
         vres = detection.vertical_resolution(w.wavelength)
     else:
@@ -182,6 +180,8 @@ def feasibility_chain(moisture, *, freq_hz, performance_db, target, target_depth
         "vertical_resolution": vres,
     }
     full = np.broadcast_shapes(*(np.shape(v) for v in out.values()))
+    if np.all(valid):  # no gaps to blank: skip the masking pass (same values)
+        return {k: v if np.shape(v) == full else np.array(np.broadcast_to(v, full)) for k, v in out.items()}
     vmask = np.broadcast_to(valid, full)
     return {k: np.where(vmask, np.broadcast_to(v, full), np.nan) for k, v in out.items()}
 
