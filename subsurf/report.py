@@ -459,6 +459,7 @@ h3 { font-size: 16px; margin: 20px 0 6px; }
 nav.toc { columns: 2; font-size: 14px; background: var(--tint); padding: 10px 16px 10px 30px; margin: 10px 0; }
 nav.toc ol { margin: 0; }
 nav.toc a { color: var(--accent); text-decoration: none; }
+main a { color: var(--accent); }
 table { border-collapse: collapse; margin: 8px 0 14px; font-size: 13px; width: 100%; }
 th, td { border-bottom: 1px solid var(--line); padding: 4px 8px; text-align: left; vertical-align: top; }
 th { background: var(--tint); font-weight: bold; }
@@ -591,6 +592,17 @@ def _summary(data) -> str:
             f"<p><strong>Target:</strong> {_e(target_text)}. <strong>Recommendation:</strong> {_e(data['reason'])}.</p>"]
     if desc:
         body.insert(0, f"<p>{_e(desc)}</p>")
+    maps = data.get("maps") or {}
+    if maps.get("summary"):
+        best = {}
+        for r in maps["summary"]:
+            if r["scenario"] not in best or r["reach_pct"] > best[r["scenario"]]["reach_pct"]:
+                best[r["scenario"]] = r
+        text = "; ".join(f"{sc}: {r['antenna']} reaches the target over {r['reach_pct']:.0f} % of the area"
+                         for sc, r in best.items())
+        body.append(f"<p><strong>Across the site</strong> (feasibility maps, best antenna per scenario): "
+                    f"{_e(text)}. The site-median figures above can differ from parts of the site; "
+                    '<a href="#maps">see the maps</a>.</p>')
     body.append('<div class="caution"><strong>Caution.</strong> ' + _e(" ".join(data["caution"])) + "</div>")
     if data.get("antennas_illustrative"):
         body.append('<p class="note">The antenna figures used are illustrative catalogue values, not measured '
