@@ -137,6 +137,11 @@ def atomic_path(path: os.PathLike | str, *, force: bool = False):
     tmp_path = Path(tmp)
     try:
         yield tmp_path
+        if tmp_path.is_file():
+            # mkstemp makes the file private (0600); give the output the usual permissions
+            umask = os.umask(0)
+            os.umask(umask)
+            os.chmod(tmp_path, 0o666 & ~umask)
         os.replace(tmp_path, path)
     finally:
         if tmp_path.exists():
