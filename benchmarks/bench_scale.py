@@ -1,0 +1,202 @@
+"""Regional-map benchmark: chain throughput, its ratio to a per-cell loop and to a bare-numpy floor,
+and chunked runs at 1x, 4x and 16x a base size (peak memory and time), all in one run.
+
+    python benchmarks/bench_scale.py [--base 512] [--chunk 256] [--loop-cells 40]
+
+Not part of the test suite.  Every size of the chunked runs is measured in a fresh
+subprocess (peak resident memory from resource.getrusage), writing a real CF NetCDF map
+with the threaded scheduler, from a synthetic region generated chunk by chunk.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import os
+import platform
+import resource
+import subprocess
+import sys
+import tempfile
+import time
+
+import numpy as np
+
+QUANTITIES = ("moisture", "pore_water_ec", "clay")
+DEPTH = 1.5
+
+
+def machine() -> str:
+    cpu = "unknown CPU"
+    try:
+        with open("/proc/cpuinfo") as fh:
+            for line in fh:
+                if line.startswith("model name"):
+                    cpu = line.split(":", 1)[1].strip()
+                    break
+    except OSError:
+        pass
+    mem = os.sysconf("SC_PAGE_SIZE") * os.sysconf("SC_PHYS_PAGES") / 2**30
+    import dask
+
+    return (f"{cpu}, {os.cpu_count()} cores, {mem:.0f} GiB; Python {platform.python_version()}, "
+            f"numpy {np.__version__}, dask {dask.__version__}")
+
+
+def setup(n_side: int):
+    from subsurf import scale
+    from subsurf.antennas import load_catalogue, make_target
+    from subsurf.synthetic import synthetic_region
+
+    antennas = scale.chain_antennas(list(load_catalogue().values()), band_resolution=False)
+    target = make_target("planar", depth_m=DEPTH, material="water_table")
+    soil = synthetic_region(n_side, n_side, seed=1).compute()
+    values = {q: soil[q].values for q in QUANTITIES}
+    return antennas, target, values
+
+
+def best_cpu_time(fn, repeat: int) -> tuple[float, object]:
+    best, out = np.inf, None
+    for _ in range(repeat):
+        t = time.process_time()
+        out = fn()
+        best = min(best, time.process_time() - t)
+    return best, out
+
+
+def chain_rate(antennas, target, values):
+    from subsurf.feasibility import evaluate
+
+    def run():
+        return evaluate(values, antennas, target=target, target_depth_m=DEPTH, texture="loam")
+
+    return best_cpu_time(run, 3)
+
+
+def loop_rate(antennas, target, values, n_cells: int, chain_out):
+    """Per cell and antenna: a scalar Soil, its (eps, sigma), brentq on L(d) = P."""
+    from scipy.optimize import brentq
+
+    from subsurf.detection import two_way_loss_db
+    from subsurf.feasibility import _clip_moisture
+    from subsurf.soil import Soil
+
+    rng = np.random.default_rng(7)
+    flat = {k: v.ravel() for k, v in _clip_moisture(values, texture="loam").items()}
+    idx = rng.choice(flat["moisture"].size, n_cells, replace=False)
+    t = time.process_time()
+    depths = np.empty((len(antennas), n_cells))
+    for j, i in enumerate(idx):
+        soil = Soil(moisture=float(flat["moisture"][i]), pore_water_ec25=float(flat["pore_water_ec"][i]),
+                    clay=float(flat["clay"][i]), texture="loam")
+        for k, a in enumerate(antennas):
+            eps, sigma = soil.electrical(a.centre_freq_hz)
+
+            def f(d, eps=eps, sigma=sigma, a=a):
+                return float(two_way_loss_db(d, eps, sigma, a.centre_freq_hz, target, gain=a.gain)) \
+                    - a.performance_db
+
+            depths[k, j] = brentq(f, 1e-6, 1e4, xtol=1e-12, rtol=1e-12) if f(1e-6) < 0 else 0.0
+    dt = time.process_time() - t
+    ref = chain_out["max_depth"].reshape(len(antennas), -1)[:, idx]
+    diff = float(np.max(np.abs(depths - ref) / np.maximum(ref, 1e-12)))
+    return dt, diff
+
+
+def floor_time(antennas, chain_out):
+    """One bare numpy pass: attenuation alpha (Np/m) from given eps' and sigma, same cells and antennas."""
+    from scipy.constants import epsilon_0, mu_0
+
+    eps_r = np.ascontiguousarray(chain_out["eps_real"])
+    sigma = np.ascontiguousarray(chain_out["sigma"])
+    omega = 2 * np.pi * np.array([a.centre_freq_hz for a in antennas]).reshape(-1, 1, 1)
+
+    def run():
+        tan = sigma / (omega * epsilon_0 * eps_r)
+        return omega * np.sqrt(0.5 * mu_0 * epsilon_0 * eps_r * (np.sqrt(1.0 + tan * tan) - 1.0))
+
+    return best_cpu_time(run, 5)[0]
+
+
+def child(n_side: int, chunk: int, out: str) -> None:
+    """One chunked run in this (fresh) process; prints JSON."""
+    from subsurf import scale
+    from subsurf.antennas import load_catalogue, make_target
+    from subsurf.synthetic import synthetic_region
+
+    antennas = list(load_catalogue().values())
+    target = make_target("planar", depth_m=DEPTH, material="water_table")
+
+    def run(side, path):
+        soil = synthetic_region(side, side, seed=1, chunk=chunk)
+        result = scale.feasibility_region(soil, antennas, target=target, target_depth_m=DEPTH, texture="loam")
+        with scale.scheduler("threads") as sched:
+            return scale.write_region(result, path, force=True, batch=2 * sched["slots"])
+
+    run(32, out)  # warm-up: imports and configuration files, not part of the timing
+    r0 = resource.getrusage(resource.RUSAGE_SELF)
+    t = time.perf_counter()
+    summary = run(n_side, out)
+    dt = time.perf_counter() - t
+    r1 = resource.getrusage(resource.RUSAGE_SELF)
+    cpu = (r1.ru_utime - r0.ru_utime) + (r1.ru_stime - r0.ru_stime)
+    rss = r1.ru_maxrss / 1024  # KiB -> MiB on Linux
+    print(json.dumps({"cells": n_side * n_side, "seconds": dt, "cpu_seconds": cpu, "peak_rss_mib": rss,
+                      "tiles": summary.tiles}))
+
+
+def main() -> int:
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--base", type=int, default=512, help="side of the base region in cells (default 512)")
+    ap.add_argument("--chunk", type=int, default=256, help="tile edge for the chunked runs (default 256)")
+    ap.add_argument("--loop-cells", type=int, default=40, help="cells in the per-cell loop subsample")
+    ap.add_argument("--child", nargs=3, metavar=("SIDE", "CHUNK", "OUT"), help=argparse.SUPPRESS)
+    args = ap.parse_args()
+    if args.child:
+        child(int(args.child[0]), int(args.child[1]), args.child[2])
+        return 0
+
+    print(f"machine: {machine()}")
+    antennas, target, values = setup(args.base)
+    n = values["moisture"].size
+    na = len(antennas)
+    t_chain, out = chain_rate(antennas, target, values)
+    rate = n / t_chain
+    print(f"1. full chain (soil -> eps, sigma -> attenuation -> max depth and margin, {na} antennas), "
+          f"one thread, in memory: {n:,} cells in {t_chain:.3f} s CPU = {rate:,.0f} cells/s "
+          f"({rate * na:,.0f} cell-antennas/s)")
+    t_loop, diff = loop_rate(antennas, target, values, args.loop_cells, out)
+    loop = args.loop_cells / t_loop
+    print(f"2. per-cell loop + brentq: {args.loop_cells} cells x {na} antennas in {t_loop:.2f} s = "
+          f"{loop:,.1f} cells/s; chain / loop = {rate / loop:,.0f}x (target >= 1000x); "
+          f"largest relative depth difference {diff:.1e}")
+    t_floor = floor_time(antennas, out)
+    print(f"3. floor (bare numpy attenuation from eps', sigma; same {n:,} cells x {na} antennas): "
+          f"{t_floor:.3f} s; chain / floor = {t_chain / t_floor:.1f}x (target <= 4x)")
+    runs = []
+    with tempfile.TemporaryDirectory() as tmp:
+        for factor in (1, 4, 16):
+            side = int(round(args.base * factor ** 0.5))
+            r = subprocess.run([sys.executable, __file__, "--child", str(side), str(args.chunk),
+                                os.path.join(tmp, f"map{factor}.nc")], capture_output=True, text=True, check=True)
+            res = json.loads(r.stdout.strip().splitlines()[-1])
+            res["factor"] = factor
+            runs.append(res)
+            print(f"4. chunked {factor:>2}x: {side}x{side} = {res['cells']:,} cells, {res['tiles']} tiles of "
+                  f"{args.chunk}, {res['seconds']:.1f} s wall ({res['cells'] / res['seconds']:,.0f} cells/s), "
+                  f"{res['cpu_seconds']:.1f} s CPU, "
+                  f"peak RSS {res['peak_rss_mib']:.0f} MiB")
+    base = runs[0]
+    mem = max(r["peak_rss_mib"] for r in runs) / base["peak_rss_mib"]
+    growth = [(r["seconds"] / base["seconds"]) / (r["cells"] / base["cells"]) for r in runs[1:]]
+    growth_cpu = [(r["cpu_seconds"] / base["cpu_seconds"]) / (r["cells"] / base["cells"]) for r in runs[1:]]
+    print(f"   peak memory 16x / 1x = {runs[-1]['peak_rss_mib'] / base['peak_rss_mib']:.2f} "
+          f"(largest / 1x = {mem:.2f}; target within 1.20)")
+    print("   time per cell relative to 1x: " + ", ".join(f"{r['factor']}x: {g:.2f}" for r, g in
+                                                         zip(runs[1:], growth)) + " wall; "
+          + ", ".join(f"{r['factor']}x: {g:.2f}" for r, g in zip(runs[1:], growth_cpu)) + " CPU (target <= 1.10)")
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
