@@ -9,6 +9,7 @@ frequency flag) - never guessed.  Physics modules never import this file.
 
 from __future__ import annotations
 
+import math
 import re
 from functools import lru_cache
 
@@ -95,16 +96,21 @@ def parse_quantity(text, kind: str, *, default_unit: str, name: str = "value") -
             ) from None
     if kind == "temperature":
         try:
-            return float(q.to("degC").magnitude)
+            value = float(q.to("degC").magnitude)
         except Exception:
             raise InputError(f"{name}: {text!r} is not a temperature; write e.g. '20 degC'") from None
-    try:
-        return float(q.to(target).magnitude)
-    except Exception:
-        raise InputError(
-            f"{name}: {text!r} has units of {q.units:~}, which cannot be read as a {kind} "
-            f"(expected something convertible to {target}, e.g. '1 {default_unit}')"
-        ) from None
+    else:
+        try:
+            value = float(q.to(target).magnitude)
+        except Exception:
+            raise InputError(
+                f"{name}: {text!r} has units of {q.units:~}, which cannot be read as a {kind} "
+                f"(expected something convertible to {target}, e.g. '1 {default_unit}')"
+            ) from None
+    if not math.isfinite(value):
+        # 'nan' and 'inf' parse as floats; no edge quantity may be either
+        raise InputError(f"{name}: must be a finite number, got {text!r}; write e.g. '1 {default_unit}'")
+    return value
 
 
 def to_si(value: float, unit: str) -> float:

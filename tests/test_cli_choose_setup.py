@@ -83,3 +83,16 @@ def test_setup_speed_too_high_refused():
     """A towing speed above the trace-rate limit: exit 1 with the reason."""
     p = run("setup", "--antenna", "lowband-50", "--eps", "9", "--depth", "3", "--speed", "20")
     assert p.returncode == 1 and "trace rate" in p.stderr
+
+
+def test_choose_target_sigma_without_target_eps_refused():
+    """--target-sigma alone would be silently ignored (the material's σ is used): exit 1 naming it."""
+    p = run("choose", "--eps", "9", "--target", "planar", "--depth", "1", "--target-sigma", "5")
+    assert p.returncode == 1 and "--target-sigma goes with --target-eps" in p.stderr
+    assert len(p.stderr.strip().splitlines()) == 1
+
+
+def test_choose_nan_depth_names_flag():
+    """--depth nan: one-line error naming --depth (not an internal parameter or a numpy repr)."""
+    p = run("choose", "--eps", "9", "--target", "line", "--depth", "nan", "--size", "0.1")
+    assert p.returncode == 1 and "--depth" in p.stderr and "np.float64" not in p.stderr

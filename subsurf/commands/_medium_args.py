@@ -9,6 +9,7 @@ Only light imports at module level: numpy and the physics load when a command ru
 from __future__ import annotations
 
 import argparse
+import math
 from dataclasses import dataclass, field
 
 
@@ -82,8 +83,8 @@ def medium_from_args(args, *, required: bool = True) -> Medium | None:
             eps = complex(str(args.eps).replace(" ", ""))
         except ValueError:
             raise InputError(f"--eps: cannot read {args.eps!r} as a number (e.g. 9 or '9-0.5j')") from None
-        if eps.real < 1 or eps.imag > 0:
-            raise InputError(f"--eps must have real part >= 1 and imaginary part <= 0 (ε' − jε''), got {args.eps}")
+        if not (math.isfinite(eps.real) and math.isfinite(eps.imag)) or eps.real < 1 or eps.imag > 0:
+            raise InputError(f"--eps must be finite with real part >= 1 and imaginary part <= 0 (ε' − jε''), got {args.eps}")
         sigma = 0.0 if args.sigma is None else parse_quantity(args.sigma, "conductivity",
                                                                 default_unit="mS/m", name="--sigma")
         if sigma < 0:

@@ -34,9 +34,13 @@ def target_from_args(args, *, depth_m):
     from ..units import parse_quantity
 
     if args.target is None:
-        if args.size or args.material or args.target_eps:
-            raise InputError("--size/--material/--target-eps describe a target; give its kind with --target")
+        if args.size or args.material or args.target_eps or args.target_sigma:
+            raise InputError("--size/--material/--target-eps/--target-sigma describe a target; "
+                             "give its kind with --target")
         return None
+    if args.target_sigma is not None and args.target_eps is None:
+        raise InputError("--target-sigma goes with --target-eps (a material's conductivity comes from "
+                         "configs/materials.toml); give --target-eps too, or leave --target-sigma out")
     size = None
     if args.size is not None:
         size = parse_quantity(args.size, "length", default_unit="m", name="--size")
