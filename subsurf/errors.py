@@ -26,6 +26,7 @@ __all__ = [
     "check_nonnegative",
     "check_range",
     "warn_outside",
+    "check_seed",
 ]
 
 
@@ -94,7 +95,7 @@ def check_finite(name: str, value) -> np.ndarray:
     arr = _as_float(name, value)
     if not np.all(np.isfinite(arr)):
         bad = arr[~np.isfinite(arr)].ravel()[0]
-        raise InputError(f"{name} must be finite, got {bad!r}")
+        raise InputError(f"{name} must be finite, got {float(bad)!r}")
     return arr
 
 
@@ -153,3 +154,10 @@ def warn_outside(model: str, name: str, value, low: float, high: float, *, unit:
         )
         return True
     return False
+
+
+def check_seed(seed, name: str = "seed") -> int:
+    """Return ``seed`` as an int, raising unless it is an integer >= 0 (numpy's rule for seeds)."""
+    if isinstance(seed, bool) or not isinstance(seed, (int, np.integer)) or seed < 0:
+        raise InputError(f"{name} must be an integer >= 0 (random generator seed), got {seed!r}")
+    return int(seed)

@@ -18,7 +18,7 @@ from typing import Literal
 import numpy as np
 from scipy import constants
 
-from .errors import InputError, check_finite, check_nonnegative, check_positive
+from .errors import InputError, check_finite, check_nonnegative, check_positive, check_seed
 from .propagation import depth_from_time
 
 __all__ = [
@@ -380,9 +380,10 @@ def layered_depth_monte_carlo(twt_s, earth: LayeredEarth, *, offset_m=0.0, time_
     MonteCarloDepth
         Nominal depth, and the mean, standard deviation and 5 % / 95 % points of the draws.
     """
+    if isinstance(draws, bool) or not isinstance(draws, (int, np.integer)) or draws < 100:
+        raise InputError(f"draws must be an integer >= 100, got {draws!r}")
     draws = int(draws)
-    if draws < 100:
-        raise InputError(f"draws must be >= 100, got {draws}")
+    seed = check_seed(seed)
     t = np.atleast_1d(check_finite("twt_s", twt_s)).astype(float)
     nominal = layered_depth_from_time(t, earth, offset_m=offset_m, time_zero_s=time_zero_s)
     x = np.broadcast_to(check_nonnegative("offset_m", offset_m, unit="m"), t.shape)

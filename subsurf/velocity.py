@@ -17,7 +17,7 @@ from dataclasses import dataclass, field
 import numpy as np
 from scipy import constants, optimize
 
-from .errors import InputError, ModelRangeError, check_finite, check_nonnegative, check_positive
+from .errors import InputError, ModelRangeError, check_finite, check_nonnegative, check_positive, check_seed
 
 __all__ = [
     "HyperbolaFit",
@@ -616,7 +616,8 @@ def velocity_from_soil(soil, freq_hz: float, *, sd: dict | None = None, draws: i
     sd : dict, optional
         Standard deviation of each uncertain input, keyed by the Soil field name
         (e.g. ``{"moisture": 0.03, "temp_c": 3.0}``), in the field's own units.
-        Draws are normal, clipped to be non-negative (fractions also ≤ 1).
+        Draws are normal, clipped to be non-negative (fractions also ≤ 1; moisture
+        also at most the soil's porosity).
     draws : int, optional
         Number of Monte Carlo draws (≥ 100).
     seed : int, optional
@@ -638,8 +639,9 @@ def velocity_from_soil(soil, freq_hz: float, *, sd: dict | None = None, draws: i
     from .propagation import wave_properties
 
     f = float(check_positive("freq_hz", freq_hz, unit="Hz"))
-    if int(draws) < 100:
-        raise InputError(f"draws must be >= 100 for a meaningful spread, got {draws}")
+    if isinstance(draws, bool) or not isinstance(draws, (int, np.integer)) or draws < 100:
+        raise InputError(f"draws must be an integer >= 100 for a meaningful spread, got {draws!r}")
+    seed = check_seed(seed)
     eps, sigma = soil.electrical(f)
     v_nom = float(np.asarray(wave_properties(eps, sigma, f).velocity).ravel()[0])
     rng = np.random.default_rng(seed)
@@ -651,10 +653,16 @@ def velocity_from_soil(soil, freq_hz: float, *, sd: dict | None = None, draws: i
         base = getattr(soil, name)
         if base is None:
             raise InputError(f"sd: field {name!r} is not set in the soil description, so it cannot vary")
+        if isinstance(base, str) or np.size(base) != 1:
+            raise InputError(f"sd: field {name!r} must be a single number to vary, got {base!r}")
         s = float(check_nonnegative(f"sd[{name!r}]", s))
-        val = rng.normal(float(base), s, int(draws))
+        val = rng.normal(float(np.asarray(base, dtype=float)), s, int(draws))
         val = np.clip(val, 0.0, 1.0 if name in fractions else None)
         changes[name] = val
+    porosity = getattr(soil, "porosity_value", None)
+    if "moisture" in changes and "porosity" not in changes and porosity is not None:
+        # water cannot exceed the pore space: clip the draws there (Soil refuses θ > φ)
+        changes["moisture"] = np.minimum(changes["moisture"], porosity)
     if changes:
         varied = dataclasses.replace(soil, **changes)
         eps_d, sigma_d = varied.electrical(f)

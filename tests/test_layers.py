@@ -99,6 +99,15 @@ def test_monte_carlo_is_reproducible():
     assert a.depth_sd[0] == b.depth_sd[0]
 
 
+@pytest.mark.parametrize("kw, match", [({"seed": -1}, "seed must be"), ({"seed": 1.5}, "seed must be"),
+                                       ({"draws": 10}, "draws must be"), ({"draws": "many"}, "draws must be")])
+def test_monte_carlo_bad_draws_or_seed_refused(kw, match):
+    """Bad draw counts and seeds raise InputError naming them (not numpy's ValueError)."""
+    e = LayeredEarth.from_thicknesses([0.1e9, 0.08e9], [0.6], velocity_se=0.003e9)
+    with pytest.raises(InputError, match=match):
+        layered_depth_monte_carlo(30e-9, e, **kw)
+
+
 def test_separation_too_large_refused():
     """A time shorter than the direct path between the antennas has no real depth."""
     e = LayeredEarth.from_thicknesses([0.1e9, 0.08e9], [0.6])

@@ -246,3 +246,21 @@ def test_soil_velocity_rejects_unknown_field():
     """An uncertainty on a field the description lacks is refused, naming it."""
     with pytest.raises(InputError, match="no field 'salt'"):
         velocity_from_soil(_StandIn(moisture=0.2), 100e6, sd={"salt": 1.0})
+
+
+def test_soil_velocity_moisture_draws_stay_within_porosity():
+    """A moisture spread near saturation is clipped at the porosity instead of failing the whole draw."""
+    from subsurf.soil import Soil
+
+    soil = Soil(0.45, porosity=0.47, sand=0.4, clay=0.2)
+    res = velocity_from_soil(soil, 250e6, sd={"moisture": 0.05}, draws=500, seed=1)
+    # velocity falls with moisture (physical invariant): no draw is slower than the saturated soil's
+    v_sat = velocity_from_soil(Soil(0.47, porosity=0.47, sand=0.4, clay=0.2), 250e6).velocity
+    assert res.samples.min() >= v_sat * (1 - 1e-12)
+    assert res.velocity_sd > 0
+
+
+def test_soil_velocity_rejects_bad_seed():
+    """A negative seed is refused as an input error naming the seed."""
+    with pytest.raises(InputError, match="seed must be an integer >= 0"):
+        velocity_from_soil(_StandIn(moisture=0.2), 100e6, seed=-1)
