@@ -6,9 +6,31 @@ import warnings
 
 import numpy as np
 
-from ..errors import ModelRangeWarning
+from ..errors import InputError, ModelRangeWarning, check_finite
 
-__all__ = ["warn_validity"]
+__all__ = ["warn_validity", "check_density", "PARTICLE_DENSITY_RANGE", "BULK_DENSITY_RANGE"]
+
+#: Accepted particle (grain) density, kg/m³: organic matter (~1400) to magnetite (~5200),
+#: with room either side (from memory).  Values near 2.65 are g/cm³ given by mistake.
+PARTICLE_DENSITY_RANGE = (1000.0, 6000.0)
+#: Accepted dry bulk density, kg/m³: loose peat (tens of kg/m³) to dense rock; anything
+#: below 10 is a g/cm³ value (1.2-2.0 for mineral soils) given by mistake.
+BULK_DENSITY_RANGE = (10.0, 3000.0)
+
+
+def check_density(name: str, value, low: float, high: float) -> np.ndarray:
+    """Return ``value`` (kg/m³) as a float array, refusing values outside [low, high].
+
+    Guards against the commonest unit slip of soil descriptions: a density in g/cm³
+    (e.g. 1.5) where kg/m³ (1500) is expected.
+    """
+    arr = check_finite(name, value)
+    outside = (arr < low) | (arr > high)
+    if np.any(outside):
+        bad = arr[outside].ravel()[0]
+        hint = f"; in g/cm³ that would be {bad:.6g} g/cm³ = {bad * 1000:.6g} kg/m³" if bad < 10 else ""
+        raise InputError(f"{name} must be between {low:g} and {high:g} kg/m³, got {bad:.6g}{hint}")
+    return arr
 
 
 def warn_validity(model: str, checks, *, stacklevel: int = 3) -> bool:

@@ -11,6 +11,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..errors import InputError, check_nonnegative, check_positive, check_range
+from ._validity import PARTICLE_DENSITY_RANGE, check_density
 from .water import _temperature, salinity_from_conductivity
 
 __all__ = [
@@ -45,6 +46,18 @@ def _out(x):
     return x[()] if isinstance(x, np.ndarray) and x.ndim == 0 else x
 
 
+def _temperature_factor(t, a):
+    """1 + α(T − 25), refused where it is not positive (steep α at low T would flip the sign)."""
+    factor = 1.0 + a * (t - 25.0)
+    if np.any(factor <= 0):
+        tb, ab = np.broadcast_arrays(t, a)
+        i = np.flatnonzero(np.broadcast_to(factor <= 0, tb.shape))[0]
+        raise InputError(
+            f"alpha {ab.ravel()[i]:.6g} /°C at temp_c {tb.ravel()[i]:.6g} °C gives a non-positive "
+            "correction factor 1 + alpha·(T − 25); allowed: alpha < 1/(25 − T) (0.02 is common practice)")
+    return factor
+
+
 def ec_from_ec25(ec25, temp_c, *, alpha=EC_TEMPERATURE_COEFFICIENT):
     """Water conductivity at ``temp_c`` from its value referred to 25 °C.
 
@@ -76,7 +89,7 @@ def ec_from_ec25(ec25, temp_c, *, alpha=EC_TEMPERATURE_COEFFICIENT):
     ec = check_nonnegative("ec25", ec25, unit="S/m")
     t = _temperature(temp_c)
     a = check_range("alpha", alpha, 0.0, 0.05, unit="1/°C")
-    return _out(ec * (1.0 + a * (t - 25.0)))
+    return _out(ec * _temperature_factor(t, a))
 
 
 def ec25_from_ec(ec, temp_c, *, alpha=EC_TEMPERATURE_COEFFICIENT):
@@ -108,7 +121,7 @@ def ec25_from_ec(ec, temp_c, *, alpha=EC_TEMPERATURE_COEFFICIENT):
     e = check_nonnegative("ec", ec, unit="S/m")
     t = _temperature(temp_c)
     a = check_range("alpha", alpha, 0.0, 0.05, unit="1/°C")
-    return _out(e / (1.0 + a * (t - 25.0)))
+    return _out(e / _temperature_factor(t, a))
 
 
 def ec25_from_tds(tds, *, factor=TDS_FACTOR):
@@ -294,7 +307,7 @@ def qv_from_cec(cec, porosity, particle_density=2660.0):
     p = check_range("porosity", porosity, 0.0, 1.0)
     if np.any(p == 0):
         raise InputError("porosity must be > 0 for Q_v, got 0; allowed range 0 < porosity <= 1")
-    rs = check_positive("particle_density", particle_density, unit="kg/m³")
+    rs = check_density("particle_density", particle_density, *PARTICLE_DENSITY_RANGE)
     return _out(c * rs * (1.0 - p) / p)
 
 

@@ -4,8 +4,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..errors import InputError, check_finite, check_positive, check_range
-from ._validity import warn_validity
+from ..errors import InputError, check_finite, check_range
+from ._validity import BULK_DENSITY_RANGE, PARTICLE_DENSITY_RANGE, check_density, warn_validity
 
 __all__ = [
     "topp_permittivity",
@@ -228,8 +228,8 @@ def porosity_from_density(bulk_density, particle_density=2660.0):
     ----------
     Hillel, D. (1998). Environmental Soil Physics. Academic Press. (Ch. 2)
     """
-    rb = check_positive("bulk_density", bulk_density, unit="kg/m³")
-    rs = check_positive("particle_density", particle_density, unit="kg/m³")
+    rb = check_density("bulk_density", bulk_density, *BULK_DENSITY_RANGE)
+    rs = check_density("particle_density", particle_density, *PARTICLE_DENSITY_RANGE)
     bad = rb >= rs
     if np.any(bad):
         b1, s1 = np.broadcast_arrays(rb, rs)

@@ -16,6 +16,7 @@ import numpy as np
 
 from ..errors import InputError, SubsurfError, check_positive, check_range
 from ._mapping import soil_kwargs_from_mapping
+from ._validity import BULK_DENSITY_RANGE, PARTICLE_DENSITY_RANGE, check_density
 from .conductivity import (
     CLAY_CEC,
     cec_from_clay,
@@ -140,7 +141,7 @@ class Soil:
                                  "allowed range 0 to 1")
         rs = self.particle_density
         rs = preset.get("particle_density", DEFAULT_PARTICLE_DENSITY) if rs is None else rs
-        r["particle_density"] = check_positive("particle_density", rs, unit="kg/m³")
+        r["particle_density"] = check_density("particle_density", rs, *PARTICLE_DENSITY_RANGE)
         self._resolve_density(r, preset)
         if r["porosity"] is not None and np.any(r["moisture"] > r["porosity"]):
             m, p = _first_bad(r["moisture"] > r["porosity"], r["moisture"], r["porosity"])
@@ -165,8 +166,8 @@ class Soil:
 
     def _resolve_density(self, r, preset):
         rs = r["particle_density"]
-        rb = None if self.bulk_density is None else check_positive("bulk_density", self.bulk_density,
-                                                                    unit="kg/m³")
+        rb = None if self.bulk_density is None else check_density("bulk_density", self.bulk_density,
+                                                                   *BULK_DENSITY_RANGE)
         phi = None
         if self.porosity is not None:
             phi = check_range("porosity", self.porosity, 0.0, 1.0)

@@ -11,7 +11,7 @@ import numpy as np
 from scipy.constants import epsilon_0, pi
 
 from ..errors import InputError, check_positive, check_range
-from ._validity import warn_validity
+from ._validity import BULK_DENSITY_RANGE, PARTICLE_DENSITY_RANGE, check_density, warn_validity
 from .water import _debye, _temperature
 
 __all__ = ["peplinski_permittivity", "peplinski_effective_conductivity", "PEPLINSKI_VALIDITY"]
@@ -39,8 +39,8 @@ def _check_soil(moisture, sand, clay, bulk_density, particle_density):
         raise InputError(
             f"sand + clay must be <= 1, got {total[total > 1.0 + 1e-12].ravel()[0]:.6g}; "
             "allowed range 0 to 1 (mass fractions of the mineral solids)")
-    rb = check_positive("bulk_density", bulk_density, unit="kg/m³")
-    rs = check_positive("particle_density", particle_density, unit="kg/m³")
+    rb = check_density("bulk_density", bulk_density, *BULK_DENSITY_RANGE)
+    rs = check_density("particle_density", particle_density, *PARTICLE_DENSITY_RANGE)
     if np.any(rb >= rs):
         b1, s1 = np.broadcast_arrays(rb, rs)
         i = np.flatnonzero(b1 >= s1)[0]
@@ -86,7 +86,7 @@ def peplinski_effective_conductivity(sand, clay, bulk_density=1.5e3):
     """
     s = check_range("sand", sand, 0.0, 1.0)
     c = check_range("clay", clay, 0.0, 1.0)
-    rb = check_positive("bulk_density", bulk_density, unit="kg/m³")
+    rb = check_density("bulk_density", bulk_density, *BULK_DENSITY_RANGE)
     out = np.maximum(0.0467 + 0.2204 * rb / 1000.0 - 0.4111 * s + 0.6614 * c, 0.0)
     return out[()] if out.ndim == 0 else out
 

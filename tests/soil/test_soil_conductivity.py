@@ -63,3 +63,12 @@ def test_archie_errors_name_parameter():
     """Porosity above 1 is refused with the range in the message."""
     with pytest.raises(InputError, match="porosity must be between 0 and 1"):
         archie_conductivity(0.1, 1.2)
+
+
+@pytest.mark.parametrize("func", ["ec_from_ec25", "ec25_from_ec"])
+def test_temperature_correction_refuses_sign_flip(func):
+    """α = 0.05 /°C at 0 °C gives 1 + α(T − 25) < 0: refused instead of a negative conductivity."""
+    from subsurf.soil import conductivity
+
+    with pytest.raises(InputError, match="alpha"):
+        getattr(conductivity, func)(0.1, 0.0, alpha=0.05)

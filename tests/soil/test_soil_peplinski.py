@@ -69,3 +69,36 @@ def test_impossible_input_raises(kwargs, name):
     args = {"freq_hz": 5e8, "moisture": 0.2, "sand": 0.3, "clay": 0.3, **kwargs}
     with pytest.raises(InputError, match=name):
         peplinski_permittivity(**args)
+
+
+def test_wet_soil_matches_equations_written_here():
+    """Wet soil at 800 MHz equals Peplinski et al. (1995) eqs. re-transcribed independently here.
+
+    Free water: Debye with ε∞ = 4.9 and Klein & Swift (1977) fresh-water ε_s(T), 2πτ(T);
+    ε''_fw adds σ_eff(ρs − ρb)/(2πε₀ f ρs m_v), σ_eff = 0.0467 + 0.2204ρb − 0.4111S + 0.6614C
+    (ρ in g/cm³).  Guards the transcription of β', β'', σ_eff and the mixing exponents.
+    """
+    from scipy.constants import epsilon_0
+
+    f, mv, sand, clay, rb, rs, t = 8e8, 0.25, 0.5, 0.15, 1.4, 2.65, 20.0
+    es_w = 88.045 - 0.4147 * t + 6.295e-4 * t**2 + 1.075e-5 * t**3
+    x = f * (1.1109e-10 - 3.824e-12 * t + 6.938e-14 * t**2 - 5.096e-16 * t**3)  # f·2πτ
+    ew_real = 4.9 + (es_w - 4.9) / (1 + x**2)
+    sig = 0.0467 + 0.2204 * rb - 0.4111 * sand + 0.6614 * clay
+    ew_imag = x * (es_w - 4.9) / (1 + x**2) + sig * (rs - rb) / (2 * np.pi * epsilon_0 * f * rs * mv)
+    b1 = 1.2748 - 0.519 * sand - 0.152 * clay
+    b2 = 1.33797 - 0.603 * sand - 0.166 * clay
+    es = (1.01 + 0.44 * rs) ** 2 - 0.062
+    e1 = 1.15 * (1 + rb / rs * (es**0.65 - 1) + mv**b1 * ew_real**0.65 - mv) ** (1 / 0.65) - 0.68
+    e2 = (mv**b2 * ew_imag**0.65) ** (1 / 0.65)
+    got = peplinski_permittivity(f, mv, sand, clay, rb * 1000, rs * 1000, t)
+    assert got.real == pytest.approx(e1, rel=1e-9)
+    assert -got.imag == pytest.approx(e2, rel=1e-9)
+    assert got.imag < 0  # ε = ε' − jε'' with ε'' > 0
+
+
+@pytest.mark.parametrize("kwargs", [{"bulk_density": 1.5}, {"particle_density": 2.66, "bulk_density": 1.5}])
+def test_density_in_g_per_cm3_refused(kwargs):
+    """Densities given in g/cm³ where kg/m³ is expected are refused, not silently used."""
+    with pytest.raises(InputError, match="kg/m³"):
+        peplinski_permittivity(5e8, 0.2, 0.3, 0.3, **kwargs)
