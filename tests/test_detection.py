@@ -4,7 +4,7 @@ import numpy as np
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
-from scipy import special
+from scipy import constants, special
 from scipy.optimize import brentq
 
 from subsurf import detection as D
@@ -72,6 +72,30 @@ def test_textbook_dielectric_reflection(eps_host, eps_target, expected):
 def test_surface_loss_for_eps_nine():
     """Two-way plane-wave air–ground loss for ε' = 9 is −20·log10(0.75) = 2.50 dB (hand calculation)."""
     assert float(D.surface_transmission_loss_db(9.0, 0.0, 100e6)) == pytest.approx(-20 * np.log10(0.75))
+
+
+@pytest.mark.parametrize("target", [METAL_LINE, VOID], ids=lambda t: t.kind)
+def test_point_and_line_loss_match_radar_equation_written_here(target):
+    """L(d) of point and line targets equals the radar range equation written independently here.
+
+    Point: P_r/P_t = G²λ²σ/((4π)³d⁴) (Daniels 2004, ch. 4).  Line: the same equation with the
+    finite-cylinder cross-section σ = 2σ₂L²/λ (Knott et al. 2004) over the first Fresnel zone
+    L² = 2λd; surface loss −20·log10(1 − |R|²) with the lossless air–ground R = (1 − √ε)/(1 + √ε).
+    """
+    eps, sigma, f, d, gain = 9.0, 0.004, 250e6, 1.7, 2.0
+    omega = 2 * np.pi * f
+    gamma = np.sqrt(1j * omega * constants.mu_0 * (sigma + 1j * omega * constants.epsilon_0 * eps))
+    lam, alpha = 2 * np.pi / gamma.imag, gamma.real
+    if target.kind == "point":
+        cross = float(D.radar_cross_section(eps, sigma, f, target))
+    else:
+        cross = float(D.echo_width(eps, sigma, f, target)) * 2 * (2 * lam * d) / lam
+    ratio = gain**2 * lam**2 * cross / ((4 * np.pi) ** 3 * d**4) * np.exp(-4 * alpha * d)
+    # small σ: the air–ground R of the lossy ground differs from the lossless one by < 1e-4 dB here
+    r_surface = (1 - np.sqrt(eps)) / (1 + np.sqrt(eps))
+    expected = -10 * np.log10(ratio) - 20 * np.log10(1 - r_surface**2)
+    got = float(D.two_way_loss_db(d, eps, sigma, f, target, gain=gain))
+    assert got == pytest.approx(expected, abs=2e-3)
 
 
 def _exact_echo_width_pec(ka, k):
