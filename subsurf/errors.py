@@ -27,6 +27,7 @@ __all__ = [
     "check_range",
     "warn_outside",
     "check_seed",
+    "check_broadcast",
 ]
 
 
@@ -161,3 +162,14 @@ def check_seed(seed, name: str = "seed") -> int:
     if isinstance(seed, bool) or not isinstance(seed, (int, np.integer)) or seed < 0:
         raise InputError(f"{name} must be an integer >= 0 (random generator seed), got {seed!r}")
     return int(seed)
+
+
+def check_broadcast(**named) -> tuple:
+    """Broadcast shape of the named inputs, raising InputError naming every shape if they do not broadcast."""
+    shapes = {k: np.shape(v) for k, v in named.items() if v is not None}
+    try:
+        return np.broadcast_shapes(*shapes.values())
+    except ValueError:
+        listed = ", ".join(f"{k} {v}" for k, v in shapes.items())
+        raise InputError(f"inputs must broadcast together (numpy rules), got shapes {listed}; "
+                         "e.g. use freq[:, None] against arrays of shape (n,)") from None

@@ -25,6 +25,7 @@ from scipy import constants, special
 from .errors import (
     InputError,
     LowLossApproximationWarning,
+    check_broadcast,
     check_finite,
     check_nonnegative,
     check_positive,
@@ -88,6 +89,7 @@ def _check_medium(eps_r, sigma, freq_hz, mu_r):
     sigma = check_nonnegative("sigma", sigma, unit="S/m")
     freq = check_positive("freq_hz", freq_hz, unit="Hz")
     mu = check_positive("mu_r", mu_r)
+    check_broadcast(eps_r=eps, sigma=sigma, freq_hz=freq, mu_r=mu)
     return eps, sigma, freq, mu
 
 
@@ -225,6 +227,7 @@ def reflection_coefficient(eps1, sigma1, eps2, sigma2, freq_hz, *, mu1=1.0, mu2=
     """
     w1 = wave_properties(eps1, sigma1, freq_hz, mu1)
     w2 = wave_properties(eps2, sigma2, freq_hz, mu2)
+    check_broadcast(medium_1=w1.gamma, medium_2=w2.gamma)
     z1, z2 = w1.impedance, w2.impedance
     return (z2 - z1) / (z2 + z1)
 
@@ -239,6 +242,7 @@ def transmission_coefficient(eps1, sigma1, eps2, sigma2, freq_hz, *, mu1=1.0, mu
     """
     w1 = wave_properties(eps1, sigma1, freq_hz, mu1)
     w2 = wave_properties(eps2, sigma2, freq_hz, mu2)
+    check_broadcast(medium_1=w1.gamma, medium_2=w2.gamma)
     z1, z2 = w1.impedance, w2.impedance
     return 2.0 * z2 / (z2 + z1)
 
@@ -273,6 +277,7 @@ def depth_from_time(twt_s, velocity, offset_m=0.0):
         bad = v[v > _C * (1 + 1e-9)].ravel()[0]
         raise InputError(f"velocity must be <= c = {_C:.6g} m/s, got {bad:.6g}")
     x = check_nonnegative("offset_m", offset_m, unit="m")
+    check_broadcast(twt_s=t, velocity=v, offset_m=x)
     half_path = v * t / 2.0
     half_sep = x / 2.0
     if np.any(half_path < half_sep - 1e-12):
@@ -296,6 +301,7 @@ def time_from_depth(depth_m, velocity, offset_m=0.0):
         bad = v[v > _C * (1 + 1e-9)].ravel()[0]
         raise InputError(f"velocity must be <= c = {_C:.6g} m/s, got {bad:.6g}")
     x = check_nonnegative("offset_m", offset_m, unit="m")
+    check_broadcast(depth_m=d, velocity=v, offset_m=x)
     return 2.0 * np.sqrt(d**2 + (x / 2.0) ** 2) / v
 
 
@@ -364,6 +370,19 @@ def lambertw_of_exp(log_x):
     return out
 
 
+def _reflection_power(reflection):
+    """|R|² of an amplitude reflection coefficient, refusing non-numbers, NaN and |R| > 1."""
+    try:
+        r = np.asarray(reflection, dtype=complex)
+    except (TypeError, ValueError):
+        raise InputError(f"reflection must be a number with |reflection| <= 1, got {reflection!r}") from None
+    mag = np.abs(r)
+    if not np.all(np.isfinite(mag)) or np.any(mag > 1.0 + 1e-12):
+        bad = mag[~(np.isfinite(mag) & (mag <= 1.0 + 1e-12))].ravel()[0]
+        raise InputError(f"reflection must be finite with |reflection| <= 1 (passive target), got |R| = {bad:.6g}")
+    return mag**2
+
+
 def two_way_loss_db(depth_m, eps_r, sigma, freq_hz, *, target: Literal["planar", "point", "line"] = "planar",
                     reflection=1.0, gain=1.0, rcs_m2=None, line_length_m=None):
     """Two-way loss L(d) in dB of the simple radar range equation used for detection depth.
@@ -378,7 +397,7 @@ def two_way_loss_db(depth_m, eps_r, sigma, freq_hz, *, target: Literal["planar",
     lam = w.wavelength
     g = check_positive("gain", gain)
     if target == "planar":
-        r2 = np.abs(np.asarray(reflection)) ** 2
+        r2 = _reflection_power(reflection)
         with np.errstate(divide="ignore"):
             spread = -10.0 * np.log10(g**2 * lam**2 * r2 / ((4 * np.pi) ** 2 * (2 * d) ** 2))
     elif target == "point":
@@ -436,9 +455,7 @@ def max_detectable_depth(eps_r, sigma, freq_hz, performance_db, target: Literal[
     lam = w.wavelength
     g = check_positive("gain", gain)
     if target == "planar":
-        r2 = np.abs(np.asarray(reflection)) ** 2
-        if not np.all(np.isfinite(r2)):
-            raise InputError("reflection must be finite")
+        r2 = _reflection_power(reflection)
         p = 2.0
         with np.errstate(divide="ignore"):
             # L = -10log10(g²λ²R²/((4π)²·4)) + 20 log10 d + ...

@@ -331,3 +331,22 @@ def test_max_depth_monotone_in_performance(eps, sig, f, perf, extra):
     d1 = max_detectable_depth(eps, sig, f, perf)
     d2 = max_detectable_depth(eps, sig, f, perf + extra)
     assert d2 > d1
+
+
+@pytest.mark.parametrize("call", [
+    lambda: wave_properties(np.ones(3) * 4, np.ones(2) * 0.01, 1e8),
+    lambda: reflection_coefficient(np.ones(3) * 4, 0, np.ones(2) * 9, 0, 1e8),
+    lambda: depth_from_time(np.ones(3) * 1e-8, np.ones(2) * 1e8),
+    lambda: time_from_depth(np.ones(3), np.ones(2) * 1e8),
+])
+def test_shape_mismatch_is_project_error(call):
+    """Inputs that do not broadcast raise InputError naming the shapes, not numpy's bare ValueError."""
+    with pytest.raises(SubsurfError, match="broadcast"):
+        call()
+
+
+@pytest.mark.parametrize("refl", ["strong", float("nan"), 1.5])
+def test_bad_reflection_refused(refl):
+    """A non-number, NaN or |R| > 1 (not passive) reflection is refused by the depth solver."""
+    with pytest.raises(SubsurfError, match="reflection"):
+        max_detectable_depth(9.0, 0.01, 1e8, 100.0, reflection=refl)

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..errors import InputError, check_finite, check_range
+from ..errors import InputError, check_broadcast, check_finite, check_range
 from ._validity import BULK_DENSITY_RANGE, PARTICLE_DENSITY_RANGE, check_density, warn_validity
 
 __all__ = [
@@ -93,6 +93,7 @@ def _fraction(name, value):
 def _check_moisture(moisture, porosity):
     m = _fraction("moisture", moisture)
     p = _fraction("porosity", porosity)
+    check_broadcast(moisture=m, porosity=p)
     over = m > p
     if np.any(over):
         mb, pb = np.broadcast_arrays(m, p)
@@ -161,6 +162,7 @@ def lichtenecker_permittivity(moisture, porosity, eps_solid, eps_water, eps_air=
     es = _check_eps("eps_solid", eps_solid)
     ew = _check_eps("eps_water", eps_water)
     ea = _check_eps("eps_air", eps_air)
+    check_broadcast(moisture=m, porosity=p, eps_solid=es, eps_water=ew, eps_air=ea)
     complex_in = any(np.iscomplexobj(e) for e in (es, ew, ea))
     cast = (lambda e: np.asarray(e, dtype=complex)) if complex_in else (lambda e: np.asarray(e, dtype=float))
     es, ew, ea = cast(es), cast(ew), cast(ea)

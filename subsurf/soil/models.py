@@ -275,6 +275,11 @@ class Soil:
         """
         f = check_positive("freq_hz", freq_hz, unit="Hz")
         r = self._r
+        try:
+            np.broadcast_shapes(np.shape(f), r["shape"])
+        except ValueError:
+            raise InputError(f"freq_hz of shape {np.shape(f)} does not broadcast against the soil fields of "
+                             f"shape {r['shape']}; e.g. pass freq[:, None] for fields of shape (n,)") from None
         if self.model == "crim":
             water = water_permittivity(f, r["temp_c"], r["salinity"])
             return crim_permittivity(r["moisture"], r["porosity"], r["eps_solid"], water, 1.0)

@@ -10,7 +10,7 @@ from __future__ import annotations
 import numpy as np
 from scipy.constants import epsilon_0, pi
 
-from ..errors import InputError, check_positive, check_range
+from ..errors import InputError, check_broadcast, check_positive, check_range
 from ._validity import BULK_DENSITY_RANGE, PARTICLE_DENSITY_RANGE, check_density, warn_validity
 from .water import _debye, _temperature
 
@@ -34,6 +34,7 @@ def _check_soil(moisture, sand, clay, bulk_density, particle_density):
     mv = check_range("moisture", moisture, 0.0, 1.0, unit="m³/m³")
     s = check_range("sand", sand, 0.0, 1.0, unit="(mass fraction)")
     c = check_range("clay", clay, 0.0, 1.0, unit="(mass fraction)")
+    check_broadcast(moisture=mv, sand=s, clay=c, bulk_density=bulk_density, particle_density=particle_density)
     total = s + c
     if np.any(total > 1.0 + 1e-12):
         raise InputError(
@@ -144,6 +145,7 @@ def peplinski_permittivity(freq_hz, moisture, sand, clay, bulk_density=1.5e3,
     f = check_positive("freq_hz", freq_hz, unit="Hz")
     t = _temperature(temp_c)
     mv, s, c, rb, rs = _check_soil(moisture, sand, clay, bulk_density, particle_density)
+    check_broadcast(freq_hz=f, temp_c=t, moisture=mv, sand=s, clay=c, bulk_density=rb, particle_density=rs)
     v = PEPLINSKI_VALIDITY
     warn_validity(_MODEL, [
         ("freq_hz", f, *v["freq_hz"]),

@@ -11,7 +11,7 @@ from __future__ import annotations
 import numpy as np
 from scipy.constants import pi
 
-from ..errors import InputError, check_finite, check_nonnegative
+from ..errors import InputError, check_broadcast, check_finite, check_nonnegative
 from ._validity import warn_validity
 
 __all__ = [
@@ -181,6 +181,7 @@ def water_permittivity(freq_hz, temp_c=20.0, salinity_psu=0.0):
     f = check_nonnegative("freq_hz", freq_hz, unit="Hz")
     t = _temperature(temp_c)
     s = check_nonnegative("salinity_psu", salinity_psu)
+    check_broadcast(freq_hz=f, temp_c=t, salinity_psu=s)
     warn_validity(_KS_MODEL, [("temp_c", t, 0.0, _T_MAX, "°C"),
                               ("salinity_psu", s, 0.0, _S_MAX, "")])
     return _debye(f, t, s)
@@ -251,6 +252,7 @@ def water_conductivity(salinity_psu, temp_c=20.0):
     t = _temperature(temp_c)
     warn_validity(_PSS_MODEL, [("salinity_psu", sp, 0.0, 42.0, ""),
                                ("temp_c", t, 0.0, 35.0, "°C")])
+    check_broadcast(salinity_psu=sp, temp_c=t)
     sp, t = np.broadcast_arrays(sp, t)
     t68 = 1.00024 * t
     x = np.sqrt(sp / 35.0)

@@ -51,3 +51,21 @@ def test_invalid_soil_always_raises(moisture, porosity, temp, clay):
         return
     assert not invalid
     assert np.isfinite(soil.conductivity()) and soil.conductivity() >= 0
+
+
+def test_soil_functions_refuse_shape_mismatch():
+    """Mismatched shapes raise InputError (a SubsurfError), not numpy's bare ValueError."""
+    import numpy as np
+    import pytest
+
+    from subsurf.errors import InputError
+    from subsurf.soil import Soil, crim_permittivity, peplinski_permittivity, water_conductivity
+
+    with pytest.raises(InputError, match="broadcast"):
+        water_conductivity(np.ones(3), np.ones(2) * 10.0)
+    with pytest.raises(InputError, match="broadcast"):
+        crim_permittivity(np.ones(3) * 0.1, np.ones(2) * 0.4, 4.7, 80.0)
+    with pytest.raises(InputError, match="broadcast"):
+        peplinski_permittivity(5e8, np.ones(3) * 0.2, np.ones(2) * 0.5, 0.2)
+    with pytest.raises(InputError, match="broadcast"):
+        Soil(np.ones(3) * 0.2, texture="loam").electrical(np.ones(2) * 1e8)
