@@ -202,8 +202,10 @@ def synthetic_region(nx: int, ny: int, *, seed: int = 0, cell_size_m: float = 25
     children = np.random.SeedSequence(seed).spawn(len(FIELDS) + 1)
     modes = {q: random_modes(np.random.default_rng(children[i]), n_modes=n_modes, shortest_m=shortest,
                              longest_m=longest) for i, q in enumerate(FIELDS)}
-    nodata = random_modes(np.random.default_rng(children[-1]), n_modes=n_modes, shortest_m=4 * shortest,
-                          longest_m=longest) if nodata_fraction > 0 else None
+    # more, shorter modes for the no-data field: closer to Gaussian over one region, so the
+    # thresholded area is near the requested fraction
+    nodata = random_modes(np.random.default_rng(children[-1]), n_modes=3 * n_modes, shortest_m=4 * shortest,
+                          longest_m=max(4 * shortest, longest / 8)) if nodata_fraction > 0 else None
     xd = da.from_array(x, chunks=chunk)
     yd = da.from_array(y, chunks=chunk)
     attrs_crs, gm = crs_variable(CRS.from_user_input(crs))

@@ -87,3 +87,10 @@ def test_parse_size_rejects_bad_text(text):
 def test_parse_size_reads_underscores_and_case():
     """'20_000X300' reads as (20000, 300)."""
     assert parse_size("20_000X300") == (20000, 300)
+
+
+def test_nodata_fraction_is_near_the_request():
+    """The thresholded no-data area is within a factor of two of the requested fraction."""
+    for seed in (0, 1, 2):
+        ds = synthetic_region(400, 300, seed=seed, nodata_fraction=0.05, quantities=("moisture",))
+        assert 0.025 < np.isnan(ds["moisture"].values).mean() < 0.1
