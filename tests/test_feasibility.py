@@ -98,7 +98,7 @@ def test_monte_carlo_matches_analytic_normal_probability():
 
     def margin(theta):
         return float(feasibility_chain(theta, freq_hz=a.centre_freq_hz, performance_db=a.performance_db,
-                                       gain=a.gain, target=PIPE, target_depth_m=1.0, pore_water_ec25=0.02,
+                                       gain=a.gain, target=PIPE, target_depth_m=2.0, pore_water_ec25=0.05,
                                        texture="loamy_sand")["margin_db"])
 
     theta_star = brentq(margin, 0.02, 0.35, xtol=1e-10)
@@ -106,8 +106,8 @@ def test_monte_carlo_matches_analytic_normal_probability():
     assert mu - 5 * s > 0  # draws are clipped at 0: keep the clipping out of the comparison
     p_exact = norm.cdf((theta_star - mu) / s)  # margin falls as moisture rises
     draws = 4000
-    p, se = reach_probability({"moisture": np.array([mu]), "pore_water_ec": np.array([0.02])},
-                              {"moisture": np.array([s])}, [a], target=PIPE, target_depth_m=1.0, draws=draws,
+    p, se = reach_probability({"moisture": np.array([mu]), "pore_water_ec": np.array([0.05])},
+                              {"moisture": np.array([s])}, [a], target=PIPE, target_depth_m=2.0, draws=draws,
                               seed=11, texture="loamy_sand")
     assert 0.05 < p_exact < 0.95
     assert abs(p[0, 0] - p_exact) < 4 * np.sqrt(p_exact * (1 - p_exact) / draws)
@@ -116,11 +116,11 @@ def test_monte_carlo_matches_analytic_normal_probability():
 def test_monte_carlo_converges_between_draw_counts():
     """Two seeded runs with 300 and 1200 draws agree within 4 combined standard errors per cell."""
     m = np.array([0.10, 0.14, 0.18, 0.22])
-    vals = {"moisture": m, "pore_water_ec": np.full(4, 0.025)}
+    vals = {"moisture": m, "pore_water_ec": np.full(4, 0.05)}
     sds = {"moisture": np.full(4, 0.03), "pore_water_ec": np.full(4, 0.008)}
-    p1, se1 = reach_probability(vals, sds, ANTS, target=PIPE, target_depth_m=1.0, draws=300, seed=5,
+    p1, se1 = reach_probability(vals, sds, ANTS, target=PIPE, target_depth_m=2.0, draws=300, seed=5,
                                 texture="loamy_sand")
-    p2, se2 = reach_probability(vals, sds, ANTS, target=PIPE, target_depth_m=1.0, draws=1200, seed=6,
+    p2, se2 = reach_probability(vals, sds, ANTS, target=PIPE, target_depth_m=2.0, draws=1200, seed=6,
                                 texture="loamy_sand")
     bound = 4 * np.sqrt(se1**2 + se2**2) + 1e-12
     assert np.all(np.abs(p1 - p2) <= np.maximum(bound, 4 * np.sqrt(0.25 / 300)))

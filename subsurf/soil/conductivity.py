@@ -8,6 +8,8 @@ clay fraction through a cation-exchange capacity (common practice, see
 
 from __future__ import annotations
 
+from typing import Literal
+
 import numpy as np
 
 from ..errors import InputError, check_nonnegative, check_positive, check_range
@@ -220,13 +222,19 @@ def archie_conductivity(water_conductivity, porosity, saturation=1.0, a=1.0, m=2
     return _out(sw * p**mm * s**nn / aa)
 
 
-def waxman_smits_b(water_conductivity):
-    """Equivalent counter-ion conductance B of Waxman & Smits (1968) at 25 °C.
+def waxman_smits_b(water_conductivity, *, form: Literal["waxman-thomas-1974", "waxman-smits-1968"]
+                   = "waxman-thomas-1974"):
+    """Equivalent counter-ion conductance B of the Waxman–Smits model at 25 °C.
 
     Parameters
     ----------
     water_conductivity : float or array_like
         Pore-water conductivity σ_w in S/m, >= 0.
+    form : {"waxman-thomas-1974", "waxman-smits-1968"}
+        Which published fit of B(σ_w) to use.  The default, the revised fit of
+        Waxman & Thomas (1974), gives a lower B in fresh pore water than the original
+        1968 fit (0.65 against 1.84 (S/m)/(meq/cm³) as σ_w → 0), which matters for the
+        fresh-to-brackish pore water of near-surface soils.
 
     Returns
     -------
@@ -235,17 +243,26 @@ def waxman_smits_b(water_conductivity):
 
     Notes
     -----
-    B = 4.6 [1 − 0.6 exp(−σ_w/1.3)] (S/m)/(meq/cm³) with σ_w in S/m, i.e.
-    0.0046 [1 − 0.6 exp(−σ_w/1.3)] S·m²/eq (constants from memory of the published
-    25 °C fit; the temperature dependence of B is neglected).
+    Waxman & Thomas (1974): B = 3.83 [1 − 0.83 exp(−0.5 σ_w)] (S/m)/(meq/cm³);
+    Waxman & Smits (1968): B = 4.6 [1 − 0.6 exp(−σ_w/1.3)] (S/m)/(meq/cm³);
+    σ_w in S/m; 1 (S/m)/(meq/cm³) = 1e-3 S·m²/eq.  Both at 25 °C (constants from
+    memory of the published fits; the temperature dependence of B is neglected).
 
     References
     ----------
     Waxman, M. H., & Smits, L. J. M. (1968). Electrical conductivities in oil-bearing
     shaly sands. SPE Journal, 8(2), 107–122. doi:10.2118/1863-A
+    Waxman, M. H., & Thomas, E. C. (1974). Electrical conductivities in shaly sands —
+    I. The relation between hydrocarbon saturation and resistivity index; II. The
+    temperature coefficient of electrical conductivity. J. Petroleum Technology 26(2),
+    213–225. doi:10.2118/4094-PA
     """
     sw = check_nonnegative("water_conductivity", water_conductivity, unit="S/m")
-    return _out(4.6e-3 * (1.0 - 0.6 * np.exp(-sw / 1.3)))
+    if form == "waxman-thomas-1974":
+        return _out(3.83e-3 * (1.0 - 0.83 * np.exp(-0.5 * sw)))
+    if form == "waxman-smits-1968":
+        return _out(4.6e-3 * (1.0 - 0.6 * np.exp(-sw / 1.3)))
+    raise InputError(f"form must be 'waxman-thomas-1974' or 'waxman-smits-1968', got {form!r}")
 
 
 def cec_from_clay(clay, *, clay_cec=CLAY_CEC):
@@ -312,7 +329,9 @@ def qv_from_cec(cec, porosity, particle_density=2660.0):
 
 
 def waxman_smits_conductivity(water_conductivity, porosity, saturation=1.0, *, qv=0.0,
-                              a=1.0, m=2.0, n=2.0):
+                              a=1.0, m=2.0, n=2.0,
+                              b_form: Literal["waxman-thomas-1974", "waxman-smits-1968"]
+                              = "waxman-thomas-1974"):
     """Bulk conductivity with clay surface conduction, Waxman & Smits (1968).
 
     Parameters
@@ -327,6 +346,8 @@ def waxman_smits_conductivity(water_conductivity, porosity, saturation=1.0, *, q
         Exchange cations per pore volume in eq/m³ (see :func:`qv_from_cec`), >= 0.
     a, m, n : float or array_like
         Archie parameters as in :func:`archie_conductivity`.
+    b_form : {"waxman-thomas-1974", "waxman-smits-1968"}
+        Published fit for the counter-ion conductance B (see :func:`waxman_smits_b`).
 
     Returns
     -------
@@ -350,5 +371,5 @@ def waxman_smits_conductivity(water_conductivity, porosity, saturation=1.0, *, q
     aa = check_positive("a", a)
     mm = check_range("m", m, 1.0, 5.0)
     nn = check_range("n", n, 1.0, 5.0)
-    b = 4.6e-3 * (1.0 - 0.6 * np.exp(-sw / 1.3))
+    b = waxman_smits_b(sw, form=b_form)
     return _out(p**mm * s ** (nn - 1.0) * (s * sw + b * q) / aa)

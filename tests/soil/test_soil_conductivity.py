@@ -12,6 +12,7 @@ from subsurf.soil import (
     qv_from_cec,
     salinity_from_ec25,
     water_conductivity,
+    waxman_smits_b,
     waxman_smits_conductivity,
 )
 
@@ -34,7 +35,23 @@ def test_waxman_smits_hand_computed_with_clay():
     # Waxman & Smits (1968) with B = 4.6[1 − 0.6 exp(−σw/1.3)] (S/m)/(meq/cm³).
     b = 4.6e-3 * (1 - 0.6 * np.exp(-1.0))
     expected = 0.09 * (1.3 + b * 500.0)
-    assert waxman_smits_conductivity(1.3, 0.3, 1.0, qv=500.0) == pytest.approx(expected)
+    assert waxman_smits_conductivity(1.3, 0.3, 1.0, qv=500.0, b_form="waxman-smits-1968") == pytest.approx(expected)
+
+
+def test_waxman_thomas_b_hand_computed():
+    """Default B is the Waxman & Thomas (1974) fit 3.83[1 − 0.83 exp(−0.5σw)] (S/m)/(meq/cm³) (from memory)."""
+    # σw = 2 S/m: 3.83·(1 − 0.83/e) = 2.6606 (S/m)/(meq/cm³) = 2.6606e-3 S·m²/eq
+    b = 3.83e-3 * (1 - 0.83 * np.exp(-1.0))
+    assert waxman_smits_b(2.0) == pytest.approx(b, rel=1e-12)
+    assert b == pytest.approx(2.6606e-3, rel=1e-4)
+    expected = 0.09 * (2.0 + b * 500.0)
+    assert waxman_smits_conductivity(2.0, 0.3, 1.0, qv=500.0) == pytest.approx(expected)
+
+
+def test_fresh_water_b_lower_in_1974_fit():
+    """In fresh pore water the 1974 fit's B is about a third of the 1968 fit's (0.65 vs 1.84 as σw → 0)."""
+    assert waxman_smits_b(0.0) == pytest.approx(3.83e-3 * 0.17, rel=1e-9)
+    assert waxman_smits_b(0.0, form="waxman-smits-1968") == pytest.approx(4.6e-3 * 0.4, rel=1e-9)
 
 
 def test_qv_definition():
