@@ -32,7 +32,8 @@ def _figure(n_panels: int, *, ncols: int | None = None, panel_w: float = 4.2, pa
     ncols = ncols or min(n_panels, 3)
     nrows = int(np.ceil(n_panels / ncols))
     if aspect is not None:  # height/width of the site: size panels to the map
-        panel_h = min(max(panel_w * aspect, 2.0), 6.0) + 0.5
+        # the map itself is narrower than the panel (tick labels, axis label take ~1.1 in)
+        panel_h = min(max((panel_w - 1.1) * aspect, 1.6), 6.0) + 0.45
     fig, axes = plt.subplots(nrows, ncols, figsize=(panel_w * ncols + 0.6, panel_h * nrows + 0.9),
                              squeeze=False, sharex=True, sharey=True, layout="constrained")
     for ax in axes.ravel()[n_panels:]:
