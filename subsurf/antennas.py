@@ -257,7 +257,7 @@ def make_target(kind: str, *, depth_m=None, size_m=None, material: str | None = 
 
 
 def rank_antennas(electrical, antennas: list[Antenna], target: Target, *, surface_loss_db=None,
-                  reaches_db: float = REACHES_MARGIN_DB, n_band: int = 97) -> list[dict]:
+                  reaches_db: float = REACHES_MARGIN_DB, n_band: int = 193) -> list[dict]:
     """Evaluate every antenna against a target in one vectorised pass.
 
     Parameters
@@ -360,4 +360,4 @@ def recommend(rows: list[dict]) -> tuple[str | None, str]:
     best = max(rows, key=lambda r: r["margin_db"])
     return None, (
         f"no antenna in the catalogue reaches the target; the closest is {best['name']} "
-        f"({best['margin_db']:.1f} dB short of detection, maximum depth {best['max_depth_m']:.3g} m)")
+        f"({-best['margin_db']:.1f} dB short of detection, maximum depth {best['max_depth_m']:.3g} m)")

@@ -451,7 +451,7 @@ def verdict(margin, *, reaches_db: float = REACHES_MARGIN_DB) -> np.ndarray:
 
 # --- spectrum received from depth --------------------------------------------------------
 
-def band_spectrum(centre_freq_hz: float, bandwidth_hz: float, *, n: int = 97):
+def band_spectrum(centre_freq_hz: float, bandwidth_hz: float, *, n: int = 193):
     """Frequencies (Hz) and amplitude of a Gaussian transmitted spectrum.
 
     The amplitude spectrum is A(f) = exp(−(f − f_c)²/(2s²)) with s = B/(2√ln 2), so
@@ -487,7 +487,7 @@ def received_centroid_frequency(freqs_hz, amplitude, alpha_np_per_m, depth_m):
     Returns
     -------
     ndarray, shape (...)
-        f_R = Σ f·A(f)·e^(−2α(f)d) / Σ A(f)·e^(−2α(f)d).
+        f_R = ∫ f·A(f)·e^(−2α(f)d) df / ∫ A(f)·e^(−2α(f)d) df (trapezoidal rule on the grid).
 
     Notes
     -----
@@ -513,6 +513,10 @@ def received_centroid_frequency(freqs_hz, amplitude, alpha_np_per_m, depth_m):
     logw = np.log(np.maximum(amp, 1e-300)) - 2.0 * alpha * d[..., None]
     logw = logw - logw.max(axis=-1, keepdims=True)
     w = np.exp(logw)
+    # trapezoidal weights: the band is cut where the spectrum is not zero, so a plain sum
+    # would converge only to first order in the grid spacing
+    w[..., 0] *= 0.5
+    w[..., -1] *= 0.5
     return (w * f).sum(axis=-1) / w.sum(axis=-1)
 
 

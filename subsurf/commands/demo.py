@@ -68,6 +68,9 @@ def run_demo(out_dir, *, force: bool = False, quiet: bool = False) -> dict:
     survey = example_survey_path()
     out.parent.mkdir(parents=True, exist_ok=True)
     tmp = Path(tempfile.mkdtemp(prefix=f".{out.name}.", suffix=".partial", dir=out.parent))
+    umask = os.umask(0)  # mkdtemp makes a private (0700) folder; give it the usual permissions
+    os.umask(umask)
+    os.chmod(tmp, 0o777 & ~umask)
     try:
         summary = make_report(survey, tmp / "report.html", quiet=quiet, maps_out=tmp / "maps", tables_dir=tmp)
         summary["report"] = str(out / "report.html")
