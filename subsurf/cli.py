@@ -35,6 +35,8 @@ EPILOG = """examples:
   subsurf demo --out subsurf-demo
   subsurf medium --texture loam --moisture "20 %" --pore-water-ec "50 mS/m"
   subsurf medium --eps 9 --sigma "5 mS/m" --freq "100 MHz" --freq "400 MHz" --json
+  subsurf choose --texture loamy_sand --moisture "12 %" --target line --depth 1.2 --size "15 cm" --material metal
+  subsurf map surveys/example-site/survey.toml --out maps-example
 
 exit codes: 0 ok, 1 invalid input, 2 usage error, 3 output exists (use --force),
 4 internal error (rerun with --debug)"""

@@ -314,7 +314,7 @@ def scheduler(address: str | None = None, *, workers: int | None = None):
         for debugging.  ``"local"``: a ``dask.distributed`` cluster of worker processes
         started on this machine (loopback only) and closed at the end.  Anything else is
         the address of an existing ``dask.distributed`` scheduler, e.g.
-        ``tcp://10.0.0.5:8786``.
+        ``tcp://scheduler.example.org:8786``.
     workers : int, optional
         Threads (threaded scheduler) or worker processes (``"local"``); default: the CPU count.
 

@@ -12,7 +12,7 @@ HELP = "feasibility maps over a regional soil raster (or a synthetic region), ch
 EXAMPLE = """subsurf region --synthetic 4000x3000 --target planar --depth 1.5 --out region-map.nc
 subsurf region --synthetic 20000x20000 --write-soil region-soil.nc
 subsurf region --soil region-soil.nc --target line --depth 1 --size "20 cm" --material metal --out map.nc --chunk 1024
-subsurf region --soil region-soil.nc --target planar --depth 2 --out map.nc --scheduler tcp://10.0.0.5:8786"""
+subsurf region --soil region-soil.nc --target planar --depth 2 --out map.nc --scheduler tcp://scheduler.example.org:8786"""
 
 
 def add_arguments(parser) -> None:
@@ -58,7 +58,7 @@ def add_arguments(parser) -> None:
     o.add_argument("--scheduler", metavar="ADDRESS", default="threads",
                    help="'threads' (default: dask's local threaded scheduler), 'local' (a dask.distributed "
                         "cluster of worker processes on this machine), or the address of an existing "
-                        "dask.distributed scheduler, e.g. tcp://10.0.0.5:8786")
+                        "dask.distributed scheduler, e.g. tcp://scheduler.example.org:8786")
     o.add_argument("--workers", type=int, metavar="N", help="threads or local worker processes "
                    "(default: the CPU count)")
     o.add_argument("--batch", type=int, metavar="N", help="tiles computed at once (default: twice the "
