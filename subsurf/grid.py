@@ -216,7 +216,7 @@ def interpolate_samples(sx, sy, values, px, py, *, sample_sd=None, path="samples
     References
     ----------
     Duchon, J. (1977). Splines minimizing rotation-invariant semi-norms in Sobolev
-    spaces. Lecture Notes in Mathematics 571, 85–100.
+    spaces. Lect. Notes Math. 571 (Springer), 85–100.
     Wahba, G. (1990). *Spline Models for Observational Data*. SIAM (cross-validation).
     """
     from scipy.interpolate import RBFInterpolator
