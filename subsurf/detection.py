@@ -29,7 +29,15 @@ import numpy as np
 from scipy import constants
 
 from .errors import InputError, ModelRangeWarning, check_finite, check_positive
-from .propagation import NP_TO_DB, depth_from_loss_terms, reflection_coefficient, wave_properties
+from .propagation import (
+    NP_TO_DB,
+    _alpha_beta,
+    _check_medium,
+    _reflection_power_from_gamma,
+    depth_from_loss_terms,
+    reflection_coefficient,
+    wave_properties,
+)
 
 __all__ = [
     "TargetKind",
@@ -337,25 +345,56 @@ def loss_constant_db(eps, sigma, freq_hz, target: Target, *, gain=1.0, surface_l
     (finite cylinder from the two-dimensional echo width, σ = 2σ₂L²/λ).
     """
     g = check_positive("gain", gain)
-    w = wave_properties(eps, sigma, freq_hz)
-    lam = w.wavelength
+    eps, sigma, freq, _ = _check_medium(eps, sigma, freq_hz, 1.0)
+    if surface_loss_db is not None:
+        surface_loss_db = _check_surface_loss(surface_loss_db)
+    k0, p, alpha, _ = _loss_budget(eps, sigma, freq, target, g, surface_loss_db)
+    return k0, p, alpha
+
+
+def _check_surface_loss(surface_loss_db):
+    sl = check_finite("surface_loss_db", surface_loss_db)
+    if np.any(sl < 0):
+        raise InputError(f"surface_loss_db must be >= 0 dB, got {sl[sl < 0].ravel()[0]:g}")
+    return sl
+
+
+def _loss_budget(eps, sigma, freq_hz, target: Target, gain, surface_loss_db):
+    """(K₀ dB, p, α Np/m, β rad/m) of :func:`loss_constant_db`; inputs NOT validated (callers do).
+
+    The grid chain calls this once per block with ground values its soil model produced
+    valid; everything else goes through the validating public functions.  A planar
+    target's |R|² and the surface loss come from the ground's α, β computed once here
+    (:func:`subsurf.propagation._reflection_power_from_gamma`, the |·|² of
+    :func:`subsurf.propagation.reflection_coefficient`).
+    """
+    eps = np.asarray(eps)
+    eps_real, eps_imag = (eps.real, -eps.imag) if np.iscomplexobj(eps) else (eps, 0.0)
+    omega = 2.0 * np.pi * np.asarray(freq_hz, dtype=float)
+    alpha, beta = _alpha_beta(eps_real, eps_imag, sigma, omega)
+    lam = 2.0 * np.pi / beta
     if target.kind == "planar":
-        strength = np.abs(target_reflection(eps, sigma, freq_hz, target)) ** 2
+        if target.conductor:
+            strength = 1.0
+        elif target.reflection is not None:
+            strength = abs(complex(target.reflection)) ** 2
+        else:
+            et = complex(target.eps)
+            strength = _reflection_power_from_gamma(alpha, beta, *_alpha_beta(et.real, -et.imag, target.sigma, omega))
         factor = lam**2 * strength / ((4.0 * np.pi) ** 2 * 4.0)
     elif target.kind == "point":
         factor = lam**2 * radar_cross_section(eps, sigma, freq_hz, target) / (4.0 * np.pi) ** 3
     else:
         factor = lam**2 * echo_width(eps, sigma, freq_hz, target) / (16.0 * np.pi**3)
     with np.errstate(divide="ignore"):
-        k0 = -10.0 * np.log10(g**2 * factor)
+        k0 = -10.0 * np.log10(np.square(gain) * factor)
     if surface_loss_db is None:
-        k0 = k0 + surface_transmission_loss_db(eps, sigma, freq_hz)
+        # two crossings of the air–ground surface, −20·log10(1 − |R|²) as in surface_transmission_loss_db
+        r2 = _reflection_power_from_gamma(*_alpha_beta(1.0, 0.0, 0.0, omega), alpha, beta)
+        k0 = k0 - 20.0 * np.log10(1.0 - r2)
     else:
-        sl = check_finite("surface_loss_db", surface_loss_db)
-        if np.any(sl < 0):
-            raise InputError(f"surface_loss_db must be >= 0 dB, got {sl[sl < 0].ravel()[0]:g}")
-        k0 = k0 + sl
-    return k0, SPREADING_EXPONENT[target.kind], w.alpha
+        k0 = k0 + surface_loss_db
+    return k0, SPREADING_EXPONENT[target.kind], alpha, beta
 
 
 def two_way_loss_db(depth_m, eps, sigma, freq_hz, target: Target, *, gain=1.0, surface_loss_db=None):
@@ -437,9 +476,37 @@ def max_depth_and_margin(depth_m, eps, sigma, freq_hz, performance_db, *, target
     perf = _check_performance(performance_db)
     d = check_positive("depth_m", depth_m, unit="m")
     k0, p, alpha = loss_constant_db(eps, sigma, freq_hz, target, gain=gain, surface_loss_db=surface_loss_db)
+    return _depth_and_margin(k0, p, alpha, perf, d)
+
+
+def _depth_and_margin(k0, p, alpha, perf, depth_m):
+    """Maximum depth and margin at ``depth_m`` from the loss terms (shared by the checked and grid paths)."""
     dmax = depth_from_loss_terms(k0, p, alpha, perf)
-    margin = perf - (k0 + 10.0 * p * np.log10(d) + 2.0 * NP_TO_DB * alpha * d)
+    margin = perf - (k0 + 10.0 * p * np.log10(depth_m) + 2.0 * NP_TO_DB * alpha * depth_m)
     return dmax, margin
+
+
+def _grid_depth_and_margin(depth_m, eps, sigma, freq_hz, performance_db, *, target: Target, gain=1.0,
+                           surface_loss_db=None):
+    """:func:`max_depth_and_margin` for the grid chain, plus α and β; ε and σ NOT validated.
+
+    ``eps`` and ``sigma`` must come from a validated soil model (the chain's entry checks
+    the site facts once; re-checking every derived array cost several passes per block).
+    The small per-antenna inputs are still checked.
+
+    Returns
+    -------
+    (max_depth, margin_db, alpha, beta) : tuple of ndarray
+    """
+    perf = _check_performance(performance_db)
+    d = check_positive("depth_m", depth_m, unit="m")
+    g = check_positive("gain", gain)
+    freq = check_positive("freq_hz", freq_hz, unit="Hz")
+    if surface_loss_db is not None:
+        surface_loss_db = _check_surface_loss(surface_loss_db)
+    k0, p, alpha, beta = _loss_budget(eps, sigma, freq, target, g, surface_loss_db)
+    dmax, margin = _depth_and_margin(k0, p, alpha, perf, d)
+    return dmax, margin, alpha, beta
 
 
 def verdict(margin, *, reaches_db: float = REACHES_MARGIN_DB) -> np.ndarray:

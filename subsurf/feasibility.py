@@ -125,13 +125,13 @@ def feasibility_chain(moisture, *, freq_hz, performance_db, target, target_depth
 
     Notes
     -----
-    ε(f), σ from :meth:`subsurf.soil.Soil.electrical`; γ = α + jβ, v = ω/β from
-    :func:`subsurf.propagation.wave_properties`; L(d) = K₀ + 10·p·log10 d + 2·8.686·α·d
+    ε(f), σ from :meth:`subsurf.soil.Soil.electrical`; γ = α + jβ, v = ω/β as in
+    :func:`subsurf.propagation.wave_properties` (the same helper, computed once per block); L(d) = K₀ + 10·p·log10 d + 2·8.686·α·d
     and the depth where L = P from :func:`subsurf.detection.max_depth` (Lambert W);
     margin = P − L(d_target); vertical resolution λ_R/4 (Widess 1973).
     """
     from . import detection
-    from .propagation import wave_properties
+    from .propagation import NP_TO_DB
     from .soil import Soil
 
     fields = {"moisture": moisture, "sand": sand, "clay": clay, "bulk_density": bulk_density,
@@ -156,11 +156,14 @@ def feasibility_chain(moisture, *, freq_hz, performance_db, target, target_depth
         margin = detection.margin_db(target_depth_m, eps, sigma, freq_hz, performance_db, target=target,
                                      gain=gain, surface_loss_db=surface_loss_db)
         return {"margin_db": np.where(np.broadcast_to(valid, np.shape(margin)), margin, np.nan)}
-    w = wave_properties(eps, sigma, freq_hz)
-    dmax, margin = detection.max_depth_and_margin(target_depth_m, eps, sigma, freq_hz, performance_db,
-                                                  target=target, gain=gain, surface_loss_db=surface_loss_db)
+    # ε, σ come from the Soil just validated: the loss budget skips re-checking them (one α, β evaluation
+    # serves velocity, attenuation, both reflection coefficients, the maximum depth and the margin)
+    dmax, margin, alpha, beta = detection._grid_depth_and_margin(
+        target_depth_m, eps, sigma, freq_hz, performance_db, target=target, gain=gain,
+        surface_loss_db=surface_loss_db)
+    omega = 2.0 * np.pi * np.asarray(freq_hz, dtype=float)
     if bandwidth_hz is None:
-        vres = detection.vertical_resolution(w.wavelength)
+        vres = detection.vertical_resolution(2.0 * np.pi / beta)
     else:
         fc = np.asarray(freq_hz, dtype=float)
         bw = np.asarray(bandwidth_hz, dtype=float)
@@ -175,8 +178,8 @@ def feasibility_chain(moisture, *, freq_hz, performance_db, target, target_depth
             res = detection.resolution_at_depth(e_b, s_b, f, amp, target_depth_m)
             vres[idx] = np.broadcast_to(res.vertical_m, vres[idx].shape)
     out = {
-        "eps_real": eps.real, "eps_imag": -eps.imag, "sigma": sigma, "velocity": w.velocity,
-        "attenuation_db_per_m": w.attenuation_db_per_m, "max_depth": dmax, "margin_db": margin,
+        "eps_real": eps.real, "eps_imag": -eps.imag, "sigma": sigma, "velocity": omega / beta,
+        "attenuation_db_per_m": alpha * NP_TO_DB, "max_depth": dmax, "margin_db": margin,
         "vertical_resolution": vres,
     }
     full = np.broadcast_shapes(*(np.shape(v) for v in out.values()))

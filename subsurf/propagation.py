@@ -20,7 +20,7 @@ from dataclasses import dataclass
 from typing import Literal
 
 import numpy as np
-from scipy import constants, special
+from scipy import constants
 
 from .errors import (
     InputError,
@@ -118,9 +118,45 @@ def propagation_constant(eps_r, sigma, freq_hz, mu_r=1.0):
     the upper half plane for a passive medium, both α and β are non-negative.
     """
     eps, sigma, freq, mu = _check_medium(eps_r, sigma, freq_hz, mu_r)
-    omega = 2.0 * np.pi * freq
-    gamma_sq = 1j * omega * mu * _MU0 * (sigma + 1j * omega * _EPS0 * eps)
-    return np.sqrt(gamma_sq)
+    alpha, beta = _alpha_beta(eps.real, -eps.imag, sigma, 2.0 * np.pi * freq, mu)
+    return alpha + 1j * beta
+
+
+def _alpha_beta(eps_real, eps_imag, sigma, omega, mu_r=1.0):
+    """α (Np/m) and β (rad/m) of γ = √(jωμ(σ + jωε₀ε)) in real arithmetic; inputs NOT validated.
+
+    The physics of :func:`propagation_constant` and :func:`wave_properties`, written once;
+    callers validate (ε' ≥ 1, ε'' ≥ 0, σ ≥ 0, ω > 0, μ_r > 0).  Inputs broadcast; the
+    results are float arrays of the broadcast shape.
+
+    Notes
+    -----
+    With σ_eff = σ + ωε₀ε'' and tan δ = σ_eff/(ωε₀ε'), squaring γ = α + jβ gives
+    β² − α² = ω²με₀ε' and 2αβ = ωμσ_eff, whose solution with α, β ≥ 0 is
+
+        β = ω·√(με₀ε'·(√(1 + tan²δ) + 1)/2),   α = ωμσ_eff/(2β),
+
+    the exact principal square root (no low-loss approximation).  α is taken from
+    2αβ = ωμσ_eff rather than from √(1 + tan²δ) − 1, which would cancel at low loss.
+    """
+    oe = omega * _EPS0
+    sigma_eff = sigma + oe * eps_imag
+    tan_d = sigma_eff / (oe * eps_real)
+    # √(1 + tan²δ); hypot (slower) only where tan²δ would overflow
+    root = np.hypot(1.0, tan_d) if np.max(tan_d, initial=0.0) > 1e150 else np.sqrt(1.0 + tan_d * tan_d)
+    beta = omega * np.sqrt((0.5 * _EPS0 * _MU0) * mu_r * eps_real * (root + 1.0))
+    alpha = (0.5 * _MU0) * mu_r * omega * sigma_eff / beta
+    return alpha, beta
+
+
+def _reflection_power_from_gamma(alpha1, beta1, alpha2, beta2, mu1=1.0, mu2=1.0):
+    """|R|² at normal incidence from the propagation constants of both media; inputs NOT validated.
+
+    R = (Z₂ − Z₁)/(Z₂ + Z₁) with Z = jωμ/γ equals (μ₂γ₁ − μ₁γ₂)/(μ₂γ₁ + μ₁γ₂); this is
+    its squared magnitude in real arithmetic.  Symmetric in the two media.
+    """
+    g1_re, g1_im, g2_re, g2_im = alpha1 * mu2, beta1 * mu2, alpha2 * mu1, beta2 * mu1
+    return ((g1_re - g2_re) ** 2 + (g1_im - g2_im) ** 2) / ((g1_re + g2_re) ** 2 + (g1_im + g2_im) ** 2)
 
 
 @dataclass(frozen=True)
@@ -191,9 +227,8 @@ def wave_properties(eps_r, sigma, freq_hz, mu_r=1.0) -> WaveProperties:
     eps, sigma_a, freq, mu = _check_medium(eps_r, sigma, freq_hz, mu_r)
     eps, sigma_a, freq, mu = np.broadcast_arrays(eps, sigma_a, freq, mu)
     omega = 2.0 * np.pi * freq
-    gamma = np.sqrt(1j * omega * mu * _MU0 * (sigma_a + 1j * omega * _EPS0 * eps))
-    alpha = gamma.real
-    beta = gamma.imag
+    alpha, beta = _alpha_beta(eps.real, -eps.imag, sigma_a, omega, mu)
+    gamma = alpha + 1j * beta
     with np.errstate(divide="ignore", over="ignore"):
         skin = np.where(alpha > 0, 1.0 / np.where(alpha > 0, alpha, 1.0), np.inf)
     eps_imag = -eps.imag + 0.0  # no negative zero
@@ -350,24 +385,53 @@ def low_loss_velocity(eps_real):
 # --- detection depth ----------------------------------------------------------------
 
 def lambertw_of_exp(log_x):
-    """Principal-branch Lambert W of exp(log_x), accurate where exp(log_x) overflows.
+    """Principal-branch Lambert W of exp(log_x), real-valued and accurate where exp(log_x) overflows.
 
-    Solves w + ln w = log_x.  Uses scipy.special.lambertw below log_x = 500 and Newton
-    iterations from the asymptotic start w ≈ L − ln L above it.
+    Parameters
+    ----------
+    log_x : float or array_like
+        ln x; any real value (x = e^log_x from 0 to far beyond the largest float).
+
+    Returns
+    -------
+    ndarray
+        w ≥ 0 with w·e^w = e^log_x, i.e. w + ln w = log_x; NaN where log_x is NaN.
+
+    Notes
+    -----
+    Vectorised, in the log domain so that nothing overflows: the starting value is
+    Winitzki's (2003) uniform approximation W(x) ≈ y·(1 − ln(1 + y)/(2 + y)) with
+    y = ln(1 + x) (within 2 % for every x ≥ 0), evaluated as y = log(1 + e^log_x)
+    without forming x; then two Halley steps on f(w) = w + ln w − log_x,
+
+        w ← w − 2·f·w·(w + 1)/(2·(w + 1)² + f),
+
+    each cubically convergent (2 % → 1e-6 → round-off).  Below log_x = −40, W(x) = x
+    to double precision (W(x) = x − x² + …, x < 5e-18).  The result agrees with
+    ``scipy.special.lambertw`` to a few 1e-15 relative (tested over x = 1e-300 … 1e300).
+
+    References
+    ----------
+    Corless, R. M., Gonnet, G. H., Hare, D. E. G., Jeffrey, D. J. & Knuth, D. E. (1996).
+    On the Lambert W function. Adv. Comput. Math. 5, 329–359. doi:10.1007/BF02124750
+    Winitzki, S. (2003). Uniform approximations for transcendental functions. In
+    Computational Science and Its Applications – ICCSA 2003, LNCS 2667, 780–789.
+    doi:10.1007/3-540-44839-X_82
     """
     log_x = np.asarray(log_x, dtype=float)
-    out = np.empty_like(log_x)
-    small = log_x < 500.0
-    if np.any(small):
-        out[small] = special.lambertw(np.exp(log_x[small]), 0).real
-    big = ~small
-    if np.any(big):
-        lx = log_x[big]
-        w = lx - np.log(lx)
-        for _ in range(6):
-            w = w - (w + np.log(w) - lx) / (1.0 + 1.0 / w)
-        out[big] = w
-    return out
+    if log_x.ndim == 0:
+        return lambertw_of_exp(log_x.reshape(1)).reshape(())
+    lx = np.maximum(log_x, -40.0)  # NaN propagates through np.maximum
+    y = np.maximum(lx, 0.0) + np.log1p(np.exp(-np.abs(lx)))  # ln(1 + x), no overflow (np.logaddexp is slower)
+    w = y * (1.0 - np.log1p(y) / (2.0 + y))
+    for _ in range(2):
+        f = w + np.log(w) - lx
+        w_1 = w + 1.0
+        w = w - 2.0 * f * w * w_1 / (2.0 * w_1 * w_1 + f)
+    tiny = log_x < -40.0
+    if np.any(tiny):
+        w[tiny] = np.exp(log_x[tiny])
+    return w
 
 
 def _reflection_power(reflection):
@@ -481,9 +545,12 @@ def depth_from_loss_terms(k0_db, p, alpha, performance_db):
         np.asarray(alpha, dtype=float), np.asarray(performance_db, dtype=float))
     kappa = (perf - k0) * np.log(10.0) / (10.0 * p)
     b = 4.0 * alpha / p
-    out = np.zeros(kappa.shape)
     finite = np.isfinite(kappa)
     lossy = finite & (b > 0)
+    if np.all(lossy):  # the usual case on a map: no masking passes
+        out = lambertw_of_exp(np.log(b) + kappa) / b
+        return out if out.ndim else out[()]
+    out = np.zeros(kappa.shape)
     lossless = finite & (b <= 0)
     if np.any(lossy):
         bb = b[lossy]
