@@ -404,7 +404,7 @@ def lambertw_of_exp(log_x):
     y = ln(1 + x) (within 2 % for every x ≥ 0), evaluated as y = log(1 + e^log_x)
     without forming x; then two Halley steps on f(w) = w + ln w − log_x,
 
-        w ← w − 2·f·w·(w + 1)/(2·(w + 1)² + f),
+        w ← w − f·w/((w + 1) + f/(2·(w + 1))),
 
     each cubically convergent (2 % → 1e-6 → round-off).  Below log_x = −40, W(x) = x
     to double precision (W(x) = x − x² + …, x < 5e-18).  The result agrees with
@@ -427,7 +427,7 @@ def lambertw_of_exp(log_x):
     for _ in range(2):
         f = w + np.log(w) - lx
         w_1 = w + 1.0
-        w = w - 2.0 * f * w * w_1 / (2.0 * w_1 * w_1 + f)
+        w = w - f * w / (w_1 + 0.5 * f / w_1)
     tiny = log_x < -40.0
     if np.any(tiny):
         w[tiny] = np.exp(log_x[tiny])
