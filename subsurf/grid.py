@@ -227,32 +227,38 @@ def interpolate_samples(sx, sy, values, px, py, *, sample_sd=None, path="samples
     n = vals.size
     rows = np.arange(n) + 2 if rows is None else np.asarray(rows)
     sd_meas = np.zeros(n) if sample_sd is None else np.asarray(sample_sd, float)
-    tree = cKDTree(pts)
-    dd, ii = tree.query(pts, k=2)
-    dup = dd[:, 1] == 0
-    if np.any(dup):
-        i = int(np.argmax(dup))
-        raise FileInputError(path, f"sample repeats the location of row {int(rows[ii[i, 1]])}; "
-                             "average repeated measurements into one row", row=int(rows[i]))
     centred = pts - pts.mean(axis=0)
     sv = np.linalg.svd(centred, compute_uv=False) if n >= 2 else np.zeros(2)
     spread = sv / np.sqrt(max(n, 1))
     if n < 3 or spread[1] < 1e-6 * max(spread[0], 1.0) or spread[0] < 1e-3:
         raise FileInputError(path, f"{n} sample(s) lie on one point or one line; interpolation over an area "
                              "needs at least 3 samples not all in a line (or give the value as a default/zone)")
+    tree = cKDTree(pts)
+    dd, ii = tree.query(pts, k=2)
+    pairs = tree.query_pairs(0.0, output_type="ndarray")
+    if pairs.size:
+        i, j = pairs[np.argmin(pairs.max(axis=1))]  # the first row that repeats an earlier one
+        first, again = sorted((int(i), int(j)))
+        raise FileInputError(path, f"sample repeats the location of row {int(rows[first])}; "
+                             "average repeated measurements into one row", row=int(rows[again]))
     flat_x, flat_y = np.ravel(px), np.ravel(py)
     q = np.column_stack([flat_x, flat_y])
     rbf = RBFInterpolator(pts, vals, kernel="thin_plate_spline", degree=1)
     est = np.clip(rbf(q), vals.min(), vals.max())
     # leave-one-out errors (loop over samples, not cells; n is small)
-    loo = np.empty(n)
+    loo = np.full(n, np.nan)
     if n >= 4:
         for i in range(n):
             keep = np.arange(n) != i
-            sub = RBFInterpolator(pts[keep], vals[keep], kernel="thin_plate_spline", degree=1)
+            try:
+                sub = RBFInterpolator(pts[keep], vals[keep], kernel="thin_plate_spline", degree=1)
+            except np.linalg.LinAlgError:  # the others lie on a line: no prediction from them
+                continue
             loo[i] = float(np.clip(sub(pts[i:i + 1])[0], vals[keep].min(), vals[keep].max())) - vals[i]
-        d_nn = dd[:, 1]
-        c = float(np.sum(loo**2 * d_nn) / np.sum(d_nn**2))
+    ok = np.isfinite(loo)
+    if np.any(ok):
+        d_nn = dd[ok, 1]
+        c = float(np.sum(loo[ok]**2 * d_nn) / np.sum(d_nn**2))
     else:
         c = float(np.var(vals, ddof=0) / np.max(dd[:, 1]))
     sill = float(np.var(vals, ddof=1)) if n > 1 else 0.0

@@ -19,6 +19,7 @@ from __future__ import annotations
 import csv
 import json
 import math
+import re
 import tomllib
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -205,31 +206,39 @@ def read_crs(value, *, path, field: str):
         shown = str(value) if len(str(value)) < 60 else str(value)[:57] + "..."
         raise FileInputError(path, f"unknown CRS {shown!r}; give an EPSG code such as 'EPSG:4326' "
                              "or a WKT string", field=field) from None
+    if not (crs.is_geographic or crs.is_projected):
+        raise FileInputError(path, f"CRS {crs.name!r} is not a horizontal (geographic or projected) CRS; "
+                             "give one whose axes are longitude/latitude or easting/northing", field=field)
     return crs
 
 
 def auto_utm_crs(lon: float, lat: float):
-    """The WGS 84 / UTM zone CRS holding (lon, lat), from pyproj's EPSG database.
+    """The WGS 84 / UTM zone CRS holding (lon, lat).
 
-    Uses ``pyproj.database.query_utm_crs_info`` with the point as the area of interest;
-    at a zone boundary the first zone returned is used.
+    The zone follows the UTM grid definition: 6-degree zones numbered eastward from
+    180 W, with the exceptions of the UTM/MGRS grid (zone 32 widened to 3-12 E between
+    56 and 64 N for south-western Norway; zones 31, 33, 35 and 37 only, 9 or 12 degrees
+    wide, between 72 and 84 N over Svalbard).  North of the equator (latitude >= 0) the
+    northern-hemisphere code 326zz is used, south of it 327zz; the CRS itself comes from
+    pyproj's EPSG database.  A site straddling a zone boundary uses the zone of the
+    point given (the site centre); UTM stays usable a few degrees beyond its zone.
+
+    References
+    ----------
+    NIMA (2001). *Datums, Ellipsoids, Grids, and Grid Reference Systems*, Technical
+    Manual 8358.1 (UTM zones and their exceptions; cited from memory).
     """
     from pyproj import CRS
-    from pyproj.aoi import AreaOfInterest
-    from pyproj.database import query_utm_crs_info
 
-    if not (-180.0 <= lon <= 180.0 and -80.0 <= lat <= 84.0):
+    if not (math.isfinite(lon) and math.isfinite(lat) and -180.0 <= lon <= 180.0 and -80.0 <= lat <= 84.0):
         raise InputError(f"site centre lon={lon:.6g}, lat={lat:.6g} is outside the UTM zones "
                          "(latitude -80 to 84 degrees); give the grid CRS explicitly")
-    infos = query_utm_crs_info(datum_name="WGS 84",
-                               area_of_interest=AreaOfInterest(lon, lat, lon, lat))
-    infos = [i for i in infos if i.auth_name == "EPSG"]
-    if not infos:  # pragma: no cover - the EPSG database covers every point in range
-        raise InputError(f"no UTM zone found for lon={lon:.6g}, lat={lat:.6g}")
-    # Prefer the hemisphere of the point (both may be returned on the equator).
-    want = "N" if lat >= 0 else "S"
-    infos.sort(key=lambda i: (not i.name.endswith(want), i.code))
-    return CRS.from_epsg(int(infos[0].code))
+    zone = min(int(math.floor((lon + 180.0) / 6.0)) + 1, 60)
+    if 56.0 <= lat < 64.0 and 3.0 <= lon < 12.0:
+        zone = 32  # south-western Norway
+    elif lat >= 72.0 and 0.0 <= lon < 42.0:
+        zone = 31 if lon < 9.0 else 33 if lon < 21.0 else 35 if lon < 33.0 else 37  # Svalbard
+    return CRS.from_epsg((32600 if lat >= 0 else 32700) + zone)
 
 
 def _quantity(name: str, value, *, path, field: str, row: int | None = None) -> float:
@@ -243,6 +252,19 @@ def _quantity(name: str, value, *, path, field: str, row: int | None = None) -> 
     if not math.isfinite(v):
         raise FileInputError(path, f"{name} must be a finite number, got {value!r}", row=row, field=field)
     return v
+
+
+def _difference(name: str, value, *, path, field: str, row: int | None = None) -> float:
+    """A spread or shift of quantity ``name`` in SI: like :func:`_quantity`, but a temperature
+    difference carries no offset ("1 K" and "1.8 degF" are both 1 degC of difference)."""
+    if QUANTITIES[name].kind != "temperature" or not isinstance(value, str):
+        return _quantity(name, value, path=path, field=field, row=row)
+    m = re.fullmatch(r"\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*", value)
+    if m is None or not m.group(2):
+        return _quantity(name, value, path=path, field=field, row=row)
+    unit = m.group(2)
+    return (_quantity(name, f"{m.group(1)} {unit}", path=path, field=field, row=row)
+            - _quantity(name, f"0 {unit}", path=path, field=field, row=row))
 
 
 def _check_value(name: str, v: float, *, path, field: str, row: int | None = None, sd: bool = False):
@@ -273,8 +295,8 @@ def _quantity_table(table: dict, *, path, where: str) -> tuple[dict, dict]:
             raise FileInputError(path, f"unknown soil quantity {key!r}; allowed: "
                                  f"{', '.join(QUANTITIES)} (and each with '{_SD_SUFFIX}')",
                                  field=f"{where}.{key}")
-        v = _quantity(base, raw, path=path, field=f"{where}.{key}")
         is_sd = key.endswith(_SD_SUFFIX)
+        v = (_difference if is_sd else _quantity)(base, raw, path=path, field=f"{where}.{key}")
         _check_value(base, v, path=path, field=f"{where}.{key}", sd=is_sd)
         (sds if is_sd else values)[base] = v
     return values, sds
@@ -486,9 +508,8 @@ def _read_raster(entry: dict, *, survey_path: Path, index: int) -> RasterLayer:
     factor -= offset
     sd = 0.0
     if "sd" in entry:
-        sd = _quantity(quantity, entry["sd"], path=survey_path, field=f"{where}.sd")
-        if QUANTITIES[quantity].kind == "temperature":
-            sd -= _quantity(quantity, 0.0, path=survey_path, field=f"{where}.sd")
+        sd = _difference(quantity, entry["sd"], path=survey_path, field=f"{where}.sd")
+        _check_value(quantity, sd, path=survey_path, field=f"{where}.sd", sd=True)
     suffix = path.suffix.lower()
     if suffix in (".nc", ".nc4", ".netcdf"):
         import xarray as xr
@@ -578,6 +599,28 @@ def _length(value, *, path, field: str) -> float:
     return v
 
 
+def _integer(value, *, path, field: str, low: int, high: int) -> int:
+    if isinstance(value, bool) or not isinstance(value, int):
+        raise FileInputError(path, f"expected a whole number from {low} to {high}, got {value!r}", field=field)
+    if not low <= value <= high:
+        raise FileInputError(path, f"must be between {low} and {high}, got {value}", field=field)
+    return value
+
+
+def _table(data: dict, key: str, *, path, where: str) -> dict:
+    value = data.get(key, {})
+    if not isinstance(value, dict):
+        raise FileInputError(path, f"expected a table [{where}], got {value!r}", field=where)
+    return value
+
+
+def _table_list(data: dict, key: str, *, path, where: str) -> list:
+    value = data.get(key, [])
+    if not (isinstance(value, list) and all(isinstance(v, dict) for v in value)):
+        raise FileInputError(path, f"expected an array of tables [[{where}]] (double brackets)", field=where)
+    return value
+
+
 def load_survey(path) -> Survey:
     """Read and validate a survey file and every input it names.
 
@@ -628,7 +671,7 @@ def load_survey(path) -> Survey:
             raise FileInputError(path, f"outline bounds {outline.bounds} are not longitude/latitude although "
                                  f"site.crs is geographic ({outline_crs.name}); check the CRS", field="site.crs")
 
-    grid = data.get("grid", {})
+    grid = _table(data, "grid", path=path, where="grid")
     crs_value = grid.get("crs", "auto-utm")
     if crs_value == "auto-utm":
         from pyproj import Transformer
@@ -652,22 +695,27 @@ def load_survey(path) -> Survey:
     if "cell_size" not in grid:
         raise FileInputError(path, "missing grid.cell_size (e.g. '2 m')", field="grid.cell_size")
     cell = _length(grid["cell_size"], path=path, field="grid.cell_size")
-    max_cells = int(grid.get("max_cells", 4_000_000))
+    max_cells = _integer(grid.get("max_cells", 4_000_000), path=path, field="grid.max_cells", low=4,
+                         high=10**12)
 
-    soil = data.get("soil", {})
+    soil = _table(data, "soil", path=path, where="soil")
     model = soil.get("model", "crim")
     if model not in ("crim", "peplinski", "topp"):
         raise FileInputError(path, f"unknown soil model {model!r}; allowed: crim, peplinski, topp",
                              field="soil.model")
     texture = soil.get("texture")
-    defaults, default_sd = _quantity_table(soil.get("defaults", {}), path=path, where="soil.defaults")
+    defaults, default_sd = _quantity_table(_table(soil, "defaults", path=path, where="soil.defaults"), path=path,
+                                           where="soil.defaults")
     if texture is not None:
         preset = _texture(texture, path=path, field="soil.texture")
         for q in ("sand", "clay", "bulk_density"):
             defaults.setdefault(q, preset[q])
-    samples = [_read_samples(e, survey_path=path, index=i) for i, e in enumerate(soil.get("samples", []))]
-    zones = [_read_zones(e, survey_path=path, index=i) for i, e in enumerate(soil.get("zones", []))]
-    rasters = [_read_raster(e, survey_path=path, index=i) for i, e in enumerate(soil.get("rasters", []))]
+    samples = [_read_samples(e, survey_path=path, index=i) for i, e in
+               enumerate(_table_list(soil, "samples", path=path, where="soil.samples"))]
+    zones = [_read_zones(e, survey_path=path, index=i) for i, e in
+             enumerate(_table_list(soil, "zones", path=path, where="soil.zones"))]
+    rasters = [_read_raster(e, survey_path=path, index=i) for i, e in
+               enumerate(_table_list(soil, "rasters", path=path, where="soil.rasters"))]
     given = set(defaults) | {k for s in samples for k in s.values} | {k for z in zones for v in z.values
                                                                      for k in v} | {r.quantity for r in rasters}
     if "moisture" not in given:
@@ -697,13 +745,13 @@ def load_survey(path) -> Survey:
         raise FileInputError(path, "antenna names repeat", field="antennas.names")
 
     scenarios = []
-    for i, sc in enumerate(data.get("scenarios", [])):
+    for i, sc in enumerate(_table_list(data, "scenarios", path=path, where="scenarios")):
         where = f"scenarios[{i}]"
         if "name" not in sc:
             raise FileInputError(path, "scenario needs a name", field=f"{where}.name")
         parts = {}
         for op in ("set", "scale", "offset"):
-            tab = sc.get(op, {})
+            tab = _table(sc, op, path=path, where=f"{where}.{op}")
             vals = {}
             for key, raw in tab.items():
                 if key not in QUANTITIES:
@@ -719,9 +767,8 @@ def load_survey(path) -> Survey:
                         raise FileInputError(path, f"scale factor must be >= 0, got {raw!r}",
                                              field=f"{where}.{op}.{key}")
                 else:
-                    v = _quantity(key, raw, path=path, field=f"{where}.{op}.{key}")
-                    if op == "offset" and QUANTITIES[key].kind == "temperature":
-                        v -= _quantity(key, 0.0, path=path, field=f"{where}.{op}.{key}")
+                    v = (_difference if op == "offset" else _quantity)(key, raw, path=path,
+                                                                       field=f"{where}.{op}.{key}")
                     if op == "set":
                         _check_value(key, v, path=path, field=f"{where}.{op}.{key}")
                     vals[key] = v
@@ -732,11 +779,9 @@ def load_survey(path) -> Survey:
     if len({s.name for s in scenarios}) != len(scenarios):
         raise FileInputError(path, "scenario names repeat", field="scenarios")
 
-    mc = data.get("monte_carlo", {})
-    draws = int(mc.get("draws", 400))
-    seed = int(mc.get("seed", 20240601))
-    if not 10 <= draws <= 100_000:
-        raise FileInputError(path, f"draws must be between 10 and 100000, got {draws}", field="monte_carlo.draws")
+    mc = _table(data, "monte_carlo", path=path, where="monte_carlo")
+    draws = _integer(mc.get("draws", 400), path=path, field="monte_carlo.draws", low=10, high=100_000)
+    seed = _integer(mc.get("seed", 20240601), path=path, field="monte_carlo.seed", low=0, high=2**63 - 1)
 
     return Survey(path=path, name=str(site.get("name", path.stem)), description=str(site.get("description", "")),
                   outline=outline, outline_crs=outline_crs, grid_crs=grid_crs, grid_crs_source=source,

@@ -159,3 +159,16 @@ def test_raster_in_other_crs_is_reprojected(tmp_path):
     m = grid["mask"].values.astype(bool)
     want = f(grid["lon"].values, grid["lat"].values)
     assert np.allclose(soil["temperature"].values[m], want[m], atol=1e-6)
+
+
+def test_repeated_sample_names_both_rows():
+    """A sample at the same place as an earlier one names its own row and the earlier row (header = row 1)."""
+    with pytest.raises(FileInputError, match=r"row 5: sample repeats the location of row 2"):
+        interpolate_samples([0, 10, 0, 0], [0, 0, 10, 0], [0.1, 0.2, 0.3, 0.4], [5.0], [5.0])
+
+
+def test_four_samples_three_in_a_line_interpolate():
+    """Four samples, three of them in a line, interpolate (leave-one-out skips the singular subset)."""
+    est, isd, _ = interpolate_samples([0, 10, 20, 5], [0, 0, 0, 8], [0.1, 0.2, 0.3, 0.4], [0.0, 5.0],
+                                      [0.0, 4.0])
+    assert est[0] == pytest.approx(0.1, abs=1e-9) and isd[0] == 0.0 and isd[1] > 0

@@ -154,3 +154,44 @@ def test_unknown_antenna_kind_of_target(tmp_path):
     p = write(tmp_path, BASE.replace('kind = "line"', 'kind = "sphere"'))
     with pytest.raises(FileInputError, match="planar, point, line"):
         load_survey(p)
+
+
+@pytest.mark.parametrize("lon,lat,epsg", [
+    (5.32, 60.39, 32632),   # Bergen: south-western Norway is mapped in UTM zone 32 (from memory)
+    (15.63, 78.22, 32633),  # Longyearbyen, Svalbard: UTM zone 33X (from memory)
+    (10.0, 80.0, 32633),    # Svalbard zones 31X/33X/35X/37X replace 32X, 34X, 36X (from memory)
+])
+def test_auto_utm_norway_svalbard_exceptions(lon, lat, epsg):
+    """The UTM grid's Norway and Svalbard exceptions pick the zones used there, not the plain 6-degree zone."""
+    assert auto_utm_crs(lon, lat).to_epsg() == epsg
+
+
+def test_vertical_crs_refused(tmp_path):
+    """A vertical-only CRS (EPSG:5703, NAVD88 height) cannot place an outline: one line naming site.crs."""
+    p = write(tmp_path, BASE.replace('crs = "EPSG:32631"', 'crs = "EPSG:5703"', 1))
+    with pytest.raises(FileInputError, match=r"site\.crs.*not a horizontal"):
+        load_survey(p)
+
+
+def test_temperature_offset_in_kelvin_is_a_difference(tmp_path):
+    """A scenario offset of '3 K' (and an sd of '1.8 degF') are differences: 3 and 1 degC (SI definitions)."""
+    p = write(tmp_path, BASE.replace('pore_water_ec = "20 mS/m"', 'pore_water_ec = "20 mS/m"\ntemperature = '
+                                     '"10 degC"\ntemperature_sd = "1.8 degF"')
+              + '\n[[scenarios]]\nname = "warm"\noffset = { temperature = "3 K" }\n')
+    s = load_survey(p)
+    assert s.scenarios[0].offset["temperature"] == pytest.approx(3.0, abs=1e-9)
+    assert s.default_sd["temperature"] == pytest.approx(1.0, abs=1e-9)
+
+
+def test_monte_carlo_draws_not_a_number(tmp_path):
+    """draws = "many" is a one-line error naming monte_carlo.draws, not an internal error."""
+    p = write(tmp_path, BASE + '\n[monte_carlo]\ndraws = "many"\n')
+    with pytest.raises(FileInputError, match=r"monte_carlo\.draws.*whole number"):
+        load_survey(p)
+
+
+def test_single_bracket_samples_table(tmp_path):
+    """[soil.samples] written with single brackets is explained (an array of tables is needed)."""
+    p = write(tmp_path, BASE + '\n[soil.samples]\nfile = "s.csv"\ncrs = "EPSG:32631"\n')
+    with pytest.raises(FileInputError, match=r"soil\.samples.*double brackets"):
+        load_survey(p)
