@@ -80,6 +80,23 @@ def test_netcdf_cf_attributes(mapped):
         assert np.all(np.isfinite(ds["max_depth"].values[..., inside]))
 
 
+def test_netcdf_coordinate_variables_numeric(mapped):
+    """Read back with netCDF4: every variable named as its dimension is numeric without _FillValue (CF-1.8
+    section 1.3 coordinate-variable definition, section 2.5.1); scenario/antenna names are label variables."""
+    import netCDF4
+
+    _, out, _ = mapped
+    with netCDF4.Dataset(out / "feasibility.nc") as nc:
+        for name in nc.dimensions:
+            if name in nc.variables:
+                var = nc.variables[name]
+                assert np.issubdtype(var.dtype, np.number) and "_FillValue" not in var.ncattrs(), name
+        assert "scenario" not in nc.variables and "antenna" not in nc.variables
+        assert list(nc.variables["scenario_name"][:]) == ["dry", "wet"]
+        assert "scenario_name" in nc.variables["max_depth"].coordinates.split()
+        assert "antenna_name" in nc.variables["max_depth"].coordinates.split()
+
+
 @pytest.mark.filterwarnings("ignore::PendingDeprecationWarning")  # third-party, reading GeoTIFF
 def test_geotiff_layers_have_crs(mapped):
     """With the geo extra, GeoTIFF layers carry the grid CRS and the same values as the NetCDF."""
@@ -91,7 +108,8 @@ def test_geotiff_layers_have_crs(mapped):
     da = rioxarray.open_rasterio(tif).squeeze()
     assert da.rio.crs.to_epsg() == 32630
     with xr.open_dataset(out / "feasibility.nc") as ds:
-        ref = ds["max_depth"].sel(scenario="dry", antenna="midband-250").values
+        ds = ds.set_xindex("scenario_name").set_xindex("antenna_name")
+        ref = ds["max_depth"].sel(scenario_name="dry", antenna_name="midband-250").values
     assert np.allclose(da.values, ref, equal_nan=True)
 
 

@@ -187,6 +187,23 @@ def _markdown(rows, survey, caution: str) -> str:
         head, sep, *body, "", f"> **Caution.** {caution}", ""])
 
 
+def _cf_labels(ds):
+    """``ds`` with the scenario and antenna names as CF label variables (CF-1.8 section 6.1).
+
+    A CF coordinate variable (named as its dimension) must be numeric and monotonic, so
+    the string names go into auxiliary ``scenario_name`` / ``antenna_name`` variables that
+    each layer lists in its ``coordinates`` attribute.
+    """
+    labels = {"scenario": "scenario_name", "antenna": "antenna_name"}
+    nc = ds.rename_vars(labels)
+    for name in list(nc.data_vars) + ["lon", "lat"]:
+        extra = [labels[d] for d in nc[name].dims if d in labels]
+        if extra:
+            have = nc[name].attrs.get("coordinates", "")
+            nc[name].attrs["coordinates"] = " ".join(filter(None, [have, *extra]))
+    return nc
+
+
 def run_map(survey_path, out_dir, *, force: bool = False, quiet: bool = False, geotiff: bool = True) -> dict:
     """Compute and write every output of ``subsurf map`` for one survey.
 
@@ -255,9 +272,12 @@ def run_map(survey_path, out_dir, *, force: bool = False, quiet: bool = False, g
     })
 
     written = {}
+    nc = _cf_labels(ds)
     with atomic_path(paths["netcdf"], force=force) as tmp:
-        enc = {v: {"zlib": True, "complevel": 4} for v in ds.data_vars if ds[v].ndim >= 2}
-        ds.to_netcdf(tmp, format="NETCDF4", engine="netcdf4", encoding=enc)
+        enc = {v: {"zlib": True, "complevel": 4} for v in nc.data_vars if nc[v].ndim >= 2}
+        enc.update({c: {"_FillValue": None} for c in ("x", "y", "lon", "lat")})  # CF 2.5.1: no missing coordinates
+        enc.update({c: {"dtype": "S1"} for c in ("scenario_name", "antenna_name")})  # char arrays (CF 2.2)
+        nc.to_netcdf(tmp, format="NETCDF4", engine="netcdf4", encoding=enc)
     written["netcdf"] = paths["netcdf"]
 
     # tables
