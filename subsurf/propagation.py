@@ -7,8 +7,9 @@ permeability ``μ_r`` satisfies ``d²E/dz² = γ²E`` with
     γ² = jωμ(σ + jωε₀ε),   γ = α + jβ,
 
 ``α`` the attenuation constant (Np/m) and ``β`` the phase constant (rad/m).  Every
-quantity here is derived from the exact complex square root; low-loss approximations
-exist as separately named functions and warn when the loss tangent is not small.
+quantity here is derived from the exact principal square root (evaluated once, in real
+arithmetic, by ``_alpha_beta``); low-loss approximations exist as separately named
+functions and warn when the loss tangent is not small.
 
 All functions broadcast over numpy arrays and accept scalars.  Units are SI.
 """
