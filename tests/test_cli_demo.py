@@ -75,14 +75,25 @@ def test_demo_refuses_existing_folder(demo):
 
 @pytest.mark.slow
 def test_demo_force_replaces_folder(tmp_path):
-    """With --force an existing folder is replaced by a complete new one."""
+    """With --force an earlier demo folder is replaced by a complete new one."""
     out = tmp_path / "d"
-    out.mkdir()
-    (out / "old.txt").write_text("old")
+    (out / "maps").mkdir(parents=True)
+    (out / "report.html").write_text("old")
+    (out / "maps" / "summary.csv").write_text("old")
     res = _run("demo", "--out", str(out), "--force", "--quiet", cwd=tmp_path)
     assert res.returncode == 0, res.stderr
-    assert not (out / "old.txt").exists()
-    assert (out / "report.html").is_file()
+    assert (out / "report.html").read_text() != "old"
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["d"]
+
+
+def test_demo_force_keeps_folder_with_other_files(tmp_path):
+    """--force never deletes a folder holding files the demo did not write: exit 3, one line, file kept."""
+    out = tmp_path / "d"
+    out.mkdir()
+    (out / "notes.txt").write_text("user file")
+    res = _run("demo", "--out", str(out), "--force", "--quiet", cwd=tmp_path)
+    assert res.returncode == 3 and res.stderr.strip().count("\n") == 0 and "notes.txt" in res.stderr
+    assert (out / "notes.txt").read_text() == "user file"
     assert sorted(p.name for p in tmp_path.iterdir()) == ["d"]
 
 

@@ -30,7 +30,8 @@ def add_arguments(parser) -> None:
     parser.add_argument("--out", metavar="DIR", default=DEFAULT_OUT,
                         help=f"new output folder (default: ./{DEFAULT_OUT}); an existing one is never "
                              "overwritten without --force")
-    parser.add_argument("--force", action="store_true", help="replace an existing output folder")
+    parser.add_argument("--force", action="store_true", help="replace an earlier demo output folder (one "
+                        "holding other files is never deleted)")
 
 
 def example_survey_path():
@@ -45,6 +46,23 @@ def example_survey_path():
         raise SubsurfError(f"the bundled example survey is missing ({path}); reinstall subsurf from its "
                            "source tree (pip install -e .)")
     return path
+
+
+def _foreign_files(folder) -> list[str]:
+    """Files and folders under ``folder`` that a demo run does not write (so --force must not delete them)."""
+    import fnmatch
+
+    own = set(DESCRIPTIONS) | {"maps/geotiff/*.tif"}
+    own_dirs = {"maps", "maps/geotiff"}
+    found = []
+    for p in sorted(folder.rglob("*")):
+        rel = p.relative_to(folder).as_posix()
+        if p.is_dir() and not p.is_symlink():
+            if rel not in own_dirs:
+                found.append(rel + "/")
+        elif not any(fnmatch.fnmatchcase(rel, pat) for pat in own):
+            found.append(rel)
+    return found
 
 
 def run_demo(out_dir, *, force: bool = False, quiet: bool = False) -> dict:
@@ -65,6 +83,11 @@ def run_demo(out_dir, *, force: bool = False, quiet: bool = False) -> dict:
                                 "to replace it")
     if out.exists() and not out.is_dir():
         raise OutputExistsError(f"{out} exists and is not a folder; choose another --out")
+    if out.exists():
+        foreign = _foreign_files(out)
+        if foreign:
+            raise OutputExistsError(f"{out} holds files subsurf demo did not write (e.g. {foreign[0]}); --force "
+                                    "only replaces an earlier demo folder, so choose another --out")
     survey = example_survey_path()
     out.parent.mkdir(parents=True, exist_ok=True)
     tmp = Path(tempfile.mkdtemp(prefix=f".{out.name}.", suffix=".partial", dir=out.parent))
