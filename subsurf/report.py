@@ -594,12 +594,16 @@ def _summary(data) -> str:
         body.insert(0, f"<p>{_e(desc)}</p>")
     maps = data.get("maps") or {}
     if maps.get("summary"):
+        # "reaches" means >= 6 dB to spare everywhere else in the report; margin >= 0 is only "marginal"
         best = {}
         for r in maps["summary"]:
-            if r["scenario"] not in best or r["reach_pct"] > best[r["scenario"]]["reach_pct"]:
+            key = (r["reach_headroom_pct"], r["reach_pct"])
+            if r["scenario"] not in best or key > (best[r["scenario"]]["reach_headroom_pct"],
+                                                   best[r["scenario"]]["reach_pct"]):
                 best[r["scenario"]] = r
-        text = "; ".join(f"{sc}: {r['antenna']} reaches the target over {r['reach_pct']:.0f} % of the area"
-                         for sc, r in best.items())
+        text = "; ".join(f"{sc}: {r['antenna']} reaches the target with 6 dB to spare over "
+                         f"{r['reach_headroom_pct']:.0f} % of the area (at least marginally over "
+                         f"{r['reach_pct']:.0f} %)" for sc, r in best.items())
         body.append(f"<p><strong>Across the site</strong> (feasibility maps, best antenna per scenario): "
                     f"{_e(text)}. The site-median figures above can differ from parts of the site; "
                     '<a href="#maps">see the maps</a>.</p>')

@@ -105,3 +105,17 @@ def test_demo_json_output(tmp_path):
     assert payload["report"].endswith("report.html")
     assert "report.html" in payload["files"]
     assert payload["caution"]
+
+
+def test_demo_report_site_sentence_uses_the_6db_rule(demo):
+    """The report's 'across the site' line quotes, per scenario, the best area with 6 dB to spare from the
+    map's own summary.json (the report calls only margin >= 6 dB 'reaches')."""
+    import re
+
+    cwd, _ = demo
+    rows = json.loads((cwd / "subsurf-demo" / "maps" / "summary.json").read_text(encoding="utf-8"))["summary"]
+    page = (cwd / "subsurf-demo" / "report.html").read_text(encoding="utf-8")
+    for sc in ("dry", "wet"):
+        best = max(r["reach_headroom_pct"] for r in rows if r["scenario"] == sc)
+        m = re.search(rf"{sc}: \S+ reaches the target with 6 dB to spare over (\d+) %", page)
+        assert m and int(m.group(1)) == round(best), sc
