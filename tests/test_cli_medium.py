@@ -76,3 +76,23 @@ def test_help_is_quick_and_lists_commands():
     p = run("--help")
     assert p.returncode == 0
     assert "medium" in p.stdout and "examples:" in p.stdout
+
+
+def test_medium_soil_file_with_flag_names_matches_the_flags(tmp_path):
+    """A --soil file keyed like the flags (pore_water_ec, temp; flag units) gives the flags' result."""
+    f = tmp_path / "soil.toml"
+    f.write_text('[soil]\ntexture = "loam"\nmoisture = "20 %"\npore_water_ec = 50\ntemp = 12\n')
+    by_file = run("medium", "--soil", str(f), "--freq", "250", "--json")
+    by_flags = run("medium", "--texture", "loam", "--moisture", "20 %", "--pore-water-ec", "50", "--temp", "12",
+                   "--freq", "250", "--json")
+    assert by_file.returncode == 0, by_file.stderr
+    assert json.loads(by_file.stdout)["rows"] == json.loads(by_flags.stdout)["rows"]
+
+
+def test_medium_soil_file_moisture_with_unit_is_labelled(tmp_path):
+    """moisture = "20 %" in a --soil file is read (not an internal error) and labelled θ=20 %."""
+    f = tmp_path / "soil.toml"
+    f.write_text('texture = "loam"\nmoisture = "20 %"\n')
+    p = run("medium", "--soil", str(f), "--freq", "250")
+    assert p.returncode == 0, p.stderr
+    assert p.stdout.splitlines()[0] == "Ground: loam, θ=20 %"

@@ -41,8 +41,9 @@ def add_medium_arguments(parser: argparse.ArgumentParser) -> None:
     g.add_argument("--eps", metavar="EPS", help="relative permittivity ε' of the ground (direct); "
                    "a complex value '9-0.5j' gives ε' − jε''")
     g.add_argument("--sigma", metavar="Q", help="DC conductivity with the direct --eps (bare number: mS/m)")
-    g.add_argument("--soil", metavar="FILE", help="TOML file of soil facts (keys as the soil flags, "
-                   "underscored: moisture, texture, sand, clay, bulk_density, ...)")
+    g.add_argument("--soil", metavar="FILE", help="TOML file of soil facts, keys as the soil flags "
+                   "underscored and bare numbers in the same units, e.g. texture = \"loam\", "
+                   "moisture = \"20 %%\", pore_water_ec = 50, temp = 12; flags given as well override it")
     g.add_argument("--texture", help="soil texture preset from configs/textures.toml (e.g. loam, clay, sand)")
     g.add_argument("--moisture", metavar="Q", help="volumetric water content (bare number: fraction; or '20 %%')")
     g.add_argument("--sand", metavar="Q", help="sand fraction (bare number: fraction; or '60 %%')")
@@ -67,6 +68,17 @@ _SOIL_FLAGS = {
     "salinity": ("pore_water_salinity_psu", "salinity", "dimensionless"),
     "pore_water_ec": ("pore_water_ec25", "conductivity", "mS/m"),
     "tds": ("pore_water_tds", "mass_concentration", "mg/L"),
+}
+
+
+# Keys of a --soil file that are flag names (or the survey file's names) rather than Soil
+# fields: they read bare numbers in the flag's unit, like the flag itself.
+_SOIL_FILE_KEYS = {
+    "temp": "temp",
+    "temperature": "temp",
+    "salinity": "salinity",
+    "pore_water_ec": "pore_water_ec",
+    "tds": "tds",
 }
 
 
@@ -114,8 +126,19 @@ def medium_from_args(args, *, required: bool = True) -> Medium | None:
             raise InputError(f"--soil: file not found: {path}") from None
         except tomllib.TOMLDecodeError as exc:
             raise InputError(f"{path}: not valid TOML: {exc}") from None
-        mapping.update(data.get("soil", data))
         source = str(path)
+        table = data.get("soil", data)
+        if not isinstance(table, dict):
+            raise InputError(f"{path}: 'soil' must be a table of soil facts, got {table!r}")
+        for key, val in table.items():
+            flag = _SOIL_FILE_KEYS.get(key)
+            if flag is None:
+                mapping[key] = val  # a Soil field name: SI bare numbers (checked by Soil.from_mapping)
+                continue
+            fld, kind, unit = _SOIL_FLAGS[flag]
+            if isinstance(val, bool) or not isinstance(val, (int, float, str)):
+                raise InputError(f"{path}: field '{key}' must be a number or a string with unit, got {val!r}")
+            mapping[fld] = parse_quantity(val, kind, default_unit=unit, name=f"{path}: field '{key}'")
     if args.texture:
         mapping["texture"] = args.texture
     if args.model:
@@ -130,5 +153,9 @@ def medium_from_args(args, *, required: bool = True) -> Medium | None:
     parts = []
     if mapping.get("texture"):
         parts.append(str(mapping["texture"]))
-    parts.append(f"θ={float(mapping['moisture']) * 100:g} %")
+    import numpy as np
+
+    theta = np.asarray(soil.moisture, dtype=float)
+    parts.append(f"θ={float(theta) * 100:g} %" if theta.ndim == 0
+                 else f"θ={theta.min() * 100:g}-{theta.max() * 100:g} %")
     return Medium(label=", ".join(parts), facts=dict(mapping), soil=soil)
