@@ -103,6 +103,11 @@ def main(argv: list[str] | None = None) -> int:
     except KeyboardInterrupt:
         print(f"subsurf {args.command}: interrupted", file=sys.stderr)
         return 130
+    except BrokenPipeError:  # the reader went away (e.g. `subsurf choose --json | head`): not an error of ours
+        import os
+
+        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())  # no second error at exit flush
+        return 0
     except Exception as exc:  # noqa: BLE001 - last-resort one-line report
         if args.debug:
             raise

@@ -96,3 +96,18 @@ def test_medium_soil_file_moisture_with_unit_is_labelled(tmp_path):
     p = run("medium", "--soil", str(f), "--freq", "250")
     assert p.returncode == 0, p.stderr
     assert p.stdout.splitlines()[0] == "Ground: loam, θ=20 %"
+
+
+def test_closed_output_pipe_is_not_an_internal_error():
+    """Output into a pipe whose reader has gone (as with `| head`) ends quietly, not as an internal error."""
+    import os
+
+    r, w = os.pipe()
+    os.close(r)  # the reader is gone before anything is written: every write gets EPIPE
+    try:
+        p = subprocess.run([sys.executable, "-m", "subsurf", "medium", "--eps", "9", "--json"],
+                           stdout=w, stderr=subprocess.PIPE, text=True, timeout=120)
+    finally:
+        os.close(w)
+    assert p.returncode == 0
+    assert p.stderr == ""
