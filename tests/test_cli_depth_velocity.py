@@ -127,3 +127,14 @@ def test_velocity_too_few_picks(tmp_path):
     p.write_text("line,target,distance_m,twt_ns\nA,T,0,10\nA,T,1,9\nA,T,2,10\n")
     r = _run("velocity", "--picks", str(p))
     assert r.returncode == 1 and "target 'T'" in r.stderr and "at least 4" in r.stderr
+
+
+@pytest.mark.parametrize("flags", [["--velocity", "10"], ["--velocity", "-0.1"],
+                                   ["--layer", "0.5 m, 0.5 m/ns", "--layer", "-, 0.1 m/ns"]])
+def test_depth_velocity_outside_zero_to_c_names_flag_and_range(flags):
+    """A velocity above c (0.2998 m/ns, scipy.constants) or <= 0 is one line naming the flag and the range in m/ns."""
+    p = _run("depth", "--twt", "25", *flags)
+    assert p.returncode == 1
+    lines = p.stderr.strip().splitlines()
+    assert len(lines) == 1
+    assert flags[0] in lines[0] and "0.2998 m/ns" in lines[0]

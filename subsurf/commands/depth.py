@@ -44,6 +44,18 @@ def add_arguments(parser) -> None:
     o.add_argument("--force", action="store_true", help="overwrite existing outputs")
 
 
+def _check_velocity(v: float, name: str, text) -> float:
+    """Refuse a velocity outside (0, c] at the edge, naming the flag and the range in m/ns."""
+    from scipy.constants import c
+
+    from ..errors import InputError
+
+    if not (0 < v <= c * (1 + 1e-9)):
+        raise InputError(f"{name} must be > 0 and at most {c * 1e-9:.4f} m/ns (the speed of light in air), "
+                         f"got {text!r} = {v * 1e-9:g} m/ns")
+    return v
+
+
 def _velocity_model(args, q):
     from ..errors import InputError
 
@@ -53,7 +65,8 @@ def _velocity_model(args, q):
         raise InputError("give the velocity as exactly one of --velocity, --velocity-from or --layer"
                          + (f" (got {', '.join(given)})" if given else ""))
     if args.velocity:
-        return "homogeneous", q(args.velocity, "velocity", "m/ns", "--velocity"), \
+        v = _check_velocity(q(args.velocity, "velocity", "m/ns", "--velocity"), "--velocity", args.velocity)
+        return "homogeneous", v, \
             q(args.velocity_se, "velocity", "m/ns", "--velocity-se"), "--velocity"
     if args.velocity_from:
         import json
@@ -84,7 +97,8 @@ def _velocity_model(args, q):
                                  "thickness")
         else:
             thick.append(q(parts[0], "length", "m", f"--layer {k + 1} thickness"))
-        vel.append(q(parts[1], "velocity", "m/ns", f"--layer {k + 1} velocity"))
+        vel.append(_check_velocity(q(parts[1], "velocity", "m/ns", f"--layer {k + 1} velocity"),
+                                   f"--layer {k + 1} velocity", parts[1]))
         se.append(q(parts[2], "velocity", "m/ns", f"--layer {k + 1} SE") if len(parts) == 3 else 0.0)
     return "layered", LayeredEarth.from_thicknesses(vel, thick, velocity_se=se), None, "--layer"
 
@@ -149,7 +163,8 @@ def run(args) -> int:
     problems = []
     for i, (row, col) in enumerate(where):
         if twt[i] < 0:
-            msg = f"negative two-way time {twt[i] * 1e9:g} ns"
+            msg = (f"negative two-way time {twt[i] * 1e9:g} ns; times are counted from the record start "
+                   "and must be >= 0")
         elif tau[i] < 0:
             msg = f"{twt[i] * 1e9:g} ns is before time zero ({tz * 1e9:g} ns)"
         elif not v_min_ok[i]:
