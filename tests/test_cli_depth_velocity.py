@@ -138,3 +138,11 @@ def test_depth_velocity_outside_zero_to_c_names_flag_and_range(flags):
     lines = p.stderr.strip().splitlines()
     assert len(lines) == 1
     assert flags[0] in lines[0] and "0.2998 m/ns" in lines[0]
+
+
+def test_velocity_radius_typo_mentions_fit():
+    """A mistyped --radius ('fitt') is one line that names the 'fit' choice besides a length."""
+    p = _run("velocity", "--picks", str(EXAMPLES / "fictional_hyperbolas.csv"), "--radius", "fitt")
+    assert p.returncode == 1
+    assert len(p.stderr.strip().splitlines()) == 1
+    assert "--radius" in p.stderr and "'fit'" in p.stderr

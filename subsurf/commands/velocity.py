@@ -81,7 +81,13 @@ def run(args) -> int:
     else:
         offset = q(args.offset, "length", "m", "--offset")
         tz = q(args.time_zero, "time", "ns", "--time-zero")
-        radius = None if str(args.radius).strip().lower() == "fit" else q(args.radius, "length", "m", "--radius")
+        if str(args.radius).strip().lower() == "fit":
+            radius = None
+        else:
+            try:
+                radius = q(args.radius, "length", "m", "--radius")
+            except InputError as exc:
+                raise InputError(f"{exc}, or 'fit' to fit the radius") from None
         method = args.method
         if method == "auto":
             from pathlib import Path
