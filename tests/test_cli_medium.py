@@ -111,3 +111,11 @@ def test_closed_output_pipe_is_not_an_internal_error():
         os.close(w)
     assert p.returncode == 0
     assert p.stderr == ""
+
+
+def test_medium_bare_moisture_above_one_suggests_percent():
+    """--moisture 20 (a percentage without '%') is one line naming the 0-1 range and suggesting '20 %'."""
+    p = run("medium", "--texture", "loam", "--moisture", "20")
+    assert p.returncode == 1
+    assert len(p.stderr.strip().splitlines()) == 1
+    assert "--moisture" in p.stderr and "between 0 and 1" in p.stderr and "'20 %'" in p.stderr

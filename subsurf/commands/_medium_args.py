@@ -146,7 +146,12 @@ def medium_from_args(args, *, required: bool = True) -> Medium | None:
     for attr, (fld, kind, unit) in _SOIL_FLAGS.items():
         val = getattr(args, attr, None)
         if val is not None:
-            mapping[fld] = parse_quantity(val, kind, default_unit=unit, name="--" + attr.replace("_", "-"))
+            flag = "--" + attr.replace("_", "-")
+            mapping[fld] = parse_quantity(val, kind, default_unit=unit, name=flag)
+            if kind == "fraction" and mapping[fld] > 1:
+                raise InputError(f"{flag} must be a fraction between 0 and 1, got {val!r}; "
+                                 f"for a percentage write '{val} %'" if str(val).strip().replace(".", "").isdigit()
+                                 else f"{flag} must be between 0 and 100 %, got {val!r}")
     if "moisture" not in mapping:
         raise InputError("soil description needs a moisture (--moisture, e.g. '20 %')")
     soil = Soil.from_mapping(mapping, source=source)

@@ -28,7 +28,7 @@ def add_arguments(parser) -> None:
     c.add_argument("--depth-sd", metavar="D", default="0", help="its standard deviation (bare number: m)")
     c.add_argument("--twt", metavar="T", help="the target's two-way time as on the record (bare number: ns)")
     c.add_argument("--pick-sd", metavar="T", default="0", help="standard deviation of the pick (bare number: ns)")
-    c.add_argument("--time-zero-sd", metavar="T", default="0", help="standard deviation of time zero (bare: ns)")
+    c.add_argument("--time-zero-sd", metavar="T", default="0", help="standard deviation of time zero (bare number: ns)")
     o = parser.add_argument_group("outputs")
     o.add_argument("--out-json", metavar="FILE", help="write the result as JSON (read by 'subsurf depth "
                    "--velocity-from')")
