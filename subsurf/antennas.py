@@ -247,13 +247,15 @@ def make_target(kind: str, *, depth_m=None, size_m=None, material: str | None = 
     if key not in table:
         raise InputError(f"unknown target material {material!r}; available: {', '.join(material_names())}")
     rec = table[key]
+    asked = str(material).strip().lower().replace(" ", "_").replace("-", "_")
+    label = key if asked == key else f"{asked} (as {key})"  # show what an alias stands for
     if rec["perfect_conductor"]:
-        return Target(kind=kind, depth_m=depth_m, size_m=size_m, conductor=True, material=key)
+        return Target(kind=kind, depth_m=depth_m, size_m=size_m, conductor=True, material=label)
     e_lo, e_hi = rec["relative_permittivity"]
     s_lo, s_hi = rec["conductivity"]
     s = math.sqrt(s_lo * s_hi) if s_lo > 0 else 0.5 * (s_lo + s_hi)
     return Target(kind=kind, depth_m=depth_m, size_m=size_m, eps=complex(0.5 * (e_lo + e_hi)), sigma=s,
-                  material=key)
+                  material=label)
 
 
 def rank_antennas(electrical, antennas: list[Antenna], target: Target, *, surface_loss_db=None,

@@ -106,3 +106,12 @@ def test_rows_agree_with_direct_budget():
     direct = D.max_depth(9.0, 0.004, a.centre_freq_hz, a.performance_db + 10 * math.log10(a.stacks),
                          target=t, gain=a.gain)
     assert row["max_depth_m"] == pytest.approx(float(direct), rel=1e-12)
+
+
+def test_material_alias_is_shown_with_what_it_stands_for():
+    """An alias such as plastic_pipe is labelled with the table entry it uses, so the input is visibly honoured."""
+    from subsurf.antennas import make_target
+
+    t = make_target("line", depth_m=1.0, size_m=0.1, material="plastic_pipe")
+    assert t.material == "plastic_pipe (as air)"
+    assert make_target("line", depth_m=1.0, size_m=0.1, material="metal").material == "metal"

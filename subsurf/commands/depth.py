@@ -132,7 +132,7 @@ def run(args) -> int:
         tz_source = f"direct air wave at {t_direct * 1e9:g} ns"
     else:
         tz = q(args.time_zero, "time", "ns", "--time-zero") if args.time_zero else 0.0
-        tz_source = "--time-zero" if args.time_zero else "none (0)"
+        tz_source = "--time-zero" if args.time_zero else "not given: times taken as already corrected"
     tz_sd = q(args.time_zero_sd, "time", "ns", "--time-zero-sd")
     pick_sd_default = q(args.pick_sd, "time", "ns", "--pick-sd")
     for name, val in (("--time-zero-sd", tz_sd), ("--pick-sd", pick_sd_default)):
