@@ -148,17 +148,6 @@ def open_region(path, *, chunk: int = 512, quantities=None):
 
 # --- the chain on chunks ----------------------------------------------------------------
 
-@dataclass(frozen=True)
-class _ChainAntenna:
-    """Picklable antenna record for the chain (effective performance already applied)."""
-
-    name: str
-    centre_freq_hz: float
-    performance_db: float
-    gain: float = 1.0
-    bandwidth_hz: float | None = None
-
-
 def chain_antennas(antennas, *, band_resolution: bool):
     """Antenna records for :func:`subsurf.feasibility.evaluate` (stacking gain folded in).
 
@@ -166,12 +155,14 @@ def chain_antennas(antennas, *, band_resolution: bool):
     a quarter of the centre-frequency wavelength — the received-spectrum version costs
     about three times the rest of the chain and is asked for only with that layer.
     """
+    from .feasibility import AntennaParameters  # the chain's own picklable antenna record
+
     out = []
     for a in antennas:
         perf = getattr(a, "effective_performance_db", a.performance_db)
-        out.append(_ChainAntenna(name=a.name, centre_freq_hz=float(a.centre_freq_hz), performance_db=float(perf),
-                                 gain=float(getattr(a, "gain", 1.0) or 1.0),
-                                 bandwidth_hz=getattr(a, "bandwidth_hz", None) if band_resolution else None))
+        out.append(AntennaParameters(name=a.name, centre_freq_hz=float(a.centre_freq_hz), performance_db=float(perf),
+                                     gain=float(getattr(a, "gain", 1.0) or 1.0),
+                                     bandwidth_hz=getattr(a, "bandwidth_hz", None) if band_resolution else None))
     return out
 
 
