@@ -20,10 +20,10 @@ import time
 import numpy as np
 from scipy.optimize import brentq
 
-from subsurf import detection
-from subsurf.antennas import get_antenna, make_target
-from subsurf.feasibility import evaluate
-from subsurf.soil import Soil
+from subsurf.detection import budget as detection
+from subsurf.ground import Soil
+from subsurf.planning.antennas import get_antenna, make_target
+from subsurf.site.feasibility import evaluate
 
 ANTENNAS = ["lowband-100", "midband-250", "midband-500", "highband-1000"]
 

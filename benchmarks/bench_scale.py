@@ -44,9 +44,9 @@ def machine() -> str:
 
 
 def setup(n_side: int):
-    from subsurf import scale
-    from subsurf.antennas import load_catalogue, make_target
-    from subsurf.synthetic import synthetic_region
+    from subsurf.planning.antennas import load_catalogue, make_target
+    from subsurf.site import regional as scale
+    from subsurf.site.synthetic import synthetic_region
 
     antennas = scale.chain_antennas(list(load_catalogue().values()), band_resolution=False)
     target = make_target("planar", depth_m=DEPTH, material="water_table")
@@ -65,7 +65,7 @@ def best_cpu_time(fn, repeat: int) -> tuple[float, object]:
 
 
 def chain_rate(antennas, target, values):
-    from subsurf.feasibility import evaluate
+    from subsurf.site.feasibility import evaluate
 
     def run():
         return evaluate(values, antennas, target=target, target_depth_m=DEPTH, texture="loam")
@@ -77,9 +77,9 @@ def loop_rate(antennas, target, values, n_cells: int, chain_out):
     """Per cell and antenna: a scalar Soil, its (eps, sigma), brentq on L(d) = P."""
     from scipy.optimize import brentq
 
-    from subsurf.detection import two_way_loss_db
-    from subsurf.feasibility import _clip_moisture
-    from subsurf.soil import Soil
+    from subsurf.detection.budget import two_way_loss_db
+    from subsurf.ground import Soil
+    from subsurf.site.feasibility import _clip_moisture
 
     rng = np.random.default_rng(7)
     flat = {k: v.ravel() for k, v in _clip_moisture(values, texture="loam").items()}
@@ -120,9 +120,9 @@ def floor_time(antennas, chain_out):
 
 def child(n_side: int, chunk: int, out: str) -> None:
     """One chunked run in this (fresh) process; prints JSON."""
-    from subsurf import scale
-    from subsurf.antennas import load_catalogue, make_target
-    from subsurf.synthetic import synthetic_region
+    from subsurf.planning.antennas import load_catalogue, make_target
+    from subsurf.site import regional as scale
+    from subsurf.site.synthetic import synthetic_region
 
     antennas = list(load_catalogue().values())
     target = make_target("planar", depth_m=DEPTH, material="water_table")

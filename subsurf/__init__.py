@@ -19,9 +19,10 @@ __version__ = "0.1.0"
 __all__ = ["SubsurfError", "InputError", "ModelRangeWarning", "config_dir", "__version__"]
 
 _SUBMODULES = {
-    "soil", "propagation", "detection", "antennas", "acquisition", "velocity", "grid",
-    "feasibility", "survey", "plot", "report", "cli", "units", "errors", "layers",
-    "configs", "outputs", "scale", "picks",
+    # layers, in the direction of the data flow
+    "ground", "waves", "detection", "planning", "interpretation", "site", "io", "cli",
+    # public paths named in the design, and shared helpers
+    "soil", "propagation", "velocity", "units", "errors",
 }
 
 

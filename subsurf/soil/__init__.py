@@ -1,67 +1,8 @@
-"""Site facts → relative complex permittivity ε(f) and DC conductivity σ of soils.
+"""Public path of the soil functions named in the design (``subsurf.soil.*``).
 
-Modules: :mod:`.water` (free and saline water), :mod:`.mixing` (Topp 1980, CRIM /
-Lichtenecker–Rother), :mod:`.conductivity` (pore-water EC, Archie, Waxman–Smits),
-:mod:`.peplinski` (Peplinski et al. 1995), :mod:`.models` (the :class:`Soil` type) and
-:mod:`.presets` (loaders of the bundled texture and material tables).
-
-Permittivities follow ε = ε' − jε'' with ε'' >= 0; all functions broadcast over numpy
-arrays and accept scalars; SI units throughout.
+The home of these functions is :mod:`subsurf.ground`; this module only re-exports them so
+that scripts written against ``subsurf.soil`` keep working.
 """
 
-from .conductivity import (
-    archie_conductivity,
-    cec_from_clay,
-    ec25_from_ec,
-    ec25_from_tds,
-    ec_from_ec25,
-    qv_from_cec,
-    salinity_from_ec25,
-    waxman_smits_b,
-    waxman_smits_conductivity,
-)
-from .mixing import (
-    crim_permittivity,
-    lichtenecker_permittivity,
-    porosity_from_density,
-    topp_moisture,
-    topp_permittivity,
-)
-from .models import Soil
-from .peplinski import peplinski_effective_conductivity, peplinski_permittivity
-from .presets import load_materials, load_textures, texture_preset
-from .water import (
-    salinity_from_conductivity,
-    water_conductivity,
-    water_permittivity,
-    water_relaxation_time,
-    water_static_permittivity,
-)
-
-__all__ = [
-    "Soil",
-    "water_permittivity",
-    "water_static_permittivity",
-    "water_relaxation_time",
-    "water_conductivity",
-    "salinity_from_conductivity",
-    "topp_permittivity",
-    "topp_moisture",
-    "crim_permittivity",
-    "lichtenecker_permittivity",
-    "porosity_from_density",
-    "archie_conductivity",
-    "waxman_smits_conductivity",
-    "waxman_smits_b",
-    "qv_from_cec",
-    "cec_from_clay",
-    "ec_from_ec25",
-    "ec25_from_ec",
-    "ec25_from_tds",
-    "salinity_from_ec25",
-    "peplinski_permittivity",
-    "peplinski_effective_conductivity",
-    "load_textures",
-    "load_materials",
-    "texture_preset",
-]
+from ..ground import *  # noqa: F403
+from ..ground import __all__  # noqa: F401

@@ -8,7 +8,7 @@ from pathlib import Path
 
 import numpy as np
 
-from subsurf.velocity import cmp_twt, hyperbola_twt
+from subsurf.interpretation.velocity import cmp_twt, hyperbola_twt
 
 HERE = Path(__file__).resolve().parent
 rng = np.random.default_rng(20240607)

@@ -1,0 +1,281 @@
+"""``subsurf depth``: two-way travel time to depth, with uncertainty, for single values or pick tables."""
+
+from __future__ import annotations
+
+HELP = "convert two-way travel times (single values or a pick CSV) to depths with uncertainty"
+EXAMPLE = """subsurf depth --twt "18.5 ns" --velocity "0.095 m/ns" --velocity-se "0.003 m/ns" --offset "0.14 m"
+subsurf depth --picks surveys/picks/fictional_utility_picks.csv --velocity "0.095 m/ns" \\
+    --velocity-se "0.003 m/ns" --time-zero "2 ns" --time-zero-sd "0.3 ns" --offset "0.14 m" \\
+    --out-csv depths.csv --out-geojson depths.geojson
+subsurf depth --twt 25 --twt 40 --layer "0.6 m, 0.11 m/ns, 0.004 m/ns" --layer "-, 0.08 m/ns, 0.004 m/ns\""""
+
+
+def add_arguments(parser) -> None:
+    g = parser.add_argument_group("travel times")
+    g.add_argument("--twt", action="append", metavar="T",
+                   help="a two-way travel time as on the record (bare number: ns); repeat for several")
+    g.add_argument("--picks", metavar="CSV", help="pick table (columns: line, twt_ns, and distance_m or "
+                   "easting_m/northing_m or lon_deg/lat_deg; optional surface_elev_m, pick_sd_ns)")
+    g.add_argument("--pick-sd", metavar="T", default="0",
+                   help="standard deviation of a pick where the table gives none (bare number: ns; default 0)")
+    g.add_argument("--time-zero", metavar="T", help="time zero to subtract from every time (bare number: ns)")
+    g.add_argument("--direct-wave", metavar="T", help="record time of the direct air wave; time zero = T − "
+                   "offset/c (bare number: ns); instead of --time-zero")
+    g.add_argument("--time-zero-sd", metavar="T", default="0",
+                   help="standard deviation of time zero (bare number: ns; default 0)")
+    g.add_argument("--offset", metavar="L", default="0", help="antenna separation (bare number: m; default 0)")
+    v = parser.add_argument_group("velocity (one of)")
+    v.add_argument("--velocity", metavar="V", help="ground velocity (bare number: m/ns)")
+    v.add_argument("--velocity-se", metavar="V", default="0",
+                   help="standard error of --velocity (bare number: m/ns; default 0)")
+    v.add_argument("--velocity-from", metavar="JSON",
+                   help="velocity and standard error from a file written by 'subsurf velocity --out-json'")
+    v.add_argument("--layer", action="append", metavar="'H, V[, SE]'",
+                   help="a layer from the top: thickness (bare: m; '-' for the bottom half-space), interval "
+                   "velocity and its standard error (bare: m/ns); repeat from top to bottom")
+    v.add_argument("--draws", type=int, default=2000, help="Monte Carlo draws for a layered earth (default 2000)")
+    v.add_argument("--seed", type=int, default=0, help="Monte Carlo seed (default 0)")
+    o = parser.add_argument_group("coordinates and outputs")
+    o.add_argument("--coords-crs", metavar="CRS", help="CRS of the pick table's coordinates (EPSG code or WKT); "
+                   "overrides a '# crs:' comment line in the file")
+    o.add_argument("--crs", metavar="CRS", help="the survey's CRS for outputs (default: the coordinates' CRS)")
+    o.add_argument("--out-csv", metavar="FILE", help="write the depths as CSV")
+    o.add_argument("--out-geojson", metavar="FILE", help="write the depths as GeoJSON points (needs coordinates)")
+    o.add_argument("--force", action="store_true", help="overwrite existing outputs")
+
+
+def _check_velocity(v: float, name: str, text) -> float:
+    """Refuse a velocity outside (0, c] at the edge, naming the flag and the range in m/ns."""
+    from scipy.constants import c
+
+    from ..errors import InputError
+
+    if not (0 < v <= c * (1 + 1e-9)):
+        raise InputError(f"{name} must be > 0 and at most {c * 1e-9:.4f} m/ns (the speed of light in air), "
+                         f"got {text!r} = {v * 1e-9:g} m/ns")
+    return v
+
+
+def _velocity_model(args, q):
+    from ..errors import InputError
+
+    given = [n for n, a in (("--velocity", args.velocity), ("--velocity-from", args.velocity_from),
+                            ("--layer", args.layer)) if a]
+    if len(given) != 1:
+        raise InputError("give the velocity as exactly one of --velocity, --velocity-from or --layer"
+                         + (f" (got {', '.join(given)})" if given else ""))
+    if args.velocity:
+        v = _check_velocity(q(args.velocity, "velocity", "m/ns", "--velocity"), "--velocity", args.velocity)
+        return "homogeneous", v, \
+            q(args.velocity_se, "velocity", "m/ns", "--velocity-se"), "--velocity"
+    if args.velocity_from:
+        import json
+        from pathlib import Path
+
+        p = Path(args.velocity_from)
+        try:
+            data = json.loads(p.read_text(encoding="utf-8"))
+            fit = data["fits"][0] if "fits" in data else data
+            v, se = float(fit["velocity_m_per_ns"]) * 1e9, float(fit["velocity_se_m_per_ns"]) * 1e9
+        except FileNotFoundError:
+            raise InputError(f"--velocity-from: file not found: {p}") from None
+        except (ValueError, KeyError, IndexError, TypeError):
+            raise InputError(f"--velocity-from: {p} is not a 'subsurf velocity' JSON result "
+                             "(needs velocity_m_per_ns and velocity_se_m_per_ns)") from None
+        return "homogeneous", v, se, str(p)
+    from ..interpretation.layers import LayeredEarth
+
+    vel, se, thick = [], [], []
+    for k, spec in enumerate(args.layer):
+        parts = [s.strip() for s in spec.split(",")]
+        if len(parts) not in (2, 3):
+            raise InputError(f"--layer {spec!r}: write 'THICKNESS, VELOCITY[, SE]', e.g. '0.6 m, 0.11 m/ns, 0.004 m/ns'")
+        last = k == len(args.layer) - 1
+        if last:
+            if parts[0] not in ("-", "inf", "half-space"):
+                raise InputError(f"--layer {spec!r}: the last layer is the half-space below; write '-' as its "
+                                 "thickness")
+        else:
+            thick.append(q(parts[0], "length", "m", f"--layer {k + 1} thickness"))
+        vel.append(_check_velocity(q(parts[1], "velocity", "m/ns", f"--layer {k + 1} velocity"),
+                                   f"--layer {k + 1} velocity", parts[1]))
+        se.append(q(parts[2], "velocity", "m/ns", f"--layer {k + 1} SE") if len(parts) == 3 else 0.0)
+    return "layered", LayeredEarth.from_thicknesses(vel, thick, velocity_se=se), None, "--layer"
+
+
+def run(args) -> int:
+    import math
+
+    import numpy as np
+
+    from ..errors import InputError
+    from ..interpretation import layers
+    from ..io import picks
+    from ..io.outputs import CAUTION, Column, check_outputs_free, format_table, print_result
+    from ..units import parse_quantity
+
+    def q(text, kind, unit, name):
+        return parse_quantity(text, kind, default_unit=unit, name=name)
+
+    if bool(args.twt) == bool(args.picks):
+        raise InputError("give travel times either as --twt values or as a --picks CSV file (one of them)")
+    outs = [p for p in (args.out_csv, args.out_geojson) if p]
+    check_outputs_free(outs, force=args.force)
+    mode, model, v_se, v_source = _velocity_model(args, q)
+    offset = q(args.offset, "length", "m", "--offset")
+    if offset < 0:
+        raise InputError(f"--offset must be >= 0 m, got {offset:g}")
+    if args.time_zero and args.direct_wave:
+        raise InputError("give time zero either as --time-zero or from --direct-wave, not both")
+    if args.direct_wave:
+        t_direct = q(args.direct_wave, "time", "ns", "--direct-wave")
+        tz = float(layers.time_zero_from_direct_wave(t_direct, offset, wave="air"))
+        tz_source = f"direct air wave at {t_direct * 1e9:g} ns"
+    else:
+        tz = q(args.time_zero, "time", "ns", "--time-zero") if args.time_zero else 0.0
+        tz_source = "--time-zero" if args.time_zero else "not given: times taken as already corrected"
+    tz_sd = q(args.time_zero_sd, "time", "ns", "--time-zero-sd")
+    pick_sd_default = q(args.pick_sd, "time", "ns", "--pick-sd")
+    for name, val in (("--time-zero-sd", tz_sd), ("--pick-sd", pick_sd_default)):
+        if val < 0:
+            raise InputError(f"{name} must be >= 0 ns, got {val * 1e9:g}")
+    if mode == "homogeneous" and v_se < 0:
+        raise InputError(f"--velocity-se must be >= 0, got {v_se * 1e-9:g} m/ns")
+
+    table = None
+    if args.picks:
+        table = picks.read_picks(args.picks, coords_crs=args.coords_crs, kind="depth")
+        twt = table.twt_s
+        sd = np.where(np.isfinite(table.pick_sd_s), table.pick_sd_s, pick_sd_default) \
+            if table.pick_sd_s is not None else np.full(twt.shape, pick_sd_default)
+        where = [(int(r), "twt_ns") for r in table.rows]
+    else:
+        twt = np.array([q(t, "time", "ns", "--twt") for t in args.twt])
+        sd = np.full(twt.shape, pick_sd_default)
+        where = [(None, f"--twt {t}") for t in args.twt]
+
+    # per-pick checks before any arithmetic: before time zero; too short for the separation
+    tau = twt - tz
+    if mode == "homogeneous":
+        v_min_ok = model * tau >= offset * (1 - 1e-12)
+    else:
+        t_min = offset / model.velocity[0]  # direct path through the top layer
+        v_min_ok = tau >= t_min * (1 - 1e-12)
+    problems = []
+    for i, (row, col) in enumerate(where):
+        if twt[i] < 0:
+            msg = (f"negative two-way time {twt[i] * 1e9:g} ns; times are counted from the record start "
+                   "and must be >= 0")
+        elif tau[i] < 0:
+            msg = f"{twt[i] * 1e9:g} ns is before time zero ({tz * 1e9:g} ns)"
+        elif not v_min_ok[i]:
+            msg = (f"{twt[i] * 1e9:g} ns is too short for the antenna separation {offset:g} m "
+                   "(the direct path between the antennas takes longer; no real depth)")
+        else:
+            continue
+        problems.append((row, col, msg))
+    if problems:
+        if table is not None:
+            picks.raise_row_problems(table.path, problems)
+        raise InputError("; ".join(f"{c}: {m}" for _, c, m in problems))
+
+    mc = None
+    if mode == "homogeneous":
+        est = layers.depth_with_uncertainty(twt, model, offset_m=offset, time_zero_s=tz, velocity_se=v_se,
+                                            twt_sd_s=sd, time_zero_sd_s=tz_sd)
+        depth, depth_sd = est.depth, est.depth_sd
+        velocity_text = f"{model * 1e-9:.4g} ± {v_se * 1e-9:.2g} m/ns ({v_source})"
+    else:
+        est = layers.layered_depth_first_order(twt, model, offset_m=offset, time_zero_s=tz, twt_sd_s=sd,
+                                               time_zero_sd_s=tz_sd)
+        mc = layers.layered_depth_monte_carlo(twt, model, offset_m=offset, time_zero_s=tz, twt_sd_s=sd,
+                                              time_zero_sd_s=tz_sd, draws=args.draws, seed=args.seed)
+        depth, depth_sd = est.depth, est.depth_sd
+        velocity_text = "layered: " + "; ".join(
+            (f"{h:g} m" if i < model.thickness.size else "half-space") + f" at {v * 1e-9:.4g} ± {s * 1e-9:.2g} m/ns"
+            for i, (v, s, h) in enumerate(zip(model.velocity, model.velocity_se,
+                                              list(model.thickness) + [math.inf])))
+
+    # coordinates in the survey CRS
+    out_crs = xs = ys = None
+    if table is not None and table.crs is not None:
+        out_crs = picks.parse_crs(args.crs, name="--crs") if args.crs else table.crs
+        xs, ys = picks.transform_xy(table.x, table.y, table.crs, out_crs)
+    elif args.crs:
+        raise InputError("--crs needs a pick table with easting_m/northing_m or lon_deg/lat_deg columns")
+    if args.out_geojson and xs is None:
+        raise InputError("--out-geojson needs coordinates: a pick table with easting_m/northing_m or "
+                         "lon_deg/lat_deg columns and their CRS")
+    geographic = out_crs is not None and out_crs.is_geographic
+    xk, yk = ("lon_deg", "lat_deg") if geographic else ("easting_m", "northing_m")
+
+    rows = []
+    for i in range(twt.size):
+        r = {"twt_ns": twt[i] * 1e9, "tau_ns": tau[i] * 1e9, "depth_m": float(depth[i]),
+             "depth_sd_m": float(depth_sd[i])}
+        if table is not None:
+            r = {"line": table.line[i], "row": int(table.rows[i]), **r}
+            if table.distance_m is not None:
+                r["distance_m"] = float(table.distance_m[i])
+            if xs is not None:
+                r[xk], r[yk] = float(xs[i]), float(ys[i])
+            if table.surface_elev_m is not None and math.isfinite(table.surface_elev_m[i]):
+                r["surface_elev_m"] = float(table.surface_elev_m[i])
+                r["target_elev_m"] = float(table.surface_elev_m[i] - depth[i])
+        if mc is not None:
+            r["depth_mc_sd_m"] = float(mc.depth_sd[i])
+            r["depth_p05_m"] = float(mc.depth_p05[i])
+            r["depth_p95_m"] = float(mc.depth_p95[i])
+        rows.append(r)
+
+    cols = []
+    if table is not None:
+        cols += [Column("line", "line"), Column("row", "row")]
+        if table.distance_m is not None:
+            cols.append(Column("distance_m", "distance", "m", ".2f"))
+        if xs is not None:
+            fmt = ".7f" if geographic else ".2f"
+            cols += [Column(xk, xk.split("_")[0], xk.split("_")[1], fmt), Column(yk, yk.split("_")[0],
+                                                                                 yk.split("_")[1], fmt)]
+    cols += [Column("twt_ns", "twt", "ns", ".2f"), Column("depth_m", "depth", "m", ".3f"),
+             Column("depth_sd_m", "± 1 sd", "m", ".3f")]
+    if mc is not None:
+        cols += [Column("depth_mc_sd_m", "MC sd", "m", ".3f"), Column("depth_p05_m", "MC 5 %", "m", ".3f"),
+                 Column("depth_p95_m", "MC 95 %", "m", ".3f")]
+    if any("target_elev_m" in r for r in rows):
+        cols += [Column("surface_elev_m", "surface", "m", ".2f"), Column("target_elev_m", "target elev.", "m", ".3f")]
+
+    inputs = {"velocity": velocity_text, "offset_m": offset, "time_zero_ns": tz * 1e9, "time_zero_source": tz_source,
+              "time_zero_sd_ns": tz_sd * 1e9, "pick_sd_default_ns": pick_sd_default * 1e9,
+              "uncertainty": "first order (linearised), independent inputs"
+              + (f"; Monte Carlo {mc.draws} draws, seed {mc.seed}, {mc.rejected} rejected" if mc else "")}
+    if out_crs is not None:
+        inputs["crs"] = out_crs.to_string()
+    written = []
+    if args.out_csv:
+        comments = ["subsurf depth output. CAUTION: " + CAUTION, "velocity: " + velocity_text]
+        if out_crs is not None:
+            comments.append(f"crs: {out_crs.to_string()}")
+        ccols = [(c.key, c.fmt if c.fmt else "") for c in cols]
+        ccols = [(k, ".4f" if k.startswith("depth") or k == "target_elev_m" else f) for k, f in ccols]
+        picks.write_csv(args.out_csv, rows, ccols, force=args.force, comments=comments)
+        written.append(args.out_csv)
+    if args.out_geojson:
+        props = [{k: v for k, v in r.items() if k not in (xk, yk)} for r in rows]
+        picks.write_geojson(args.out_geojson, xs, ys, props, out_crs, force=args.force,
+                            collection_properties={"caution": CAUTION, "velocity": velocity_text,
+                                                   "generator": "subsurf depth"})
+        written.append(args.out_geojson)
+
+    payload = {"caution": CAUTION, "inputs": inputs, "picks": rows, "written": written}
+    text = [format_table(rows, cols, title=f"Depths ({len(rows)} pick{'s' if len(rows) != 1 else ''})"), "",
+            f"velocity: {velocity_text}",
+            f"antenna separation: {offset:g} m; time zero: {tz * 1e9:g} ± {tz_sd * 1e9:g} ns ({tz_source})",
+            f"uncertainty: {inputs['uncertainty']}"]
+    if out_crs is not None:
+        text.append(f"coordinates in {out_crs.name} ({out_crs.to_string()})")
+    if written:
+        text.append("wrote: " + ", ".join(written))
+    text += ["", "CAUTION: " + CAUTION]
+    print_result(payload, "\n".join(text), as_json=args.json)
+    return 0

@@ -1,0 +1,225 @@
+"""``subsurf region``: feasibility maps over a whole region, chunk by chunk (dask).
+
+The input is a regional soil raster (NetCDF, read lazily) or a seeded synthetic region
+generated per chunk; the output is a CF NetCDF map written tile by tile, so memory is
+bounded by the chunk size, not by the region.  Needs the ``scale`` extra (dask,
+distributed).
+"""
+
+from __future__ import annotations
+
+HELP = "feasibility maps over a regional soil raster (or a synthetic region), chunk by chunk with dask"
+EXAMPLE = """subsurf region --synthetic 4000x3000 --target planar --depth 1.5 --out region-map.nc
+subsurf region --synthetic 20000x20000 --write-soil region-soil.nc
+subsurf region --soil region-soil.nc --target line --depth 1 --size "20 cm" --material metal --out map.nc --chunk 1024
+subsurf region --soil region-soil.nc --target planar --depth 2 --out map.nc --scheduler tcp://scheduler.example.org:8786"""
+
+
+def add_arguments(parser) -> None:
+    g = parser.add_argument_group("soil input (one of)")
+    g.add_argument("--soil", metavar="FILE", help="regional soil raster (NetCDF) with variables named as the "
+                   "survey quantities (moisture required; pore_water_ec, clay, sand, salinity, temperature, "
+                   "bulk_density optional), dims y/x, CF grid mapping, 'units' where not SI")
+    g.add_argument("--synthetic", metavar="NXxNY", help="generate a seeded synthetic region of NX by NY cells "
+                   "(smooth random moisture, pore-water EC and clay; invented data) instead of reading --soil")
+    g.add_argument("--seed", type=int, default=0, help="seed of the synthetic region (default 0)")
+    g.add_argument("--cell-size", metavar="Q", default="25 m", help="synthetic cell size (default 25 m)")
+    g.add_argument("--nodata-fraction", type=float, default=0.02,
+                   help="about this fraction of synthetic cells is no data, e.g. open water (default 0.02)")
+    g.add_argument("--write-soil", metavar="FILE", help="with --synthetic: write the synthetic soil raster "
+                   "(float32 NetCDF, chunk by chunk) to FILE")
+    t = parser.add_argument_group("target")
+    t.add_argument("--target", choices=["planar", "point", "line"],
+                   help="planar interface, point (void, boulder, drum) or line (pipe, cable, duct)")
+    t.add_argument("--depth", metavar="Q", help="depth to the top of the target (bare number: m)")
+    t.add_argument("--size", metavar="Q", help="diameter of a point or line target (bare number: m)")
+    t.add_argument("--material", metavar="NAME", help="target material from configs/materials.toml "
+                   "(default: metal for point/line, water_table for planar)")
+    t.add_argument("--target-eps", metavar="EPS", help="target relative permittivity instead of --material")
+    t.add_argument("--target-sigma", metavar="Q", help="target conductivity with --target-eps (bare number: mS/m)")
+    s = parser.add_argument_group("ground and antennas")
+    s.add_argument("--texture", default="loam", help="texture preset filling soil facts the raster lacks "
+                   "(default loam)")
+    s.add_argument("--model", choices=["crim", "peplinski", "topp"], default="crim",
+                   help="soil dielectric model (default crim)")
+    s.add_argument("--catalogue", metavar="FILE", help="antenna catalogue TOML (default: the bundled "
+                   "illustrative configs/antennas.toml)")
+    s.add_argument("--antenna", action="append", metavar="NAME", help="only these antennas (repeatable; "
+                   "default: every antenna of the catalogue)")
+    s.add_argument("--layers", default="velocity,attenuation_db_per_m",
+                   help="comma-separated layers besides max_depth and margin_db: velocity, "
+                        "attenuation_db_per_m, eps_real, eps_imag, sigma, vertical_resolution, or 'none' "
+                        "(default velocity,attenuation_db_per_m)")
+    o = parser.add_argument_group("output and computation")
+    o.add_argument("--out", metavar="FILE", help="output map (CF NetCDF)")
+    o.add_argument("--force", action="store_true", help="overwrite existing outputs")
+    o.add_argument("--chunk", type=int, default=512, metavar="SIZE",
+                   help="tile edge in cells (default 512); memory per tile grows with SIZE²")
+    o.add_argument("--scheduler", metavar="ADDRESS", default="threads",
+                   help="'threads' (default: dask's local threaded scheduler), 'local' (a dask.distributed "
+                        "cluster of worker processes on this machine), or the address of an existing "
+                        "dask.distributed scheduler, e.g. tcp://scheduler.example.org:8786")
+    o.add_argument("--workers", type=int, metavar="N", help="threads or local worker processes "
+                   "(default: the CPU count)")
+    o.add_argument("--batch", type=int, metavar="N", help="tiles computed at once (default: twice the "
+                   "parallel slots); bounds memory")
+    o.add_argument("--float64", action="store_true", help="store layers as float64 (default float32)")
+
+
+def _need_dask():
+    from ..errors import InputError
+
+    try:
+        import dask  # noqa: F401
+        import dask.array  # noqa: F401
+    except ImportError:
+        raise InputError("subsurf region needs the optional scale extra: pip install 'subsurf[scale]'") from None
+
+
+def _write_soil(soil, path, *, force: bool, chunk: int):
+    import dask
+
+    from ..io.outputs import atomic_path
+
+    enc = {q: {"dtype": "float32", "zlib": True, "complevel": 1, "_FillValue": float("nan"),
+               "chunksizes": (min(chunk, soil.sizes["y"]), min(chunk, soil.sizes["x"]))}
+           for q in soil.data_vars if q != "crs"}
+    with atomic_path(path, force=force) as tmp, dask.config.set(scheduler="threads"):
+        soil.to_netcdf(tmp, engine="netcdf4", encoding=enc)
+
+
+COLUMNS_SPEC = [
+    ("antenna", "antenna", "", ""),
+    ("freq_mhz", "f", "MHz", ".4g"),
+    ("reach_percent", "reaches", "% of cells", ".1f"),
+    ("headroom_percent", "with headroom", "% of cells", ".1f"),
+    ("mean_max_depth_m", "mean max depth", "m", ".3g"),
+    ("recommended_percent", "recommended", "% of cells", ".1f"),
+]
+
+
+def run(args) -> int:
+    import time
+
+    _need_dask()
+    from ..detection.budget import REACHES_MARGIN_DB
+    from ..errors import InputError
+    from ..io.outputs import (
+        CAUTION,
+        Column,
+        check_outputs_free,
+        collect_warnings,
+        format_table,
+        print_notes,
+        print_result,
+    )
+    from ..io.progress import progress_enabled
+    from ..planning.antennas import get_antenna, load_catalogue
+    from ..site import regional as scale
+    from ..site import synthetic
+    from ..units import parse_quantity
+    from .choose import parse_depth, target_from_args, target_summary
+
+    if (args.soil is None) == (args.synthetic is None):
+        raise InputError("give the soil as exactly one of --soil FILE.nc or --synthetic NXxNY")
+    if args.write_soil and not args.synthetic:
+        raise InputError("--write-soil writes a synthetic region; use it with --synthetic")
+    if not args.out and not args.write_soil:
+        raise InputError("nothing to write: give --out MAP.nc (and/or --write-soil with --synthetic)")
+    if args.chunk < 16:
+        raise InputError(f"--chunk must be at least 16 cells, got {args.chunk}")
+    if args.out:
+        if args.target is None or args.depth is None:
+            raise InputError("a map needs the target: --target planar|point|line and --depth")
+    outputs = [p for p in (args.out, args.write_soil) if p]
+    check_outputs_free(outputs, force=args.force)
+    layers = [s.strip() for s in args.layers.split(",") if s.strip() and s.strip() != "none"]
+
+    with collect_warnings() as notes:
+        if args.synthetic:
+            nx, ny = synthetic.parse_size(args.synthetic)
+            cell = parse_quantity(args.cell_size, "length", default_unit="m", name="--cell-size")
+            soil = synthetic.synthetic_region(nx, ny, seed=args.seed, cell_size_m=cell, chunk=args.chunk,
+                                              nodata_fraction=args.nodata_fraction)
+            source = f"synthetic region {nx}x{ny} cells of {cell:g} m, seed {args.seed} (invented data)"
+        else:
+            soil = scale.open_region(args.soil, chunk=args.chunk)
+            source = str(args.soil)
+        ny, nx = soil.sizes["y"], soil.sizes["x"]
+        payload = {"soil": source, "cells": nx * ny, "shape": {"y": ny, "x": nx}, "chunk": args.chunk,
+                   "outputs": {}}
+        t0 = time.perf_counter()
+        if args.write_soil:
+            _write_soil(soil, args.write_soil, force=args.force, chunk=args.chunk)
+            payload["outputs"]["soil"] = str(args.write_soil)
+            payload["soil_write_seconds"] = time.perf_counter() - t0
+        if args.out:
+            depth = parse_depth(args.depth)
+            target = target_from_args(args, depth_m=depth)
+            catalogue = load_catalogue(args.catalogue)
+            antennas = ([get_antenna(n, catalogue) for n in args.antenna] if args.antenna
+                        else list(catalogue.values()))
+            result = scale.feasibility_region(soil, antennas, target=target, target_depth_m=depth,
+                                              texture=args.texture, model=args.model, layers=layers)
+            bar = None
+            if progress_enabled(quiet=args.quiet):
+                from tqdm import tqdm
+
+                bar = tqdm(total=1, desc="tiles", leave=False, unit="tile")
+
+            def progress(done, total):
+                if bar is not None:
+                    bar.total = total
+                    bar.n = done
+                    bar.refresh()
+
+            t1 = time.perf_counter()
+            try:
+                with scale.scheduler(args.scheduler, workers=args.workers) as sched:
+                    batch = args.batch or 2 * sched["slots"]
+                    summary = scale.write_region(result, args.out, force=args.force, batch=batch,
+                                                 dtype="float64" if args.float64 else "float32",
+                                                 progress=progress, caution=CAUTION)
+            finally:
+                if bar is not None:
+                    bar.close()
+            seconds = time.perf_counter() - t1
+            freqs = {a.name: a.centre_freq_hz for a in antennas}
+            rows = []
+            for r in summary.rows():
+                rows.append({"antenna": r["antenna"], "freq_mhz": freqs[r["antenna"]] / 1e6,
+                             "reach_percent": 100 * r["reach_fraction"],
+                             "headroom_percent": 100 * r["reach_with_headroom_fraction"],
+                             "mean_max_depth_m": r["mean_max_depth_m"],
+                             "recommended_percent": 100 * r["recommended_fraction"]})
+            none = summary.recommended[0] / max(summary.cells_with_data, 1)
+            payload.update({
+                "target": target_summary(target), "texture": args.texture, "soil_model": args.model,
+                "scheduler": sched["scheduler"], "tiles": summary.tiles, "batch": batch,
+                "cells_with_data": summary.cells_with_data, "map_seconds": seconds,
+                "cells_per_second": summary.cells / seconds if seconds > 0 else None,
+                "thresholds": {"reaches_margin_db": 0.0, "headroom_margin_db": REACHES_MARGIN_DB},
+                "rows": rows, "no_antenna_reaches_percent": 100 * none,
+            })
+            payload["outputs"]["map"] = str(args.out)
+    payload["warnings"] = notes
+    payload["caution"] = CAUTION
+    lines = [f"Soil: {source}; {nx} x {ny} = {nx * ny:,} cells, chunk {args.chunk}"]
+    if args.write_soil:
+        lines.append(f"Wrote synthetic soil raster {args.write_soil} ({payload['soil_write_seconds']:.1f} s)")
+    if args.out:
+        t = payload["target"]
+        what = f"{t['kind']} target, {t['material']}" + (f", {t['size_m']:g} m across" if t["size_m"] else "")
+        lines.append(f"Target: {what}, at {t['depth_m']:g} m; ground: {args.model} model, texture {args.texture}")
+        lines.append(f"Computed on {payload['scheduler']}: {payload['tiles']} tiles in "
+                     f"{payload['map_seconds']:.1f} s ({payload['cells_per_second']:,.0f} cells/s)")
+        table = format_table(payload["rows"], [Column(*c) for c in COLUMNS_SPEC])
+        lines.append(table)
+        lines.append(f"Percentages of the {payload['cells_with_data']:,} cells with soil data; reaches = "
+                     f"margin >= 0 dB, with headroom = margin >= {REACHES_MARGIN_DB:g} dB; no antenna reaches: "
+                     f"{payload['no_antenna_reaches_percent']:.1f} %.")
+        lines.append(f"Wrote {args.out}")
+    lines.append(f"Caution: {CAUTION}")
+    print_result(payload, "\n".join(lines), as_json=args.json)
+    print_notes(notes, quiet=args.quiet or args.json)
+    return 0

@@ -1,0 +1,102 @@
+"""``subsurf report``: the self-contained HTML planning report of a survey file."""
+
+from __future__ import annotations
+
+HELP = "write the self-contained HTML planning report of a survey (one file, images embedded, printable)"
+EXAMPLE = """subsurf report surveys/example-site/survey.toml --out fernhollow-report.html
+subsurf report surveys/example-site/survey.toml --out plan.html --maps-out plan-maps --force"""
+
+
+def add_arguments(parser) -> None:
+    parser.add_argument("survey", metavar="SURVEY.toml", help="survey file (schema: surveys/README.md)")
+    parser.add_argument("--out", metavar="FILE.html", default=None,
+                        help="report file to write (default: <survey folder name>-report.html here)")
+    parser.add_argument("--maps-out", metavar="DIR", default=None,
+                        help="also keep the feasibility map files (NetCDF, PNG, CSV) in DIR; by default "
+                             "they are made in a temporary folder and only embedded in the report")
+    parser.add_argument("--no-maps", action="store_true",
+                        help="skip the feasibility maps (quicker; the report then has no map section)")
+    parser.add_argument("--force", action="store_true", help="overwrite an existing report (and map files)")
+
+
+def default_report_name(survey_path) -> str:
+    """``<folder>-report.html`` for ``.../<folder>/survey.toml``, else ``<stem>-report.html``."""
+    from pathlib import Path
+
+    p = Path(survey_path)
+    stem = p.parent.name if p.stem == "survey" and p.parent.name else p.stem
+    return f"{stem or 'survey'}-report.html"
+
+
+def make_report(survey_path, out_path, *, force: bool = False, quiet: bool = False, maps: bool = True,
+                maps_out=None, map_result: dict | None = None, tables_dir=None) -> dict:
+    """Run the maps (unless given or skipped) and write the report; return the summary.
+
+    Existing outputs are checked before any work starts.  Map files go to ``maps_out``
+    when given (kept), else to a temporary folder that is removed afterwards.
+    """
+    import tempfile
+    from pathlib import Path
+
+    from ..io.outputs import check_outputs_free
+    from ..io.progress import steps
+    from ..io.report import write_report
+
+    out_path = Path(out_path)
+    check_outputs_free([out_path], force=force)
+    if maps_out is not None and map_result is None and maps:
+        check_outputs_free([maps_out], force=force)
+    n_steps = 6 if maps and map_result is None else 5
+    with steps(n_steps, desc="subsurf report", quiet=quiet) as bar:
+        tmp = None
+        try:
+            if maps and map_result is None:
+                from .map import run_map
+
+                bar.start("feasibility maps")
+                if maps_out is None:
+                    tmp = tempfile.TemporaryDirectory(prefix="subsurf-maps-")
+                folder = maps_out if tmp is None else tmp.name
+                # GeoTIFF layers only when the map files are kept (they are not embedded)
+                map_result = {**run_map(survey_path, folder, force=force or tmp is not None, quiet=True,
+                                        geotiff=tmp is None),
+                              "kept": tmp is None, "out_dir": str(folder)}
+                bar.advance("site and soil")
+            else:
+                bar.start("site and soil")
+            return write_report(survey_path, out_path, force=force, map_result=map_result, bar=bar,
+                                tables_dir=tables_dir)
+        finally:
+            if tmp is not None:
+                tmp.cleanup()
+
+
+def summary_text(summary: dict) -> str:
+    """The readable lines printed after a report is written."""
+    lines = [f"Report written: {summary['report']}"]
+    if summary["recommended"]:
+        lines.append(f"Recommended antenna: {summary['recommended']}")
+    lines.append(f"Reason: {summary['reason']}")
+    v = summary["velocity_m_per_s"] * 1e-9
+    lines.append(f"Ground velocity (site median): {v:.3f} m/ns "
+                 f"(5-95 %: {summary['velocity_p05_m_per_s'] * 1e-9:.3f}-{summary['velocity_p95_m_per_s'] * 1e-9:.3f})")
+    if summary["warnings"]:
+        lines.append(f"{len(summary['warnings'])} model warning(s) are listed in the report.")
+    lines.append("Caution: " + summary["caution"])
+    return "\n".join(lines)
+
+
+def run(args) -> int:
+    from pathlib import Path
+
+    from ..io.outputs import print_notes, print_result
+
+    out = Path(args.out) if args.out else Path(default_report_name(args.survey))
+    summary = make_report(args.survey, out, force=args.force, quiet=args.quiet or args.json,
+                          maps=not args.no_maps, maps_out=args.maps_out)
+    if args.maps_out and not args.no_maps:
+        summary["maps_out"] = str(args.maps_out)
+    print_result(summary, summary_text(summary) + f"\nOpen it in a browser: {out.resolve().as_uri()}",
+                 as_json=args.json)
+    print_notes(summary["warnings"], quiet=args.quiet or args.json)
+    return 0

@@ -1,0 +1,221 @@
+"""``subsurf velocity``: ground velocity from hyperbola picks, a CMP gather or a target at known depth."""
+
+from __future__ import annotations
+
+HELP = "fit ground velocity to hyperbola or CMP picks (CSV), or from a target at a known depth"
+EXAMPLE = """subsurf velocity --picks surveys/picks/fictional_hyperbolas.csv --offset "0.14 m" \\
+    --out-json fit.json --figure fit.png
+subsurf velocity --picks surveys/picks/fictional_cmp.csv --figure cmp.png
+subsurf velocity --known-depth "1.20 m" --depth-sd "0.02 m" --twt "25.1 ns" --pick-sd "0.3 ns\""""
+
+
+def add_arguments(parser) -> None:
+    g = parser.add_argument_group("picks")
+    g.add_argument("--picks", metavar="CSV", help="pick table: line, target, distance_m, twt_ns for hyperbolas; "
+                   "offset_m, twt_ns for a CMP/WARR gather (target = reflector)")
+    g.add_argument("--method", choices=["auto", "hyperbola", "cmp"], default="auto",
+                   help="fit kind (default auto: cmp when the table has offset_m, else hyperbola)")
+    g.add_argument("--target", action="append", metavar="ID", help="fit only this target id (repeatable)")
+    g.add_argument("--offset", metavar="L", default="0",
+                   help="antenna separation of the hyperbola picks (bare number: m; default 0)")
+    g.add_argument("--radius", metavar="R", default="0",
+                   help="radius of a cylindrical target (bare number: m; default 0 = point diffractor; "
+                   "'fit' to fit it)")
+    g.add_argument("--time-zero", metavar="T", default="0",
+                   help="time zero to subtract from the picks (bare number: ns; default 0)")
+    c = parser.add_argument_group("calibration target at a known depth")
+    c.add_argument("--known-depth", metavar="D", help="depth of the target's reflecting surface (bare number: m)")
+    c.add_argument("--depth-sd", metavar="D", default="0", help="its standard deviation (bare number: m)")
+    c.add_argument("--twt", metavar="T", help="the target's two-way time as on the record (bare number: ns)")
+    c.add_argument("--pick-sd", metavar="T", default="0", help="standard deviation of the pick (bare number: ns)")
+    c.add_argument("--time-zero-sd", metavar="T", default="0", help="standard deviation of time zero (bare number: ns)")
+    o = parser.add_argument_group("outputs")
+    o.add_argument("--out-json", metavar="FILE", help="write the result as JSON (read by 'subsurf depth "
+                   "--velocity-from')")
+    o.add_argument("--out-csv", metavar="FILE", help="write the fits as a CSV table")
+    o.add_argument("--figure", metavar="PNG", help="write a figure of picks, fitted curves and residuals")
+    o.add_argument("--force", action="store_true", help="overwrite existing outputs")
+
+
+def _calibration(args, q):
+    from ..interpretation.velocity import velocity_from_calibration
+
+    d = q(args.known_depth, "length", "m", "--known-depth")
+    t = q(args.twt, "time", "ns", "--twt")
+    res = velocity_from_calibration(t, d, offset_m=q(args.offset, "length", "m", "--offset"),
+                                    twt_sd_s=q(args.pick_sd, "time", "ns", "--pick-sd"),
+                                    depth_sd_m=q(args.depth_sd, "length", "m", "--depth-sd"),
+                                    time_zero_s=q(args.time_zero, "time", "ns", "--time-zero"),
+                                    time_zero_sd_s=q(args.time_zero_sd, "time", "ns", "--time-zero-sd"))
+    v, se = float(res.velocity), float(res.velocity_se)
+    return {"target": "calibration", "method": "known depth", "velocity_m_per_ns": v * 1e-9,
+            "velocity_se_m_per_ns": se * 1e-9, "permittivity": (299792458.0 / v) ** 2,
+            "depth_m": d, "twt_ns": t * 1e9, "n_picks": 1}
+
+
+def run(args) -> int:
+    import numpy as np
+
+    from ..errors import InputError
+    from ..interpretation.velocity import dix_interval_velocities, fit_cmp, fit_hyperbola
+    from ..io import picks
+    from ..io.outputs import CAUTION, Column, atomic_path, check_outputs_free, format_table, print_result
+    from ..units import parse_quantity
+
+    def q(text, kind, unit, name):
+        return parse_quantity(text, kind, default_unit=unit, name=name)
+
+    outs = [p for p in (args.out_json, args.out_csv, args.figure) if p]
+    check_outputs_free(outs, force=args.force)
+    calib = args.known_depth is not None or args.twt is not None
+    if calib == bool(args.picks):
+        raise InputError("give either --picks CSV, or --known-depth with --twt for a calibration target")
+    fits, panels, dix = [], [], None
+    if calib:
+        if args.known_depth is None or args.twt is None:
+            raise InputError("a calibration target needs both --known-depth and --twt")
+        if args.figure:
+            raise InputError("--figure needs --picks (a calibration target has no curve to draw)")
+        fits.append(_calibration(args, q))
+        method = "calibration"
+    else:
+        offset = q(args.offset, "length", "m", "--offset")
+        tz = q(args.time_zero, "time", "ns", "--time-zero")
+        if str(args.radius).strip().lower() == "fit":
+            radius = None
+        else:
+            try:
+                radius = q(args.radius, "length", "m", "--radius")
+            except InputError as exc:
+                raise InputError(f"{exc}, or 'fit' to fit the radius") from None
+        method = args.method
+        if method == "auto":
+            from pathlib import Path
+
+            head = [ln for ln in Path(args.picks).read_text(encoding="utf-8-sig").splitlines()
+                    if ln.strip() and not ln.lstrip().startswith("#")][:1] if Path(args.picks).exists() else []
+            method = "cmp" if head and "offset_m" in [h.strip() for h in head[0].split(",")] else "hyperbola"
+        table = picks.read_picks(args.picks, kind=method)
+        ids = table.target if table.target is not None else ["all"] * len(table)
+        order = list(dict.fromkeys(ids))
+        if args.target:
+            unknown = [t for t in args.target if t not in order]
+            if unknown:
+                raise InputError(f"--target {unknown[0]!r} is not in {args.picks} (targets: {', '.join(order)})")
+            order = [t for t in order if t in args.target]
+        for tid in order:
+            sel = np.array([i == tid for i in ids])
+            rows = table.rows[sel]
+            where = f"{args.picks}, target {tid!r} (rows {rows.min()}–{rows.max()})"
+            try:
+                if method == "hyperbola":
+                    f = fit_hyperbola(table.distance_m[sel], table.twt_s[sel], radius_m=radius, offset_m=offset,
+                                      time_zero_s=tz)
+                else:
+                    f = fit_cmp(table.offset_m[sel], table.twt_s[sel] - tz)
+            except InputError as exc:
+                raise InputError(f"{where}: {exc}") from None
+            except Exception as exc:
+                from ..errors import SubsurfError
+
+                if isinstance(exc, SubsurfError):
+                    raise type(exc)(f"{where}: {exc}") from None
+                raise
+            rec = {"target": tid, "method": method, "velocity_m_per_ns": f.velocity * 1e-9,
+                   "velocity_se_m_per_ns": f.velocity_se * 1e-9, "permittivity": (299792458.0 / f.velocity) ** 2,
+                   "rms_ns": f.rms_s * 1e9, "n_picks": f.n_picks, "rows": rows}
+            xs = table.distance_m[sel] if method == "hyperbola" else table.offset_m[sel]
+            cx = np.linspace(xs.min(), xs.max(), 200)
+            if method == "hyperbola":
+                rec.update({"x0_m": f.x0, "x0_se_m": f.x0_se, "depth_m": f.depth, "depth_se_m": f.depth_se,
+                            "radius_m": f.radius, "radius_se_m": f.radius_se if f.radius_fitted else None,
+                            "radius_fitted": f.radius_fitted, "offset_m": offset, "time_zero_ns": tz * 1e9,
+                            "downweighted": [{"row": int(rows[i]), "weight": float(f.weights[i]),
+                                              "residual_ns": float(f.residuals_s[i] * 1e9)} for i in f.downweighted]})
+                curve = (f.twt(cx) + tz) * 1e9
+                label = (f"{tid}: v = {f.velocity * 1e-9:.4f} ± {f.velocity_se * 1e-9:.4f} m/ns, "
+                         f"depth {f.depth:.3f} ± {f.depth_se:.3f} m")
+                weight = f.weights
+            else:
+                rec.update({"t0_ns": f.t0 * 1e9, "t0_se_ns": f.t0_se * 1e9, "depth_m": f.depth,
+                            "depth_se_m": f.depth_se, "time_zero_ns": tz * 1e9})
+                curve = (f.twt(cx) + tz) * 1e9
+                label = f"{tid}: v_rms = {f.velocity * 1e-9:.4f} ± {f.velocity_se * 1e-9:.4f} m/ns, t0 {f.t0 * 1e9:.2f} ns"
+                weight = np.ones(f.n_picks)
+            fits.append(rec)
+            panels.append({"x": xs, "t_ns": table.twt_s[sel] * 1e9, "curve_x": cx, "curve_t_ns": curve,
+                           "residual_ns": f.residuals_s * 1e9, "weight": weight, "label": label,
+                           "xlabel": "distance along line (m)" if method == "hyperbola" else "antenna separation (m)"})
+        if method == "cmp" and len(fits) > 1:
+            srt = sorted(fits, key=lambda r: r["t0_ns"])
+            iv = dix_interval_velocities([r["t0_ns"] * 1e-9 for r in srt], [r["velocity_m_per_ns"] * 1e9 for r in srt],
+                                         t0_se=[r["t0_se_ns"] * 1e-9 for r in srt],
+                                         rms_velocity_se=[r["velocity_se_m_per_ns"] * 1e9 for r in srt])
+            dix = [{"reflector": r["target"], "interval_velocity_m_per_ns": float(v) * 1e-9,
+                    "interval_velocity_se_m_per_ns": float(s) * 1e-9, "thickness_m": float(h),
+                    "thickness_se_m": float(hs)}
+                   for r, v, s, h, hs in zip(srt, iv.velocity, iv.velocity_se, iv.thickness, iv.thickness_se)]
+
+    written = []
+    if args.figure:
+        from ..io.fig_velocity import velocity_fit_figure
+
+        with atomic_path(args.figure, force=args.force) as tmp:
+            velocity_fit_figure(panels, tmp, title=f"{method} fit: {args.picks}")
+        written.append(args.figure)
+    payload = {"caution": CAUTION, "method": method, "fits": fits}
+    if dix:
+        payload["interval_velocities"] = dix
+    if args.out_csv:
+        keys = ["target", "method", "velocity_m_per_ns", "velocity_se_m_per_ns", "permittivity", "x0_m", "x0_se_m",
+                "t0_ns", "t0_se_ns", "depth_m", "depth_se_m", "radius_m", "radius_se_m", "rms_ns", "n_picks"]
+        keys = [k for k in keys if any(k in r for r in fits)]
+        fmt = {"target": "", "method": "", "n_picks": "d"}
+        picks.write_csv(args.out_csv, fits, [(k, fmt.get(k, ".5g")) for k in keys], force=args.force,
+                        comments=["subsurf velocity output. CAUTION: " + CAUTION])
+        written.append(args.out_csv)
+    if args.out_json:
+        import json
+
+        from ..io.outputs import atomic_write_text, to_jsonable
+
+        atomic_write_text(args.out_json, json.dumps(to_jsonable({**payload, "written": written}), indent=2,
+                                                    allow_nan=False) + "\n", force=args.force)
+        written.append(args.out_json)
+    payload["written"] = written
+
+    cols = [Column("target", "target"), Column("velocity_m_per_ns", "velocity", "m/ns", ".4f"),
+            Column("velocity_se_m_per_ns", "± se", "m/ns", ".4f"), Column("permittivity", "ε apparent", "", ".2f")]
+    if method == "hyperbola":
+        cols += [Column("x0_m", "apex x", "m", ".3f"), Column("x0_se_m", "± se", "m", ".3f"),
+                 Column("depth_m", "depth to top", "m", ".3f"), Column("depth_se_m", "± se", "m", ".3f"),
+                 Column("radius_m", "radius", "m", ".3f"), Column("rms_ns", "rms", "ns", ".2f"),
+                 Column("n_picks", "picks")]
+    elif method == "cmp":
+        cols += [Column("t0_ns", "t0", "ns", ".2f"), Column("t0_se_ns", "± se", "ns", ".2f"),
+                 Column("depth_m", "depth", "m", ".3f"), Column("depth_se_m", "± se", "m", ".3f"),
+                 Column("rms_ns", "rms", "ns", ".2f"), Column("n_picks", "picks")]
+    else:
+        cols += [Column("depth_m", "known depth", "m", ".3f"), Column("twt_ns", "twt", "ns", ".2f")]
+    text = [format_table(fits, cols, title=f"Velocity ({method})")]
+    for r in fits:
+        for d in r.get("downweighted", []):
+            if d["weight"] < 0.5:
+                text.append(f"  {r['target']}: row {d['row']} down-weighted to {d['weight']:.2f} "
+                            f"(residual {d['residual_ns']:+.2f} ns) - check this pick")
+        if r.get("radius_fitted"):
+            text.append(f"  {r['target']}: radius fitted {r['radius_m']:.3f} ± {r['radius_se_m']:.3f} m")
+    if dix:
+        text += ["", format_table(dix, [Column("reflector", "layer above"),
+                                        Column("interval_velocity_m_per_ns", "interval v", "m/ns", ".4f"),
+                                        Column("interval_velocity_se_m_per_ns", "± se", "m/ns", ".4f"),
+                                        Column("thickness_m", "thickness", "m", ".3f"),
+                                        Column("thickness_se_m", "± se", "m", ".3f")],
+                                  title="Interval velocities (Dix)")]
+    text.append("standard errors: fit covariance scaled by the picks' own residuals"
+                if not calib else "standard error: first order from the depth, pick and time-zero uncertainties")
+    if written:
+        text.append("wrote: " + ", ".join(written))
+    text += ["", "CAUTION: " + CAUTION]
+    print_result(payload, "\n".join(text), as_json=args.json)
+    return 0

@@ -1,0 +1,519 @@
+"""Regional feasibility maps on chunked, dask-backed xarray objects.
+
+A regional soil raster (tens of thousands of cells on a side) does not fit in memory.
+Here it is read lazily (:func:`open_region`), the unchanged per-cell chain
+:func:`subsurf.feasibility.evaluate` is applied chunk by chunk with
+``xarray.apply_ufunc(dask="parallelized")`` (:func:`feasibility_region`), and the result
+is written to CF NetCDF tile by tile (:func:`write_region`).  Memory is bounded by the
+chunk size times the number of tiles in flight, never by the raster size.
+
+Library choice: dask (the ``scale`` extra) does the scheduling — the local threaded
+scheduler by default, a local or remote ``dask.distributed`` cluster on request
+(:func:`scheduler`); subsurf keeps no parallel engine of its own.
+
+Writing: the output file is created with its CF metadata by this process (netCDF4), and
+tiles are computed a batch at a time by whichever scheduler is active and written here
+into their place.  Workers of a remote cluster therefore never need access to the output
+path (only to the input raster, if it is a file), and at most ``batch`` tiles are held at
+once.  The file is written under a temporary name and renamed when complete
+(:func:`subsurf.outputs.atomic_path`).
+
+No physics is re-derived here: every number comes from :mod:`subsurf.feasibility`.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import os
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from ..errors import FileInputError, InputError
+
+__all__ = [
+    "ALWAYS_LAYERS",
+    "OPTIONAL_LAYERS",
+    "open_region",
+    "feasibility_region",
+    "RegionSummary",
+    "write_region",
+    "scheduler",
+    "chain_antennas",
+]
+
+#: Layers every regional map carries (per antenna).
+ALWAYS_LAYERS = ("max_depth", "margin_db")
+#: Further per-antenna layers that may be asked for (``sigma`` is per cell only).
+OPTIONAL_LAYERS = ("velocity", "attenuation_db_per_m", "eps_real", "eps_imag", "sigma", "vertical_resolution")
+
+_REC_FILL = np.int16(-32768)
+
+
+# --- input ------------------------------------------------------------------------------
+
+def _udunits_to_pint(unit: str) -> str:
+    """CF/UDUNITS products with signed exponents ("S m-1", "kg m-3") as pint text ("S/m", "kg/m**3")."""
+    import re
+
+    num, den = [], []
+    for tok in unit.split():
+        m = re.fullmatch(r"([A-Za-z%]+)(-?\d+)?", tok)
+        if not m:
+            return unit
+        base, exp = m.group(1), int(m.group(2) or 1)
+        (den if exp < 0 else num).append(base if abs(exp) == 1 else f"{base}**{abs(exp)}")
+    if not den:
+        return unit
+    return "*".join(num or ["1"]) + "/" + "/".join(den)
+
+
+def _unit_conversion(unit: str, quantity: str, *, path) -> tuple[float, float]:
+    """(factor, offset) taking raster values in ``unit`` to SI for ``quantity``."""
+    from ..units import parse_quantity
+    from .survey import QUANTITIES
+
+    q = QUANTITIES[quantity]
+    unit = _udunits_to_pint(unit)
+    if unit in ("", "1", _udunits_to_pint(q.si_unit)) or (q.si_unit == "1" and unit in ("m3 m-3", "m3/m3", "fraction")):
+        return 1.0, 0.0
+    try:
+        one = parse_quantity(f"1 {unit}", q.kind, default_unit=unit, name="units")
+        zero = parse_quantity(f"0 {unit}", q.kind, default_unit=unit, name="units")
+    except InputError:
+        raise FileInputError(path, f"cannot read units {unit!r} as a {q.kind}", field=quantity) from None
+    return one - zero, zero
+
+
+def open_region(path, *, chunk: int = 512, quantities=None):
+    """Open a regional soil raster (NetCDF) lazily, in ``chunk`` × ``chunk`` cell tiles.
+
+    Parameters
+    ----------
+    path : path-like
+        NetCDF file with 2-D variables named as the survey quantities
+        (:data:`subsurf.survey.QUANTITIES`: ``moisture`` required, ``pore_water_ec``,
+        ``salinity``, ``clay``, ``sand``, ``temperature``, ``bulk_density`` optional),
+        dims (y, x) (or lat/lon ...), a ``units`` attribute where not SI, and a CF
+        grid-mapping variable giving the CRS.
+    chunk : int
+        Tile edge in cells.
+    quantities : sequence of str, optional
+        Quantities to use (default: every quantity found).
+
+    Returns
+    -------
+    xarray.Dataset
+        Dask-backed, dims renamed to (y, x), values converted to SI (lazily), plus the
+        grid-mapping variable ``crs`` when the file has one.
+    """
+    import xarray as xr
+
+    from .survey import QUANTITIES, _raster_dims
+
+    path = os.fspath(path)
+    if not os.path.exists(path):
+        raise FileInputError(path, "regional soil raster not found")
+    if int(chunk) < 16:
+        raise InputError(f"chunk must be at least 16 cells, got {chunk}")
+    try:
+        ds = xr.open_dataset(path, chunks={}, engine="netcdf4")
+    except (OSError, ValueError) as exc:
+        raise FileInputError(path, f"cannot read as NetCDF: {exc}") from None
+    names = [q for q in QUANTITIES if q in ds.data_vars] if quantities is None else list(quantities)
+    missing = [q for q in names if q not in ds.data_vars]
+    if missing or "moisture" not in names:
+        need = missing[0] if missing else "moisture"
+        raise FileInputError(path, f"no variable {need!r} (variables: {', '.join(map(str, ds.data_vars))}); "
+                             f"soil variables are named {', '.join(QUANTITIES)}", field=need)
+    xdim, ydim = _raster_dims(ds[names[0]], path=path)
+    out = {}
+    gm_name = ds[names[0]].attrs.get("grid_mapping") or ds[names[0]].encoding.get("grid_mapping")
+    for q in names:
+        da = ds[q]
+        if set(da.dims) != {xdim, ydim}:
+            raise FileInputError(path, f"variable {q!r} has dims {da.dims}, expected ({ydim}, {xdim})", field=q)
+        da = da.transpose(ydim, xdim).rename({xdim: "x", ydim: "y"}).chunk({"y": int(chunk), "x": int(chunk)})
+        factor, offset = _unit_conversion(str(da.attrs.get("units", "")).strip(), q, path=path)
+        if (factor, offset) != (1.0, 0.0):
+            da = da * factor + offset
+        da.attrs = {"long_name": QUANTITIES[q].long_name, "units": QUANTITIES[q].si_unit, "grid_mapping": "crs"}
+        out[q] = da.astype(float)
+    result = xr.Dataset(out)
+    if gm_name and gm_name in ds:
+        result["crs"] = ((), np.int32(0), dict(ds[gm_name].attrs))
+    result.attrs = {"source": path}
+    return result
+
+
+# --- the chain on chunks ----------------------------------------------------------------
+
+def chain_antennas(antennas, *, band_resolution: bool):
+    """Antenna records for :func:`subsurf.feasibility.evaluate` (stacking gain folded in).
+
+    Without ``band_resolution`` the bandwidth is dropped, so the vertical resolution is
+    a quarter of the centre-frequency wavelength — the received-spectrum version costs
+    about three times the rest of the chain and is asked for only with that layer.
+    """
+    from .feasibility import AntennaParameters  # the chain's own picklable antenna record
+
+    out = []
+    for a in antennas:
+        perf = getattr(a, "effective_performance_db", a.performance_db)
+        out.append(AntennaParameters(name=a.name, centre_freq_hz=float(a.centre_freq_hz), performance_db=float(perf),
+                                     gain=float(getattr(a, "gain", 1.0) or 1.0),
+                                     bandwidth_hz=getattr(a, "bandwidth_hz", None) if band_resolution else None))
+    return out
+
+
+def _check_block_ranges(values: dict, source: str):
+    from .survey import QUANTITIES
+
+    for q, v in values.items():
+        lo, hi = QUANTITIES[q].low, QUANTITIES[q].high
+        bad = np.isfinite(v) & ((v < lo) | (v > hi))
+        if np.any(bad):
+            raise FileInputError(source, f"{q} value {v[bad].ravel()[0]:.6g} (SI) leaves the accepted range "
+                                 f"{lo:g} to {hi:g} {QUANTITIES[q].si_unit}; check the variable's units", field=q)
+
+
+def _chain_block(*arrays, names, antennas, target, target_depth_m, texture, model, layers, source):
+    """The feasibility chain on one tile; outputs with the antenna axis last (apply_ufunc's core dim)."""
+    from .feasibility import evaluate, recommend_antenna
+
+    values = dict(zip(names, arrays))
+    _check_block_ranges(values, source)
+    res = evaluate(values, antennas, target=target, target_depth_m=target_depth_m, texture=texture, model=model)
+    rec = recommend_antenna(res["margin_db"], [a.centre_freq_hz for a in antennas])
+    rec = np.where(np.isfinite(res["margin_db"][0]), rec, _REC_FILL).astype(np.int16)
+    outs = []
+    for name in layers:
+        v = res[name]
+        outs.append(v[0] if name == "sigma" else np.moveaxis(v, 0, -1))
+    return (*outs, rec)
+
+
+def feasibility_region(soil, antennas, *, target, target_depth_m: float, texture: str | None = None,
+                       model: str = "crim", layers=("velocity", "attenuation_db_per_m")):
+    """The feasibility chain over a (dask-backed) soil Dataset, lazily.
+
+    Parameters
+    ----------
+    soil : xarray.Dataset
+        Soil quantities (survey names, SI) on dims (y, x), e.g. from :func:`open_region`
+        or :func:`subsurf.synthetic.synthetic_region`; numpy-backed datasets work too
+        (computed at once).
+    antennas : sequence of antennas (catalogue entries or objects with the same fields)
+    target : subsurf.detection.Target
+    target_depth_m : float
+    texture, model :
+        As for :func:`subsurf.feasibility.evaluate`.
+    layers : sequence of str
+        Layers besides :data:`ALWAYS_LAYERS`, from :data:`OPTIONAL_LAYERS`.
+
+    Returns
+    -------
+    xarray.Dataset
+        ``max_depth``, ``margin_db`` and the requested layers with dims (antenna, y, x)
+        (``sigma``: (y, x)), ``recommended_antenna`` (y, x; index into ``antenna``, −1
+        where no antenna reaches the target, fill value where there is no soil data),
+        CF attributes and the grid mapping.  Values are exactly those of
+        :func:`subsurf.feasibility.evaluate` on the same cells.
+    """
+    import xarray as xr
+
+    from .feasibility import LAYER_ATTRS
+    from .survey import QUANTITIES
+
+    layers = list(ALWAYS_LAYERS) + [name for name in layers if name not in ALWAYS_LAYERS]
+    bad = [name for name in layers if name not in ALWAYS_LAYERS + OPTIONAL_LAYERS]
+    if bad:
+        raise InputError(f"unknown layer {bad[0]!r}; allowed: {', '.join(ALWAYS_LAYERS + OPTIONAL_LAYERS)}")
+    if not antennas:
+        raise InputError("give at least one antenna")
+    names = [q for q in QUANTITIES if q in soil.data_vars]
+    if "moisture" not in names:
+        raise InputError("the soil dataset needs a 'moisture' variable")
+    chain_ants = chain_antennas(antennas, band_resolution="vertical_resolution" in layers)
+    n_ant = len(chain_ants)
+    core = [[] if name == "sigma" else ["antenna"] for name in layers] + [[]]
+    dtypes = [float] * len(layers) + [np.int16]
+    results = xr.apply_ufunc(
+        _chain_block, *(soil[q] for q in names),
+        kwargs={"names": names, "antennas": chain_ants, "target": target, "target_depth_m": float(target_depth_m),
+                "texture": texture, "model": model, "layers": layers,
+                "source": str(soil.attrs.get("source", "soil raster"))},
+        output_core_dims=core, dask="parallelized", output_dtypes=dtypes,
+        dask_gufunc_kwargs={"output_sizes": {"antenna": n_ant}},
+    )
+    out = xr.Dataset()
+    for name, da in zip(layers, results[:-1]):
+        if "antenna" in da.dims:
+            da = da.transpose("antenna", "y", "x")
+        out[name] = da.assign_attrs({**LAYER_ATTRS[name], "grid_mapping": "crs"})
+    rec = results[-1]
+    out["recommended_antenna"] = rec.assign_attrs({
+        "long_name": "recommended antenna (index into the antenna coordinate)",
+        "flag_values": np.arange(-1, n_ant, dtype=np.int16),
+        "flag_meanings": " ".join(["none_reaches"] + [a.name.replace(" ", "_") for a in chain_ants]),
+        "grid_mapping": "crs",
+        "comment": "highest centre frequency with a margin of at least the headroom; else the largest "
+                   "non-negative margin; -1 where every margin is negative",
+    })
+    out = out.assign_coords(
+        antenna=("antenna", [a.name for a in chain_ants], {"long_name": "antenna name"}),
+        centre_frequency=("antenna", np.array([a.centre_freq_hz for a in chain_ants]),
+                          {"long_name": "antenna centre frequency", "units": "Hz"}),
+        performance=("antenna", np.array([a.performance_db for a in chain_ants]),
+                     {"long_name": "system performance including stacking gain", "units": "dB"}),
+    )
+    for c in ("x", "y"):
+        if c in soil.coords:
+            out = out.assign_coords({c: soil[c]})
+    if "crs" in soil:
+        out["crs"] = soil["crs"]
+    out.attrs = {"target_kind": target.kind, "target_depth_m": float(target_depth_m),
+                 "target_material": target.material or "", "soil_model": model, "texture": texture or ""}
+    return out
+
+
+# --- scheduler ---------------------------------------------------------------------------
+
+def _probe(address: str, *, timeout_s: float = 5.0) -> None:
+    """Fail fast (OSError) when nothing listens at a tcp:// address, instead of waiting for dask's timeout."""
+    import socket
+    from urllib.parse import urlsplit
+
+    if "://" not in address:
+        address = "tcp://" + address
+    parts = urlsplit(address)
+    if parts.scheme != "tcp" or parts.hostname is None:
+        return
+    with socket.create_connection((parts.hostname, parts.port or 8786), timeout=timeout_s):
+        pass
+
+
+@contextlib.contextmanager
+def scheduler(address: str | None = None, *, workers: int | None = None):
+    """Run the dask computations of the block on the chosen scheduler.
+
+    Parameters
+    ----------
+    address : str or None
+        ``None`` or ``"threads"``: dask's local threaded scheduler (the default; the chain
+        spends its time in numpy, which releases the GIL).  ``"synchronous"``: one thread,
+        for debugging.  ``"local"``: a ``dask.distributed`` cluster of worker processes
+        started on this machine (loopback only) and closed at the end.  Anything else is
+        the address of an existing ``dask.distributed`` scheduler, e.g.
+        ``tcp://scheduler.example.org:8786``.
+    workers : int, optional
+        Threads (threaded scheduler) or worker processes (``"local"``); default: the CPU count.
+
+    Yields
+    ------
+    dict
+        ``{"scheduler": description, "slots": parallel task slots}``.
+    """
+    import dask
+
+    n = int(workers) if workers else (os.cpu_count() or 1)
+    if address in (None, "", "threads"):
+        with dask.config.set(scheduler="threads", num_workers=n):
+            yield {"scheduler": f"threads ({n})", "slots": n}
+        return
+    if address == "synchronous":
+        with dask.config.set(scheduler="synchronous"):
+            yield {"scheduler": "synchronous", "slots": 1}
+        return
+    from distributed import Client, LocalCluster
+
+    if address == "local":
+        with LocalCluster(n_workers=n, threads_per_worker=1, processes=True, host="127.0.0.1",
+                          dashboard_address=None) as cluster, Client(cluster) as client:
+            yield {"scheduler": f"local distributed cluster ({n} worker processes)", "slots": n,
+                   "client": client}
+        return
+    try:
+        _probe(address)
+        client = Client(address, timeout="30s", set_as_default=True)
+    except (OSError, TimeoutError, ValueError) as exc:
+        raise InputError(f"--scheduler: cannot reach a dask scheduler at {address!r} ({exc}); give an address "
+                         "such as tcp://HOST:8786, or 'threads' / 'local'") from None
+    with client:
+        slots = sum(client.nthreads().values()) or 1
+        yield {"scheduler": f"dask.distributed at {address} ({slots} threads)", "slots": slots, "client": client}
+
+
+# --- output --------------------------------------------------------------------------------
+
+@dataclass
+class RegionSummary:
+    """Whole-region statistics accumulated while the tiles are written."""
+
+    antennas: list
+    cells: int = 0
+    cells_with_data: int = 0
+    reach: np.ndarray = field(default=None)
+    reach_with_headroom: np.ndarray = field(default=None)
+    depth_sum: np.ndarray = field(default=None)
+    recommended: np.ndarray = field(default=None)  # counts: index 0 = none reaches, i+1 = antenna i
+    tiles: int = 0
+
+    def __post_init__(self):
+        n = len(self.antennas)
+        self.reach = np.zeros(n, np.int64)
+        self.reach_with_headroom = np.zeros(n, np.int64)
+        self.depth_sum = np.zeros(n)
+        self.recommended = np.zeros(n + 1, np.int64)
+
+    def add(self, max_depth, margin, rec, *, reaches_db: float):
+        valid = rec != _REC_FILL
+        self.cells += rec.size
+        self.cells_with_data += int(valid.sum())
+        self.reach += np.count_nonzero((margin >= 0) & valid, axis=(1, 2))
+        self.reach_with_headroom += np.count_nonzero((margin >= reaches_db) & valid, axis=(1, 2))
+        self.depth_sum += np.where(valid, max_depth, 0.0).sum(axis=(1, 2))
+        self.recommended += np.bincount(rec[valid].astype(np.int64) + 1, minlength=self.recommended.size)
+        self.tiles += 1
+
+    def rows(self) -> list[dict]:
+        n = max(self.cells_with_data, 1)
+        return [{"antenna": a, "reach_fraction": self.reach[i] / n,
+                 "reach_with_headroom_fraction": self.reach_with_headroom[i] / n,
+                 "mean_max_depth_m": self.depth_sum[i] / n if self.cells_with_data else float("nan"),
+                 "recommended_fraction": self.recommended[i + 1] / n}
+                for i, a in enumerate(self.antennas)]
+
+
+def _create_file(tmp, result, *, dtype, complevel: int, tile: tuple[int, int]):
+    """Create the CF NetCDF file with coordinates, grid mapping and empty layer variables."""
+    import netCDF4
+
+    nc = netCDF4.Dataset(tmp, "w", format="NETCDF4")
+    ny, nx = result.sizes["y"], result.sizes["x"]
+    nc.createDimension("antenna", result.sizes["antenna"])
+    nc.createDimension("y", ny)
+    nc.createDimension("x", nx)
+    for c in ("x", "y"):
+        if c in result.coords:
+            v = nc.createVariable(c, "f8", (c,))
+            v.setncatts(dict(result[c].attrs))
+            v[:] = result[c].values
+    names = nc.createVariable("antenna", str, ("antenna",))
+    names.setncatts(dict(result["antenna"].attrs))
+    for i, a in enumerate(result["antenna"].values):
+        names[i] = str(a)
+    for c in ("centre_frequency", "performance"):
+        v = nc.createVariable(c, "f8", ("antenna",))
+        v.setncatts(dict(result[c].attrs))
+        v[:] = result[c].values
+    if "crs" in result:
+        v = nc.createVariable("crs", "i4", ())
+        v.setncatts(dict(result["crs"].attrs))
+    ty, tx = min(tile[0], ny), min(tile[1], nx)
+    comp = {"zlib": complevel > 0, "complevel": complevel or None, "shuffle": complevel > 0}
+    comp = {k: v for k, v in comp.items() if v is not None}
+    for name, da in result.data_vars.items():
+        if name == "crs":
+            continue
+        if name == "recommended_antenna":
+            v = nc.createVariable(name, "i2", ("y", "x"), fill_value=_REC_FILL, chunksizes=(ty, tx), **comp)
+        else:
+            dims = da.dims
+            chunks = tuple(1 if d == "antenna" else (ty if d == "y" else tx) for d in dims)
+            v = nc.createVariable(name, dtype, dims, fill_value=np.array(np.nan, dtype), chunksizes=chunks, **comp)
+        attrs = dict(da.attrs)
+        if "antenna" in da.dims:
+            attrs["coordinates"] = "centre_frequency performance"
+        v.setncatts(attrs)
+    nc.setncatts({"Conventions": "CF-1.8", "title": "subsurf regional GPR feasibility map",
+                  "source": "subsurf.scale.write_region", **{k: v for k, v in result.attrs.items()}})
+    return nc
+
+
+def write_region(result, path, *, force: bool = False, batch: int = 4, dtype: str = "float32",
+                 complevel: int = 1, progress=None, caution: str | None = None) -> RegionSummary:
+    """Compute ``result`` (from :func:`feasibility_region`) tile by tile and write it to CF NetCDF.
+
+    Parameters
+    ----------
+    result : xarray.Dataset
+        Dask-backed output of :func:`feasibility_region`.
+    path : path-like
+        Output NetCDF; written under a temporary name and renamed when complete.
+    force : bool
+        Overwrite an existing output.
+    batch : int
+        Tiles computed at once by the active scheduler (memory ≈ batch × tile working set).
+    dtype : {"float32", "float64"}
+        Storage type of the layers (the chain itself runs in float64).
+    complevel : int
+        zlib level (0: no compression).
+    progress : callable, optional
+        Called with (tiles done, tiles total) after each batch.
+    caution : str, optional
+        Safety text stored as a global attribute.
+
+    Returns
+    -------
+    RegionSummary
+    """
+    import dask
+
+    from ..detection.budget import REACHES_MARGIN_DB
+    from ..io.outputs import atomic_path
+
+    if dtype not in ("float32", "float64"):
+        raise InputError(f"dtype must be float32 or float64, got {dtype!r}")
+    result = result.unify_chunks() if hasattr(result, "unify_chunks") else result
+    rec_da = result["recommended_antenna"].data
+    if not hasattr(rec_da, "to_delayed"):  # numpy-backed: one tile
+        result = result.chunk({"y": result.sizes["y"], "x": result.sizes["x"]})
+        rec_da = result["recommended_antenna"].data
+    ychunks, xchunks = rec_da.chunks
+    layers = [n for n in result.data_vars if n not in ("crs", "recommended_antenna")]
+    # unoptimised: the layers keep the keys of the one chain task per tile they share,
+    # so the chain runs once per tile however many layers are written
+    delayed = {n: result[n].data.to_delayed(optimize_graph=False) for n in layers + ["recommended_antenna"]}
+    y_edges = np.concatenate([[0], np.cumsum(ychunks)])
+    x_edges = np.concatenate([[0], np.cumsum(xchunks)])
+    tiles = [(i, j) for i in range(len(ychunks)) for j in range(len(xchunks))]
+    summary = RegionSummary(antennas=[str(a) for a in result["antenna"].values])
+    batch = max(int(batch), 1)
+    with atomic_path(path, force=force) as tmp:
+        nc = _create_file(tmp, result, dtype=dtype, complevel=complevel, tile=(max(ychunks), max(xchunks)))
+        try:
+            if caution:
+                nc.setncattr("caution", caution)
+            for start in range(0, len(tiles), batch):
+                group = tiles[start:start + batch]
+                wanted = []
+                for i, j in group:
+                    for n in layers + ["recommended_antenna"]:
+                        d = delayed[n]
+                        wanted.append(d[0, i, j] if d.ndim == 3 else d[i, j])
+                computed = dask.compute(*wanted)
+                k = 0
+                for i, j in group:
+                    ys = slice(int(y_edges[i]), int(y_edges[i + 1]))
+                    xs = slice(int(x_edges[j]), int(x_edges[j + 1]))
+                    blocks = {}
+                    for n in layers + ["recommended_antenna"]:
+                        blocks[n] = computed[k]
+                        k += 1
+                    for n in layers:
+                        b = blocks[n]
+                        if b.ndim == 3:
+                            nc[n][:, ys, xs] = b.astype(dtype)
+                        else:
+                            nc[n][ys, xs] = b.astype(dtype)
+                    nc["recommended_antenna"][ys, xs] = blocks["recommended_antenna"]
+                    summary.add(blocks["max_depth"], blocks["margin_db"], blocks["recommended_antenna"],
+                                reaches_db=REACHES_MARGIN_DB)
+                del computed, blocks
+                if progress is not None:
+                    progress(min(start + batch, len(tiles)), len(tiles))
+        finally:
+            nc.close()
+    return summary
+

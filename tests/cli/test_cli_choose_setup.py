@@ -1,0 +1,98 @@
+"""`subsurf choose` and `subsurf setup` as a user runs them (subprocess)."""
+
+import json
+import subprocess
+import sys
+
+import pytest
+
+from subsurf.io.outputs import CAUTION
+
+
+def run(*args):
+    return subprocess.run([sys.executable, "-m", "subsurf", *args], capture_output=True, text=True, timeout=120)
+
+
+def test_choose_direct_ground_table():
+    """choose on direct ε'/σ prints one row per antenna, a recommendation and the caution."""
+    p = run("choose", "--eps", "9", "--sigma", "5 mS/m", "--target", "line", "--depth", "1.2",
+            "--size", "20 cm", "--material", "metal")
+    assert p.returncode == 0, p.stderr
+    assert "midband-250" in p.stdout and "Recommendation:" in p.stdout and "Caution:" in p.stdout
+
+
+def test_choose_soil_json():
+    """choose on a soil texture preset gives JSON with rows, a verdict each, recommendation and caution."""
+    p = run("choose", "--texture", "loam", "--moisture", "15 %", "--target", "point", "--depth", "1",
+            "--size", "0.6", "--material", "void", "--json")
+    assert p.returncode == 0, p.stderr
+    out = json.loads(p.stdout)
+    assert len(out["rows"]) == 6 and out["caution"] == CAUTION
+    assert {r["verdict"] for r in out["rows"]} <= {"reaches", "marginal", "does not reach"}
+    assert "reason" in out["recommendation"]
+
+
+def test_choose_unknown_antenna_one_line_error():
+    """An unknown antenna: exit 1, one line on stderr listing the available ones."""
+    p = run("choose", "--eps", "9", "--target", "planar", "--depth", "2", "--antenna", "nope")
+    assert p.returncode == 1 and "available: lowband-50" in p.stderr and len(p.stderr.strip().splitlines()) == 1
+
+
+@pytest.mark.parametrize("flag,value", [("--depth", "-1"), ("--size", "0")])
+def test_choose_nonpositive_inputs(flag, value):
+    """Non-positive depth or size: exit 1 naming the flag."""
+    args = {"--depth": "1", "--size": "0.2"}
+    args[flag] = value
+    p = run("choose", "--eps", "9", "--target", "line", "--depth", args["--depth"], "--size", args["--size"])
+    assert p.returncode == 1 and flag in p.stderr
+
+
+def test_choose_target_wider_than_footprint_notes():
+    """A target wider than the footprint is reported as a note on stderr (warning, not failure)."""
+    p = run("choose", "--eps", "9", "--target", "point", "--depth", "0.3", "--size", "5", "--material", "void")
+    assert p.returncode == 0 and "footprint" in p.stderr
+
+
+def test_setup_table_and_caution():
+    """setup prints the settings with their rules and the caution."""
+    p = run("setup", "--antenna", "midband-250", "--eps", "9", "--sigma", "10 mS/m", "--target", "line",
+            "--depth", "1.5", "--size", "0.1", "--material", "metal", "--area", "2000 m^2")
+    assert p.returncode == 0, p.stderr
+    assert "time window" in p.stdout and "survey time" in p.stdout and "Caution:" in p.stdout
+
+
+def test_setup_json_window_rule():
+    """setup --json: window = 1.3 × 2d/v with v from the ground (ε' = 16, σ small: v ≈ c/4)."""
+    p = run("setup", "--antenna", "lowband-100", "--eps", "16", "--sigma", "0.1 mS/m", "--depth", "6", "--json")
+    assert p.returncode == 0, p.stderr
+    out = json.loads(p.stdout)
+    assert out["settings"]["window_ns"] == pytest.approx(1.3 * 2 * 6 / (0.299792458 / 4), rel=1e-3)
+    assert out["caution"] == CAUTION
+
+
+def test_setup_max_depth_from_soil():
+    """setup without --depth uses the target's maximum detectable depth on a soil preset."""
+    p = run("setup", "--antenna", "lowband-100", "--texture", "loamy_sand", "--moisture", "10 %",
+            "--target", "planar", "--material", "water_table", "--json")
+    assert p.returncode == 0, p.stderr
+    out = json.loads(p.stdout)
+    assert out["settings"]["depth_m"] > 0 and out["target"]["kind"] == "planar"
+
+
+def test_setup_speed_too_high_refused():
+    """A towing speed above the trace-rate limit: exit 1 with the reason."""
+    p = run("setup", "--antenna", "lowband-50", "--eps", "9", "--depth", "3", "--speed", "20")
+    assert p.returncode == 1 and "trace rate" in p.stderr
+
+
+def test_choose_target_sigma_without_target_eps_refused():
+    """--target-sigma alone would be silently ignored (the material's σ is used): exit 1 naming it."""
+    p = run("choose", "--eps", "9", "--target", "planar", "--depth", "1", "--target-sigma", "5")
+    assert p.returncode == 1 and "--target-sigma goes with --target-eps" in p.stderr
+    assert len(p.stderr.strip().splitlines()) == 1
+
+
+def test_choose_nan_depth_names_flag():
+    """--depth nan: one-line error naming --depth (not an internal parameter or a numpy repr)."""
+    p = run("choose", "--eps", "9", "--target", "line", "--depth", "nan", "--size", "0.1")
+    assert p.returncode == 1 and "--depth" in p.stderr and "np.float64" not in p.stderr

@@ -1,0 +1,121 @@
+"""`subsurf demo` as a user meets it: a subprocess writing a new folder."""
+
+from __future__ import annotations
+
+import json
+import subprocess
+import sys
+
+import pytest
+
+
+def _run(*args, cwd):
+    return subprocess.run([sys.executable, "-m", "subsurf", *args], capture_output=True, text=True, cwd=cwd,
+                          timeout=600)
+
+
+@pytest.fixture(scope="module")
+def demo(tmp_path_factory):
+    """Run the demo once with the default folder name in a fresh working folder."""
+    cwd = tmp_path_factory.mktemp("demo-cwd")
+    res = _run("demo", cwd=cwd)
+    return cwd, res
+
+
+def test_demo_exits_zero_and_names_the_report(demo):
+    """Exit 0; stdout lists what was written and where to open the report."""
+    cwd, res = demo
+    assert res.returncode == 0, res.stderr
+    report = cwd / "subsurf-demo" / "report.html"
+    assert report.is_file()
+    assert report.resolve().as_uri() in res.stdout
+    for name in ("report.html", "summary.json", "time_to_depth.csv", "maps/feasibility.nc", "maps/map_antennas.png"):
+        assert name in res.stdout
+        assert (cwd / "subsurf-demo" / name).is_file()
+    assert "fictional" in res.stdout
+
+
+def test_demo_leaves_no_temporary_folder(demo):
+    """Only the finished folder remains in the working folder (temporary build renamed)."""
+    cwd, _ = demo
+    assert sorted(p.name for p in cwd.iterdir()) == ["subsurf-demo"]
+
+
+def test_demo_summary_json_has_caution_and_ranking(demo):
+    """summary.json carries the caution, the recommendation and every example antenna."""
+    from subsurf.io.outputs import CAUTION
+
+    cwd, _ = demo
+    data = json.loads((cwd / "subsurf-demo" / "summary.json").read_text(encoding="utf-8"))
+    assert data["caution"] == CAUTION
+    assert "reason" in data and data["reason"]
+    assert {r["name"] for r in data["ranking"]} == {"lowband-100", "midband-250", "midband-500", "highband-1000"}
+
+
+def test_demo_report_embeds_the_maps(demo):
+    """The report embeds the map figures and the scenario comparison of the example (dry, wet)."""
+    cwd, _ = demo
+    page = (cwd / "subsurf-demo" / "report.html").read_text(encoding="utf-8")
+    assert page.count('src="data:image/png;base64,') >= 7
+    assert "Scenario and antenna comparison" in page
+    assert ">dry<" in page and ">wet<" in page
+
+
+def test_demo_refuses_existing_folder(demo):
+    """A second run without --force exits 3 with one line and changes nothing."""
+    cwd, _ = demo
+    marker = cwd / "subsurf-demo" / "mine.txt"
+    marker.write_text("user file")
+    res = _run("demo", cwd=cwd)
+    assert res.returncode == 3
+    assert res.stderr.strip().count("\n") == 0 and "--force" in res.stderr
+    assert marker.read_text() == "user file"
+    marker.unlink()
+
+
+@pytest.mark.slow
+def test_demo_force_replaces_folder(tmp_path):
+    """With --force an earlier demo folder is replaced by a complete new one."""
+    out = tmp_path / "d"
+    (out / "maps").mkdir(parents=True)
+    (out / "report.html").write_text("old")
+    (out / "maps" / "summary.csv").write_text("old")
+    res = _run("demo", "--out", str(out), "--force", "--quiet", cwd=tmp_path)
+    assert res.returncode == 0, res.stderr
+    assert (out / "report.html").read_text() != "old"
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["d"]
+
+
+def test_demo_force_keeps_folder_with_other_files(tmp_path):
+    """--force never deletes a folder holding files the demo did not write: exit 3, one line, file kept."""
+    out = tmp_path / "d"
+    out.mkdir()
+    (out / "notes.txt").write_text("user file")
+    res = _run("demo", "--out", str(out), "--force", "--quiet", cwd=tmp_path)
+    assert res.returncode == 3 and res.stderr.strip().count("\n") == 0 and "notes.txt" in res.stderr
+    assert (out / "notes.txt").read_text() == "user file"
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["d"]
+
+
+def test_demo_json_output(tmp_path):
+    """--json prints the same result as JSON (files list, report path, caution)."""
+    res = _run("demo", "--out", "j", "--json", cwd=tmp_path)
+    assert res.returncode == 0, res.stderr
+    payload = json.loads(res.stdout)
+    assert payload["report"].endswith("report.html")
+    assert "report.html" in payload["files"]
+    assert payload["caution"]
+
+
+def test_demo_report_site_sentence_uses_the_6db_rule(demo):
+    """The report's 'across the site' line quotes, per scenario, the best area with 6 dB to spare from the
+    map's own summary.json (the report calls only margin >= 6 dB 'reaches')."""
+    import re
+
+    cwd, _ = demo
+    rows = json.loads((cwd / "subsurf-demo" / "maps" / "summary.json").read_text(encoding="utf-8"))["summary"]
+    page = (cwd / "subsurf-demo" / "report.html").read_text(encoding="utf-8")
+    for sc in ("dry", "wet"):
+        best = max(r["reach_headroom_pct"] for r in rows if r["scenario"] == sc)
+        m = re.search(rf"{sc}: \S+ reaches the target with 6 dB to spare over (\d+) %", page)
+        assert m and int(m.group(1)) == round(best), sc

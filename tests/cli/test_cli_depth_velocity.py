@@ -1,0 +1,148 @@
+"""The depth and velocity subcommands as a user meets them (subprocess)."""
+
+import json
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+
+EXAMPLES = Path(__file__).resolve().parents[2] / "surveys" / "picks"
+
+
+def _run(*args, cwd=None):
+    return subprocess.run([sys.executable, "-m", "subsurf", *args], capture_output=True, text=True, cwd=cwd)
+
+
+def test_depth_single_value_json():
+    """A single time converts to √((vt/2)² − (x/2)²) and the JSON carries the caution."""
+    r = _run("depth", "--twt", "20 ns", "--velocity", "0.1 m/ns", "--offset", "0.2 m", "--json")
+    assert r.returncode == 0, r.stderr
+    out = json.loads(r.stdout)
+    assert out["picks"][0]["depth_m"] == pytest.approx(((0.1 * 20 / 2) ** 2 - 0.1**2) ** 0.5)
+    assert "excavation" in out["caution"]
+
+
+def test_depth_table_writes_csv_and_geojson(tmp_path):
+    """Pick table → CSV and GeoJSON in the survey CRS with target elevation and caution."""
+    r = _run("depth", "--picks", str(EXAMPLES / "fictional_utility_picks.csv"), "--velocity", "0.095",
+             "--velocity-se", "0.003", "--time-zero", "2", "--offset", "0.14",
+             "--out-csv", "d.csv", "--out-geojson", "d.geojson", cwd=tmp_path)
+    assert r.returncode == 0, r.stderr
+    gj = json.loads((tmp_path / "d.geojson").read_text())
+    f0 = gj["features"][0]
+    assert f0["geometry"]["coordinates"] == [512340.0, 5403210.0]
+    p = f0["properties"]
+    assert p["target_elev_m"] == pytest.approx(p["surface_elev_m"] - p["depth_m"])
+    assert "excavation" in gj["caution"]
+    csv_text = (tmp_path / "d.csv").read_text()
+    assert "CAUTION" in csv_text and "depth_sd_m" in csv_text
+
+
+def test_depth_reprojects_to_survey_crs(tmp_path):
+    """Lon/lat picks written in EPSG:32633 land in UTM metres."""
+    r = _run("depth", "--picks", str(EXAMPLES / "fictional_lonlat_picks.csv"), "--velocity", "0.1",
+             "--crs", "EPSG:32633", "--json")
+    assert r.returncode == 0, r.stderr
+    row = json.loads(r.stdout)["picks"][0]
+    assert 400_000 < row["easting_m"] < 600_000 and 5_000_000 < row["northing_m"] < 6_000_000
+
+
+def test_depth_refuses_overwrite(tmp_path):
+    """An existing output gives exit 3 and stays unchanged."""
+    (tmp_path / "d.csv").write_text("keep")
+    r = _run("depth", "--picks", str(EXAMPLES / "fictional_utility_picks.csv"), "--velocity", "0.1",
+             "--out-csv", "d.csv", cwd=tmp_path)
+    assert r.returncode == 3
+    assert (tmp_path / "d.csv").read_text() == "keep"
+
+
+def test_depth_bad_file_names_rows_and_writes_nothing(tmp_path):
+    """A bad table gives exit 1, one stderr line naming the rows, and no output file."""
+    r = _run("depth", "--picks", str(EXAMPLES / "fictional_bad_picks.csv"), "--velocity", "0.1",
+             "--out-csv", "d.csv", cwd=tmp_path)
+    assert r.returncode == 1
+    assert "row 5, column 'twt_ns'" in r.stderr and len(r.stderr.strip().splitlines()) == 1
+    assert list(tmp_path.iterdir()) == []
+
+
+def test_depth_before_time_zero_named_per_row():
+    """Picks before time zero are refused row by row."""
+    r = _run("depth", "--picks", str(EXAMPLES / "fictional_lonlat_picks.csv"), "--velocity", "0.1",
+             "--time-zero", "22 ns")
+    assert r.returncode == 1
+    assert "row 4, column 'twt_ns'" in r.stderr and "before time zero" in r.stderr
+
+
+def test_depth_separation_too_large():
+    """A time too short for the separation is refused."""
+    r = _run("depth", "--twt", "5", "--velocity", "0.1", "--offset", "1.0")
+    assert r.returncode == 1 and "no real depth" in r.stderr
+
+
+def test_depth_layered_reports_monte_carlo():
+    """A layered run reports MC draws and seed next to the first-order spread."""
+    r = _run("depth", "--twt", "30", "--layer", "0.6 m, 0.11 m/ns, 0.004 m/ns", "--layer", "-, 0.08, 0.004",
+             "--draws", "500", "--seed", "2", "--json")
+    assert r.returncode == 0, r.stderr
+    out = json.loads(r.stdout)
+    assert "500 draws, seed 2" in out["inputs"]["uncertainty"]
+    assert out["picks"][0]["depth_mc_sd_m"] == pytest.approx(out["picks"][0]["depth_sd_m"], rel=0.15)
+
+
+def test_velocity_hyperbola_example(tmp_path):
+    """The hyperbola example fits both targets near the invented 0.095 m/ns and writes the figure."""
+    r = _run("velocity", "--picks", str(EXAMPLES / "fictional_hyperbolas.csv"), "--offset", "0.14",
+             "--figure", "f.png", "--out-json", "f.json", "--json", cwd=tmp_path)
+    assert r.returncode == 0, r.stderr
+    fits = json.loads(r.stdout)["fits"]
+    assert [f["target"] for f in fits] == ["P1", "P2"]
+    p2 = fits[1]
+    assert abs(p2["velocity_m_per_ns"] - 0.095) < 3 * p2["velocity_se_m_per_ns"]
+    assert abs(p2["depth_m"] - 1.30) < 3 * p2["depth_se_m"]
+    assert any(d["row"] == 7 for d in fits[0]["downweighted"])  # the deliberate mis-pick
+    assert (tmp_path / "f.png").read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+    assert json.loads((tmp_path / "f.json").read_text())["fits"][0]["target"] == "P1"
+
+
+def test_velocity_cmp_dix():
+    """The CMP example gives interval velocities near the invented 0.11 and 0.08 m/ns."""
+    r = _run("velocity", "--picks", str(EXAMPLES / "fictional_cmp.csv"), "--json")
+    assert r.returncode == 0, r.stderr
+    iv = json.loads(r.stdout)["interval_velocities"]
+    assert iv[0]["interval_velocity_m_per_ns"] == pytest.approx(0.11, abs=3 * iv[0]["interval_velocity_se_m_per_ns"])
+    assert iv[1]["interval_velocity_m_per_ns"] == pytest.approx(0.08, abs=3 * iv[1]["interval_velocity_se_m_per_ns"])
+
+
+def test_velocity_calibration():
+    """A target at a known depth gives v = 2d/t."""
+    r = _run("velocity", "--known-depth", "1.2 m", "--twt", "24 ns", "--json")
+    assert r.returncode == 0, r.stderr
+    assert json.loads(r.stdout)["fits"][0]["velocity_m_per_ns"] == pytest.approx(0.1)
+
+
+def test_velocity_too_few_picks(tmp_path):
+    """A hyperbola with three picks is refused with exit 1, naming the target."""
+    p = tmp_path / "p.csv"
+    p.write_text("line,target,distance_m,twt_ns\nA,T,0,10\nA,T,1,9\nA,T,2,10\n")
+    r = _run("velocity", "--picks", str(p))
+    assert r.returncode == 1 and "target 'T'" in r.stderr and "at least 4" in r.stderr
+
+
+@pytest.mark.parametrize("flags", [["--velocity", "10"], ["--velocity", "-0.1"],
+                                   ["--layer", "0.5 m, 0.5 m/ns", "--layer", "-, 0.1 m/ns"]])
+def test_depth_velocity_outside_zero_to_c_names_flag_and_range(flags):
+    """A velocity above c (0.2998 m/ns, scipy.constants) or <= 0 is one line naming the flag and the range in m/ns."""
+    p = _run("depth", "--twt", "25", *flags)
+    assert p.returncode == 1
+    lines = p.stderr.strip().splitlines()
+    assert len(lines) == 1
+    assert flags[0] in lines[0] and "0.2998 m/ns" in lines[0]
+
+
+def test_velocity_radius_typo_mentions_fit():
+    """A mistyped --radius ('fitt') is one line that names the 'fit' choice besides a length."""
+    p = _run("velocity", "--picks", str(EXAMPLES / "fictional_hyperbolas.csv"), "--radius", "fitt")
+    assert p.returncode == 1
+    assert len(p.stderr.strip().splitlines()) == 1
+    assert "--radius" in p.stderr and "'fit'" in p.stderr

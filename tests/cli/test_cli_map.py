@@ -1,0 +1,147 @@
+"""`subsurf map` as a user runs it: exit codes, stdout, JSON and files written."""
+
+from __future__ import annotations
+
+import json
+import subprocess
+import sys
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+EXAMPLE = Path(__file__).resolve().parents[2] / "surveys" / "example-site"
+
+
+def run(*args, cwd=None):
+    return subprocess.run([sys.executable, "-m", "subsurf", "map", *map(str, args)], capture_output=True,
+                          text=True, cwd=cwd, timeout=300)
+
+
+def coarse_copy(tmp_path) -> Path:
+    """The example survey with 6 m cells and 40 draws (fast), reading the example's own inputs."""
+    text = (EXAMPLE / "survey.toml").read_text()
+    for name in ("outline.geojson", "samples.csv", "zones.geojson", "ground_temperature.nc"):
+        text = text.replace(f'"{name}"', f'"{(EXAMPLE / name).as_posix()}"')
+    text = text.replace('cell_size = "2 m"', 'cell_size = "6 m"').replace("draws = 200", "draws = 40")
+    p = tmp_path / "coarse.toml"
+    p.write_text(text)
+    return p
+
+
+@pytest.fixture(scope="module")
+def mapped(tmp_path_factory):
+    tmp = tmp_path_factory.mktemp("map")
+    survey = coarse_copy(tmp)
+    out = tmp / "out"
+    proc = run(survey, "--out", out, "--json")
+    return proc, out, survey
+
+
+def test_exit_zero_and_json_caution(mapped):
+    """The map runs, prints JSON with the caution, the Monte Carlo settings and a row per scenario × antenna."""
+    proc, _, _ = mapped
+    assert proc.returncode == 0, proc.stderr
+    data = json.loads(proc.stdout)
+    assert "verify buried services" in data["caution"]
+    assert data["monte_carlo"]["draws"] == 40 and data["monte_carlo"]["seed"] == 20240611
+    assert len(data["summary"]) == 2 * 4
+    assert proc.stderr == ""
+
+
+def test_all_outputs_written(mapped):
+    """NetCDF, three PNGs and CSV/Markdown/JSON summaries exist; no temporary files are left."""
+    _, out, _ = mapped
+    for name in ("feasibility.nc", "map_antennas.png", "map_scenarios.png", "map_soil_inputs.png",
+                 "summary.csv", "summary.md", "summary.json"):
+        assert (out / name).stat().st_size > 0, name
+    assert not list(out.rglob("*.partial"))
+    assert (out / "map_antennas.png").read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+
+
+def test_netcdf_cf_attributes(mapped):
+    """Read back with xarray: CF conventions, units, grid_mapping with a WKT that pyproj parses as UTM 30N."""
+    import xarray as xr
+    from pyproj import CRS
+
+    _, out, _ = mapped
+    with xr.open_dataset(out / "feasibility.nc") as ds:
+        assert ds.attrs["Conventions"].startswith("CF-")
+        assert "verify buried services" in ds.attrs["comment"]
+        assert ds.attrs["monte_carlo_draws"] == 40
+        for v in ("max_depth", "margin_db", "velocity", "attenuation_db_per_m", "reach_probability"):
+            assert ds[v].attrs["units"] and ds[v].attrs["long_name"]
+            assert ds[v].attrs["grid_mapping"] == "crs"
+            assert ds[v].dims == ("scenario", "antenna", "y", "x")
+        assert CRS.from_wkt(ds["crs"].attrs["crs_wkt"]).to_epsg() == 32630
+        assert ds["lat"].attrs["units"] == "degrees_north" and ds["x"].attrs["units"] == "m"
+        inside = ds["mask"].values.astype(bool)
+        assert np.all(np.isnan(ds["max_depth"].values[..., ~inside]))
+        assert np.all(np.isfinite(ds["max_depth"].values[..., inside]))
+
+
+def test_netcdf_coordinate_variables_numeric(mapped):
+    """Read back with netCDF4: every variable named as its dimension is numeric without _FillValue (CF-1.8
+    section 1.3 coordinate-variable definition, section 2.5.1); scenario/antenna names are label variables."""
+    import netCDF4
+
+    _, out, _ = mapped
+    with netCDF4.Dataset(out / "feasibility.nc") as nc:
+        for name in nc.dimensions:
+            if name in nc.variables:
+                var = nc.variables[name]
+                assert np.issubdtype(var.dtype, np.number) and "_FillValue" not in var.ncattrs(), name
+        assert "scenario" not in nc.variables and "antenna" not in nc.variables
+        assert list(nc.variables["scenario_name"][:]) == ["dry", "wet"]
+        assert "scenario_name" in nc.variables["max_depth"].coordinates.split()
+        assert "antenna_name" in nc.variables["max_depth"].coordinates.split()
+
+
+@pytest.mark.filterwarnings("ignore::PendingDeprecationWarning")  # third-party, reading GeoTIFF
+def test_geotiff_layers_have_crs(mapped):
+    """With the geo extra, GeoTIFF layers carry the grid CRS and the same values as the NetCDF."""
+    rioxarray = pytest.importorskip("rioxarray")
+    import xarray as xr
+
+    _, out, _ = mapped
+    tif = out / "geotiff" / "max_depth__dry__midband-250.tif"
+    da = rioxarray.open_rasterio(tif).squeeze()
+    assert da.rio.crs.to_epsg() == 32630
+    with xr.open_dataset(out / "feasibility.nc") as ds:
+        ds = ds.set_xindex("scenario_name").set_xindex("antenna_name")
+        ref = ds["max_depth"].sel(scenario_name="dry", antenna_name="midband-250").values
+    assert np.allclose(da.values, ref, equal_nan=True)
+
+
+def test_existing_outputs_not_overwritten(mapped, tmp_path):
+    """A second run into the same folder exits 3 and leaves the files untouched; --force overwrites."""
+    _, out, survey = mapped
+    before = (out / "summary.csv").stat().st_mtime_ns
+    proc = run(survey, "--out", out)
+    assert proc.returncode == 3 and "--force" in proc.stderr
+    assert (out / "summary.csv").stat().st_mtime_ns == before
+
+
+def test_bad_survey_one_line_error(tmp_path):
+    """A survey with an unknown antenna exits 1 with one line naming the file and field."""
+    p = coarse_copy(tmp_path)
+    p.write_text(p.read_text().replace('"midband-500"', '"nosuch-123"'))
+    proc = run(p, "--out", tmp_path / "o")
+    assert proc.returncode == 1
+    lines = proc.stderr.strip().splitlines()
+    assert len(lines) == 1 and "antennas.names" in lines[0] and "nosuch-123" in lines[0]
+    assert not (tmp_path / "o" / "feasibility.nc").exists()
+
+
+def test_missing_survey_file(tmp_path):
+    """A survey path that does not exist is a one-line error, exit 1."""
+    proc = run(tmp_path / "none.toml", "--out", tmp_path / "o")
+    assert proc.returncode == 1 and "not found" in proc.stderr
+
+
+@pytest.mark.slow
+def test_bundled_example_maps(tmp_path):
+    """The README's command maps the bundled example."""
+    proc = run(EXAMPLE / "survey.toml", "--out", tmp_path / "maps")
+    assert proc.returncode == 0, proc.stderr
+    assert "Fernhollow Paddock" in proc.stdout and "Caution" in proc.stdout

@@ -1,0 +1,197 @@
+"""Survey files: schema, CRS handling and bad input (subsurf.survey)."""
+
+from __future__ import annotations
+
+import json
+import math
+from pathlib import Path
+
+import pytest
+
+from subsurf.errors import FileInputError, InputError
+from subsurf.site.survey import auto_utm_crs, load_survey
+
+EXAMPLE = Path(__file__).resolve().parents[2] / "surveys" / "example-site" / "survey.toml"
+
+# a 100 m x 60 m box in UTM 31N (invented)
+E0, N0 = 500_000.0, 5_700_000.0
+BASE = f"""
+[site]
+name = "test box (invented)"
+bbox = [{E0}, {N0}, {E0 + 100}, {N0 + 60}]
+crs = "EPSG:32631"
+[grid]
+cell_size = "5 m"
+[soil]
+texture = "loamy_sand"
+[soil.defaults]
+moisture = "15 %"
+pore_water_ec = "20 mS/m"
+[target]
+kind = "line"
+depth = "1 m"
+size = "0.1 m"
+material = "metal"
+[antennas]
+names = ["midband-250"]
+"""
+
+
+def write(tmp_path, text=BASE, *, samples=None, outline=None):
+    if samples is not None:
+        (tmp_path / "s.csv").write_text(samples)
+        text += '\n[[soil.samples]]\nfile = "s.csv"\ncrs = "EPSG:32631"\n'
+    if outline is not None:
+        (tmp_path / "o.geojson").write_text(json.dumps(outline))
+        text = text.replace(f"bbox = [{E0}, {N0}, {E0 + 100}, {N0 + 60}]", 'outline = "o.geojson"')
+    p = tmp_path / "survey.toml"
+    p.write_text(text)
+    return p
+
+
+def utm_epsg_by_formula(lon, lat):
+    """UTM zone by its definition: 6-degree zones from 180 W; 326xx north, 327xx south."""
+    zone = int(math.floor((lon + 180.0) / 6.0)) + 1
+    return (32600 if lat >= 0 else 32700) + zone
+
+
+@pytest.mark.parametrize("lon,lat", [(-1.6, 52.2), (2.35, 48.85), (151.2, -33.9), (-70.6, -33.4), (139.7, 35.7)])
+def test_auto_utm_zone_matches_definition(lon, lat):
+    """The automatic UTM zone (pyproj database) equals the zone from the UTM definition."""
+    assert auto_utm_crs(lon, lat).to_epsg() == utm_epsg_by_formula(lon, lat)
+
+
+def test_auto_utm_refuses_polar_site():
+    """Latitudes outside the UTM band are refused with the allowed range named."""
+    with pytest.raises(InputError, match="-80 to 84"):
+        auto_utm_crs(10.0, 86.0)
+
+
+def test_example_survey_loads_with_auto_utm():
+    """The bundled example picks WGS 84 / UTM 30N and reads all its inputs."""
+    s = load_survey(EXAMPLE)
+    assert s.grid_crs.to_epsg() == 32630 and s.grid_crs_source == "auto-utm"
+    assert len(s.samples[0].x) == 16 and len(s.zones[0].names) == 2 and s.rasters[0].quantity == "temperature"
+    assert [sc.name for sc in s.scenarios] == ["dry", "wet"]
+
+
+def test_sample_units_converted_to_si(tmp_path):
+    """'moisture [%]' and 'pore_water_ec [mS/m]' columns become fractions and S/m."""
+    p = write(tmp_path, samples="x,y,moisture [%],pore_water_ec [mS/m]\n"
+              f"{E0 + 10},{N0 + 10},20,30\n{E0 + 50},{N0 + 20},25,40\n{E0 + 80},{N0 + 50},30,50\n")
+    s = load_survey(p)
+    assert s.samples[0].values["moisture"].tolist() == pytest.approx([0.20, 0.25, 0.30])
+    assert s.samples[0].values["pore_water_ec"].tolist() == pytest.approx([0.030, 0.040, 0.050])
+
+
+def test_missing_crs_named(tmp_path):
+    """A site without a CRS is a one-line error naming the field site.crs."""
+    p = write(tmp_path, BASE.replace('crs = "EPSG:32631"\n', "", 1))
+    with pytest.raises(FileInputError, match=r"field 'site\.crs'.*CRS is required"):
+        load_survey(p)
+
+
+def test_unknown_crs_named(tmp_path):
+    """An unknown EPSG code is refused with the field named."""
+    p = write(tmp_path, BASE.replace('crs = "EPSG:32631"', 'crs = "EPSG:999999"', 1))
+    with pytest.raises(FileInputError, match=r"site\.crs.*unknown CRS"):
+        load_survey(p)
+
+
+def test_geographic_grid_crs_refused(tmp_path):
+    """A grid CRS in degrees is refused: the grid needs metres."""
+    p = write(tmp_path, BASE.replace('cell_size = "5 m"', 'crs = "EPSG:4326"\ncell_size = "5 m"'))
+    with pytest.raises(FileInputError, match="not projected"):
+        load_survey(p)
+
+
+def test_self_intersecting_outline_refused(tmp_path):
+    """A bow-tie outline is not a valid polygon: error names the file and the reason."""
+    bow = {"type": "Polygon", "coordinates": [[[E0, N0], [E0 + 100, N0 + 60], [E0 + 100, N0], [E0, N0 + 60],
+                                                [E0, N0]]]}
+    p = write(tmp_path, outline=bow)
+    with pytest.raises(FileInputError, match=r"o\.geojson.*not valid.*Self-intersection"):
+        load_survey(p)
+
+
+def test_empty_outline_refused(tmp_path):
+    """An outline with no polygon features is refused."""
+    p = write(tmp_path, outline={"type": "FeatureCollection", "features": []})
+    with pytest.raises(FileInputError, match="no polygon features"):
+        load_survey(p)
+
+
+def test_nan_in_samples_names_row(tmp_path):
+    """A NaN value names the file, its line number and the column."""
+    p = write(tmp_path, samples=f"x,y,moisture\n{E0 + 1},{N0 + 1},0.2\n{E0 + 2},{N0 + 9},nan\n")
+    with pytest.raises(FileInputError, match=r"s\.csv, row 3, field 'moisture'"):
+        load_survey(p)
+
+
+def test_missing_coordinate_column(tmp_path):
+    """A sample file without its y column names the missing column."""
+    p = write(tmp_path, samples=f"x,moisture\n{E0 + 1},0.2\n")
+    with pytest.raises(FileInputError, match=r"missing coordinate column 'y'"):
+        load_survey(p)
+
+
+def test_unparseable_unit(tmp_path):
+    """A header unit that is not a conductivity is refused, naming the column."""
+    p = write(tmp_path, samples=f"x,y,pore_water_ec [kg]\n{E0 + 1},{N0 + 1},20\n")
+    with pytest.raises(FileInputError, match=r"field 'pore_water_ec \[kg\]'.*unit"):
+        load_survey(p)
+
+
+def test_value_out_of_range_names_row(tmp_path):
+    """A moisture of 95 % is outside the accepted range; the row is named."""
+    p = write(tmp_path, samples=f"x,y,moisture [%]\n{E0 + 1},{N0 + 1},95\n")
+    with pytest.raises(FileInputError, match=r"row 2.*outside the accepted range"):
+        load_survey(p)
+
+
+def test_unknown_antenna_kind_of_target(tmp_path):
+    """An unknown target kind lists the allowed kinds."""
+    p = write(tmp_path, BASE.replace('kind = "line"', 'kind = "sphere"'))
+    with pytest.raises(FileInputError, match="planar, point, line"):
+        load_survey(p)
+
+
+@pytest.mark.parametrize("lon,lat,epsg", [
+    (5.32, 60.39, 32632),   # Bergen: south-western Norway is mapped in UTM zone 32 (from memory)
+    (15.63, 78.22, 32633),  # Longyearbyen, Svalbard: UTM zone 33X (from memory)
+    (10.0, 80.0, 32633),    # Svalbard zones 31X/33X/35X/37X replace 32X, 34X, 36X (from memory)
+])
+def test_auto_utm_norway_svalbard_exceptions(lon, lat, epsg):
+    """The UTM grid's Norway and Svalbard exceptions pick the zones used there, not the plain 6-degree zone."""
+    assert auto_utm_crs(lon, lat).to_epsg() == epsg
+
+
+def test_vertical_crs_refused(tmp_path):
+    """A vertical-only CRS (EPSG:5703, NAVD88 height) cannot place an outline: one line naming site.crs."""
+    p = write(tmp_path, BASE.replace('crs = "EPSG:32631"', 'crs = "EPSG:5703"', 1))
+    with pytest.raises(FileInputError, match=r"site\.crs.*not a horizontal"):
+        load_survey(p)
+
+
+def test_temperature_offset_in_kelvin_is_a_difference(tmp_path):
+    """A scenario offset of '3 K' (and an sd of '1.8 degF') are differences: 3 and 1 degC (SI definitions)."""
+    p = write(tmp_path, BASE.replace('pore_water_ec = "20 mS/m"', 'pore_water_ec = "20 mS/m"\ntemperature = '
+                                     '"10 degC"\ntemperature_sd = "1.8 degF"')
+              + '\n[[scenarios]]\nname = "warm"\noffset = { temperature = "3 K" }\n')
+    s = load_survey(p)
+    assert s.scenarios[0].offset["temperature"] == pytest.approx(3.0, abs=1e-9)
+    assert s.default_sd["temperature"] == pytest.approx(1.0, abs=1e-9)
+
+
+def test_monte_carlo_draws_not_a_number(tmp_path):
+    """draws = "many" is a one-line error naming monte_carlo.draws, not an internal error."""
+    p = write(tmp_path, BASE + '\n[monte_carlo]\ndraws = "many"\n')
+    with pytest.raises(FileInputError, match=r"monte_carlo\.draws.*whole number"):
+        load_survey(p)
+
+
+def test_single_bracket_samples_table(tmp_path):
+    """[soil.samples] written with single brackets is explained (an array of tables is needed)."""
+    p = write(tmp_path, BASE + '\n[soil.samples]\nfile = "s.csv"\ncrs = "EPSG:32631"\n')
+    with pytest.raises(FileInputError, match=r"soil\.samples.*double brackets"):
+        load_survey(p)
