@@ -10,27 +10,10 @@ from __future__ import annotations
 
 import argparse
 import math
-from dataclasses import dataclass, field
+from typing import TYPE_CHECKING
 
-
-@dataclass
-class Medium:
-    """The ground as the wave sees it: ε(f) and σ, with a label and the facts used."""
-
-    label: str
-    facts: dict = field(default_factory=dict)
-    eps_const: complex | None = None
-    sigma_const: float | None = None
-    soil: object | None = None  # subsurf.soil.Soil
-
-    def electrical(self, freq_hz):
-        """Return (eps, sigma) at ``freq_hz`` without counting conduction twice."""
-        import numpy as np
-
-        if self.soil is not None:
-            return self.soil.electrical(freq_hz)
-        f = np.asarray(freq_hz, dtype=float)
-        return np.full(f.shape, self.eps_const, dtype=complex), np.full(f.shape, self.sigma_const)
+if TYPE_CHECKING:
+    from ..ground.medium import Medium
 
 
 def add_medium_arguments(parser: argparse.ArgumentParser) -> None:
@@ -85,6 +68,7 @@ _SOIL_FILE_KEYS = {
 def medium_from_args(args, *, required: bool = True) -> Medium | None:
     """Build the :class:`Medium` described by the parsed flags; errors name the flag."""
     from ..errors import InputError
+    from ..ground.medium import Medium
     from ..units import parse_quantity
 
     soil_given = any(getattr(args, k, None) is not None for k in _SOIL_FLAGS) or args.texture or args.soil

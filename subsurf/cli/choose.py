@@ -86,19 +86,6 @@ def parse_surface_loss(text):
     return v
 
 
-def target_summary(target) -> dict:
-    out = {"kind": target.kind, "depth_m": target.depth_m, "size_m": target.size_m,
-           "material": target.material}
-    if target.conductor:
-        out["perfect_conductor"] = True
-    elif target.eps is not None:
-        out["eps_real"] = complex(target.eps).real
-        out["sigma_ms_per_m"] = target.sigma * 1e3
-    else:
-        out["reflection"] = target.reflection
-    return out
-
-
 def add_arguments(parser) -> None:
     from ._medium_args import add_medium_arguments
 
@@ -126,7 +113,7 @@ def compute(medium, target, antennas, *, surface_loss_db=None) -> dict:
     """Rows (human units) and recommendation for ``target`` in ``medium``."""
     from ..detection.budget import REACHES_MARGIN_DB
     from ..io.outputs import CAUTION
-    from ..planning.antennas import rank_antennas, recommend
+    from ..planning.antennas import rank_antennas, recommend, target_summary
 
     rows_si = rank_antennas(medium.electrical, antennas, target, surface_loss_db=surface_loss_db)
     rows = []

@@ -114,11 +114,11 @@ def run(args) -> int:
         print_result,
     )
     from ..io.progress import progress_enabled
-    from ..planning.antennas import get_antenna, load_catalogue
+    from ..planning.antennas import get_antenna, load_catalogue, target_summary
     from ..site import regional as scale
     from ..site import synthetic
     from ..units import parse_quantity
-    from .choose import parse_depth, target_from_args, target_summary
+    from .choose import parse_depth, target_from_args
 
     if (args.soil is None) == (args.synthetic is None):
         raise InputError("give the soil as exactly one of --soil FILE.nc or --synthetic NXxNY")

@@ -290,11 +290,11 @@ def _nice_step(x: float) -> float:
 
 def _acquisition(antenna, site: SiteSoil, target, *, area_m2: float | None) -> dict:
     """Acquisition settings for ``antenna`` at the target depth, from ``subsurf setup``'s computation."""
-    from ..cli._medium_args import Medium
-    from ..cli.setup import ROWS_SPEC, compute
+    from ..ground.medium import Medium
+    from ..planning.plan import ROWS_SPEC, acquisition_for_antenna
 
     medium = Medium(label="site median soil", facts=dict(site.mapping), soil=site.soil)
-    result = compute(medium, antenna, target=target, depth_m=target.depth_m, area_m2=area_m2)
+    result = acquisition_for_antenna(medium, antenna, target=target, depth_m=target.depth_m, area_m2=area_m2)
     rows = []
     for key, label, unit, fmt, rule in ROWS_SPEC:
         value = result["settings"].get(key)

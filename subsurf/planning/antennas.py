@@ -258,6 +258,20 @@ def make_target(kind: str, *, depth_m=None, size_m=None, material: str | None = 
                   material=label)
 
 
+def target_summary(target) -> dict:
+    """The target as plain JSON-able facts (SI units, keys with units)."""
+    out = {"kind": target.kind, "depth_m": target.depth_m, "size_m": target.size_m,
+           "material": target.material}
+    if target.conductor:
+        out["perfect_conductor"] = True
+    elif target.eps is not None:
+        out["eps_real"] = complex(target.eps).real
+        out["sigma_ms_per_m"] = target.sigma * 1e3
+    else:
+        out["reflection"] = target.reflection
+    return out
+
+
 def rank_antennas(electrical, antennas: list[Antenna], target: Target, *, surface_loss_db=None,
                   reaches_db: float = REACHES_MARGIN_DB, n_band: int = 193) -> list[dict]:
     """Evaluate every antenna against a target in one vectorised pass.
