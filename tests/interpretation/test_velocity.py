@@ -264,3 +264,19 @@ def test_soil_velocity_rejects_bad_seed():
     """A negative seed is refused as an input error naming the seed."""
     with pytest.raises(InputError, match="seed must be an integer >= 0"):
         velocity_from_soil(_StandIn(moisture=0.2), 100e6, seed=-1)
+
+
+def test_public_velocity_path_keeps_design_names():
+    """subsurf.velocity re-exports fit_hyperbola and fit_cmp with the result fields DESIGN.md promises."""
+    import dataclasses
+
+    import subsurf.velocity as sv
+
+    hyper = {f.name for f in dataclasses.fields(sv.HyperbolaFit)}
+    assert {"velocity", "velocity_se", "x0", "x0_se", "depth", "depth_se", "rms_s", "weights"} <= hyper
+    cmp = {f.name for f in dataclasses.fields(sv.CmpFit)}
+    assert {"velocity", "velocity_se", "t0", "t0_se"} <= cmp
+    # the result of a real call through the public path, on exact hyperbola times (geometry)
+    x = np.linspace(-1.0, 1.0, 9)
+    f = sv.fit_hyperbola(x, 2 * np.hypot(x - 0.1, 0.8) / 1.0e8)
+    assert f.velocity == pytest.approx(1.0e8, rel=1e-6) and f.depth == pytest.approx(0.8, rel=1e-6)
