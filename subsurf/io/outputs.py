@@ -16,6 +16,7 @@ from collections.abc import Iterable, Sequence
 from pathlib import Path
 
 from ..errors import OutputExistsError
+from ..safety import CAUTION, CAUTION_LINES  # the one caution text, re-exported for the commands
 
 __all__ = [
     "CAUTION",
@@ -28,16 +29,6 @@ __all__ = [
     "atomic_write_text",
     "Column",
 ]
-
-CAUTION_LINES = (
-    "Predicted depths and ranges are estimates, not locations of buried objects.",
-    "Before any excavation, verify buried services by the means your local regulations "
-    "require (utility records, one-call notification, trial holes by qualified staff).",
-    "GPR transmitters are radio equipment; their licensing and permitted use differ by country.",
-    "Defer to local codes and licensed professional practice.",
-)
-CAUTION = " ".join(CAUTION_LINES)
-
 
 class Column:
     """A table column: key in the row dicts, header text, unit and number format."""

@@ -43,7 +43,7 @@ def acquisition_for_antenna(medium, antenna, *, target=None, depth_m=None, surfa
         resolution_at_depth,
     )
     from ..errors import InputError
-    from ..io.outputs import CAUTION
+    from ..safety import CAUTION
     from ..waves.propagation import wave_properties
     from .acquisition import plan_acquisition, stacks_for_margin
 
