@@ -74,6 +74,7 @@ def compute_maps(survey, *, quiet: bool = True):
     from ..planning.antennas import get_antenna, load_catalogue, make_target
     from ..site import feasibility as fz
     from ..site.grid import build_grid, soil_on_grid
+    from ..site.probability import DEFAULT_TOLERANCE, reach_probability
 
     catalogue = load_catalogue()
     antennas = []
@@ -97,15 +98,18 @@ def compute_maps(survey, *, quiet: bool = True):
     layers = {k: [] for k in fz.LAYER_ATTRS}
     rec_all = []
     fractions = []
+    sampled = []
     with steps(n_sc, desc="subsurf map", quiet=quiet) as bar:
         for sc in survey.scenarios:
             bar.start(sc.name)
             vals = fz.apply_scenario(base_values, sc)
             out = fz.evaluate(vals, antennas, target=target, target_depth_m=survey.target.depth_m,
                               texture=survey.texture, model=survey.soil_model)
-            p, se = fz.reach_probability(vals, base_sd, antennas, target=target,
-                                         target_depth_m=survey.target.depth_m, draws=survey.draws,
-                                         seed=survey.seed, texture=survey.texture, model=survey.soil_model)
+            r = reach_probability(vals, base_sd, antennas, target=target, target_depth_m=survey.target.depth_m,
+                                  draws=survey.draws, seed=survey.seed, texture=survey.texture,
+                                  model=survey.soil_model)
+            p, se = r.probability, r.error
+            sampled.append(r.sampled_fraction)
             out["reach_probability"], out["reach_probability_se"] = p, se
             for k in layers:
                 layers[k].append(out[k])
@@ -135,9 +139,12 @@ def compute_maps(survey, *, quiet: bool = True):
     for q in soil.data_vars:
         ds["soil_" + q if q not in ("distance_to_sample", "extrapolated") else q] = soil[q]
     ds["reach_probability"].attrs["comment"] = (
-        f"seeded Monte Carlo: {survey.draws} draws, numpy default_rng seed {survey.seed}; per-cell "
-        "soil values drawn from normal distributions with the measurement and interpolation "
-        "standard deviations; standard error in reach_probability_se")
+        "per-cell soil values normal with the measurement and interpolation standard deviations; "
+        f"first-order (linearised) probability where its estimated error is <= {DEFAULT_TOLERANCE:g}, "
+        f"seeded Monte Carlo elsewhere ({survey.draws} draws, seed {survey.seed}; cells sampled per scenario: "
+        + ", ".join(f"{s.name} {100 * f:.1f} %" for s, f in zip(survey.scenarios, sampled))
+        + "); estimated error in reach_probability_se")
+    ds["reach_probability"].attrs["sampled_fraction"] = np.array(sampled)
     return ds, grid, soil, antennas, target, fractions
 
 
@@ -183,7 +190,8 @@ def _markdown(rows, survey, caution: str) -> str:
         f"# Feasibility summary: {survey.name}", "",
         f"Target: {t.kind} ({t.material}, {t.size_m:g} m) at {t.depth_m:g} m depth. "
         f"Grid: {survey.cell_size_m:g} m cells in {survey.grid_crs.name}. "
-        f"Monte Carlo: {survey.draws} draws, seed {survey.seed}.", "",
+        f"Reach probability: first-order where accurate, else Monte Carlo ({survey.draws} draws, "
+        f"seed {survey.seed}).", "",
         head, sep, *body, "", f"> **Caution.** {caution}", ""])
 
 
@@ -294,10 +302,14 @@ def run_map(survey_path, out_dir, *, force: bool = False, quiet: bool = False, g
         with atomic_path(paths[key], force=force) as tmp:
             Path(tmp).write_text(content, encoding="utf-8")
         written[key] = paths[key]
+    sampled = [float(f) for f in ds["reach_probability"].attrs.get("sampled_fraction", [])]
     mc = {"draws": survey.draws, "seed": survey.seed,
           "max_standard_error": float(0.5 / np.sqrt(survey.draws)),
-          "method": "per-cell normal draws of each soil quantity (measurement and interpolation sd), "
-                    "common random numbers across antennas"}
+          "max_estimated_error": float(np.nanmax(ds["reach_probability_se"].values)),
+          "sampled_fraction": dict(zip([s.name for s in survey.scenarios], sampled)),
+          "method": "per-cell normal soil quantities (measurement and interpolation sd); first-order "
+                    "(linearised) probability where its estimated error is <= 0.01, else Monte Carlo draws "
+                    "keyed per tile of 256 cells, common random numbers across antennas"}
     summary_json = {"caution": CAUTION, "inputs": survey.describe(), "summary": rows, "monte_carlo": mc,
                     "grid": {"nx": int(grid.sizes["x"]), "ny": int(grid.sizes["y"]),
                              "cells_inside": int(grid["mask"].values.sum())}}
@@ -344,8 +356,9 @@ def run_map(survey_path, out_dir, *, force: bool = False, quiet: bool = False, g
                     written[key] = paths[key]
 
     lines = [text_table, "",
-             f"Monte Carlo: {survey.draws} draws (seed {survey.seed}); probability standard error "
-             f"<= {0.5 / np.sqrt(survey.draws):.3f}.",
+             f"Reach probability: first-order where accurate, Monte Carlo ({survey.draws} draws, seed "
+             f"{survey.seed}) on " + ", ".join(f"{100 * f:.1f} %" for f in sampled) + " of the cells; estimated "
+             f"error <= {mc['max_estimated_error']:.3f}.",
              f"Grid: {grid.sizes['x']} x {grid.sizes['y']} cells of {survey.cell_size_m:g} m in {crs_name} "
              f"({survey.grid_crs_source}); {int(grid['mask'].values.sum())} inside the site.",
              f"Wrote {len(written)} files to {Path(out_dir)}/ (NetCDF, "

@@ -237,8 +237,13 @@ def radar_cross_section(eps_host, sigma_host, freq_hz, target: Target):
     """
     if target.kind != "point":
         raise InputError(f"radar_cross_section is for point targets, got kind {target.kind!r}")
+    return _radar_cross_section(wave_properties(eps_host, sigma_host, freq_hz).beta, eps_host, sigma_host,
+                                freq_hz, target)
+
+
+def _radar_cross_section(k, eps_host, sigma_host, freq_hz, target: Target):
+    """:func:`radar_cross_section` with the host wavenumber k = β already known (the loss budget's)."""
     a = target.radius_m
-    k = wave_properties(eps_host, sigma_host, freq_hz).beta
     r2 = np.abs(target_reflection(eps_host, sigma_host, freq_hz, target)) ** 2
     optical = np.pi * a**2 * r2
     if target.conductor:
@@ -278,8 +283,12 @@ def echo_width(eps_host, sigma_host, freq_hz, target: Target):
     """
     if target.kind != "line":
         raise InputError(f"echo_width is for line targets, got kind {target.kind!r}")
+    return _echo_width(wave_properties(eps_host, sigma_host, freq_hz).beta, eps_host, sigma_host, freq_hz, target)
+
+
+def _echo_width(k, eps_host, sigma_host, freq_hz, target: Target):
+    """:func:`echo_width` with the host wavenumber k = β already known (the loss budget's)."""
     a = target.radius_m
-    k = wave_properties(eps_host, sigma_host, freq_hz).beta
     r2 = np.abs(target_reflection(eps_host, sigma_host, freq_hz, target)) ** 2
     optical = np.pi * a * r2
     if target.conductor:
@@ -383,9 +392,9 @@ def _loss_budget(eps, sigma, freq_hz, target: Target, gain, surface_loss_db):
             strength = _reflection_power_from_gamma(alpha, beta, *_alpha_beta(et.real, -et.imag, target.sigma, omega))
         factor = lam**2 * strength / ((4.0 * np.pi) ** 2 * 4.0)
     elif target.kind == "point":
-        factor = lam**2 * radar_cross_section(eps, sigma, freq_hz, target) / (4.0 * np.pi) ** 3
+        factor = lam**2 * _radar_cross_section(beta, eps, sigma, freq_hz, target) / (4.0 * np.pi) ** 3
     else:
-        factor = lam**2 * echo_width(eps, sigma, freq_hz, target) / (16.0 * np.pi**3)
+        factor = lam**2 * _echo_width(beta, eps, sigma, freq_hz, target) / (16.0 * np.pi**3)
     with np.errstate(divide="ignore"):
         k0 = -10.0 * np.log10(np.square(gain) * factor)
     if surface_loss_db is None:
@@ -481,9 +490,28 @@ def max_depth_and_margin(depth_m, eps, sigma, freq_hz, performance_db, *, target
 
 def _depth_and_margin(k0, p, alpha, perf, depth_m):
     """Maximum depth and margin at ``depth_m`` from the loss terms (shared by the checked and grid paths)."""
-    dmax = depth_from_loss_terms(k0, p, alpha, perf)
-    margin = perf - (k0 + 10.0 * p * np.log10(depth_m) + 2.0 * NP_TO_DB * alpha * depth_m)
-    return dmax, margin
+    return depth_from_loss_terms(k0, p, alpha, perf), _margin_from_loss_terms(k0, p, alpha, perf, depth_m)
+
+
+def _margin_from_loss_terms(k0, p, alpha, perf, depth_m):
+    """P − L(d) with L(d) = K₀ + 10·p·log10(d) + 2·(20/ln 10)·α·d."""
+    return perf - (k0 + 10.0 * p * np.log10(depth_m) + 2.0 * NP_TO_DB * alpha * depth_m)
+
+
+def _grid_margin(depth_m, eps, sigma, freq_hz, performance_db, *, target: Target, gain=1.0, surface_loss_db=None):
+    """:func:`margin_db` for the grid chain and the reach probability; ε and σ NOT validated.
+
+    As :func:`_grid_depth_and_margin` (ε, σ from a validated soil model; the small
+    per-antenna inputs checked) without the maximum depth: only what the margin needs.
+    """
+    perf = _check_performance(performance_db)
+    d = check_positive("depth_m", depth_m, unit="m")
+    g = check_positive("gain", gain)
+    freq = check_positive("freq_hz", freq_hz, unit="Hz")
+    if surface_loss_db is not None:
+        surface_loss_db = _check_surface_loss(surface_loss_db)
+    k0, p, alpha, _ = _loss_budget(eps, sigma, freq, target, g, surface_loss_db)
+    return _margin_from_loss_terms(k0, p, alpha, perf, d)
 
 
 def _grid_depth_and_margin(depth_m, eps, sigma, freq_hz, performance_db, *, target: Target, gain=1.0,

@@ -6,8 +6,8 @@ function, :func:`feasibility_chain`, whose inputs broadcast together — soil fi
 any shape against antenna parameters on a leading axis.  There are no per-cell Python
 loops.  :func:`evaluate` runs the chain for every antenna and scenario of a survey on
 the grid from :mod:`subsurf.grid`; :func:`reach_probability` estimates, per cell, the
-probability that the target depth is reachable from the input uncertainties by seeded
-Monte Carlo; :func:`area_fractions` summarises.  No file I/O here.
+probability that the target depth is reachable from the input uncertainties
+(:mod:`subsurf.site.probability`); :func:`area_fractions` summarises.  No file I/O here.
 
 The physics is not re-derived: soil → (ε, σ) is :class:`subsurf.soil.Soil`, wave
 properties are :func:`subsurf.propagation.wave_properties`, the loss budget, maximum
@@ -60,7 +60,8 @@ LAYER_ATTRS = {
                                          "centre frequency)",
                             "units": "m"},
     "reach_probability": {"long_name": "probability that the target depth is reachable", "units": "1"},
-    "reach_probability_se": {"long_name": "Monte Carlo standard error of the reach probability", "units": "1"},
+    "reach_probability_se": {"long_name": "estimated error of the reach probability (Monte Carlo standard error "
+                                          "where sampled, linearisation error bound elsewhere)", "units": "1"},
 }
 
 
@@ -153,8 +154,9 @@ def feasibility_chain(moisture, *, freq_hz, performance_db, target, target_depth
     soil = Soil(texture=texture, model=model, **filled)
     eps, sigma = soil.electrical(freq_hz)
     if margin_only:
-        margin = detection.margin_db(target_depth_m, eps, sigma, freq_hz, performance_db, target=target,
-                                     gain=gain, surface_loss_db=surface_loss_db)
+        # ε, σ from the Soil just validated: not re-checked (as the full path below)
+        margin = detection._grid_margin(target_depth_m, eps, sigma, freq_hz, performance_db, target=target,
+                                        gain=gain, surface_loss_db=surface_loss_db)
         return {"margin_db": np.where(np.broadcast_to(valid, np.shape(margin)), margin, np.nan)}
     # ε, σ come from the Soil just validated: the loss budget skips re-checking them (one α, β evaluation
     # serves velocity, attenuation, both reflection coefficients, the maximum depth and the margin)
@@ -299,76 +301,25 @@ def recommend_antenna(margin_db, freq_hz, *, reaches_db=None):
 
 
 def reach_probability(values: dict, sds: dict, antennas, *, target, target_depth_m, draws: int, seed: int,
-                      texture=None, model="crim", max_block: int = 2_000_000):
-    """Per-cell probability that each antenna reaches the target depth (margin ≥ 0), by Monte Carlo.
+                      texture=None, model="crim", method="auto"):
+    """Per-cell probability that each antenna reaches the target depth (margin ≥ 0), and its error.
 
-    Parameters
-    ----------
-    values, sds : dict of str -> ndarray
-        Soil quantities and their standard deviations (SI), all of one shape (cells).
-    draws : int
-        Number of Monte Carlo draws.
-    seed : int
-        Seed of ``numpy.random.default_rng``.
-    max_block : int
-        Largest draws × cells block evaluated at once (memory bound).
+    The estimate of :func:`subsurf.site.probability.reach_probability` (first-order where
+    it is accurate to 0.01, seeded Monte Carlo with ``draws`` draws where clipping or
+    nonlinearity matter; draws keyed per tile of cells, so results do not depend on how the
+    work is cut).
 
     Returns
     -------
-    p, se : ndarray, shape (n_antennas, *cells)
-        Probability and its Monte Carlo standard error √(p(1−p)/N).
-
-    Notes
-    -----
-    Each quantity with a standard deviation is drawn as value + sd·z, z ~ N(0, 1)
-    independently per cell and quantity, clipped to its accepted range (moisture also
-    below the porosity).  The same draws serve every antenna (common random numbers),
-    so antenna comparisons are not blurred by sampling noise.  Cells are processed in
-    blocks so that memory stays bounded; the draws of a cell do not depend on the block
-    size (each block's normals come from a generator spawned per cell block of fixed
-    size).
+    p, err : ndarray, shape (n_antennas, *cells)
+        Probability and its estimated error (the Monte Carlo standard error √(p(1−p)/N)
+        where sampled).
     """
-    from .survey import QUANTITIES
+    from .probability import reach_probability as _estimate
 
-    ref = np.asarray(next(iter(values.values())))
-    shape = ref.shape
-    flat = {k: np.asarray(v, float).ravel() for k, v in values.items()}
-    flat_sd = {k: np.asarray(v, float).ravel() for k, v in sds.items() if k in flat}
-    n = ref.size
-    valid = np.ones(n, bool)
-    for v in flat.values():
-        valid &= np.isfinite(v)
-    idx = np.flatnonzero(valid)
-    freq, perf, gain, _ = _antenna_axes(antennas, 2)
-    hits = np.zeros((len(antennas), n))
-    block = max(1, max_block // max(draws, 1))
-    block = 256 * max(1, block // 256)
-    root = np.random.SeedSequence(seed)
-    uncertain = [k for k in flat if k in flat_sd and np.any(flat_sd[k][valid] > 0)]
-    for b, start in enumerate(range(0, idx.size, block)):
-        cells = idx[start:start + block]
-        rng = np.random.default_rng(root.spawn(b + 1)[-1])
-        draw_vals = {}
-        for k in flat:
-            base = flat[k][cells][None, :]
-            if k in uncertain:
-                z = rng.standard_normal((draws, cells.size))
-                v = base + flat_sd[k][cells][None, :] * z
-            else:
-                v = np.broadcast_to(base, (draws, cells.size))
-            q = QUANTITIES[k]
-            draw_vals[k] = np.clip(v, q.low, q.high)
-        draw_vals = _clip_moisture(draw_vals, texture=texture)
-        try:
-            out = feasibility_chain(freq_hz=freq, performance_db=perf, gain=gain, target=target,
-                                    target_depth_m=target_depth_m, texture=texture, model=model,
-                                    margin_only=True, **_chain_kwargs(draw_vals))
-        except SubsurfError as exc:
-            raise InputError(f"Monte Carlo draws of the soil inputs are not physically possible: {exc}") from None
-        hits[:, cells] = np.mean(out["margin_db"] >= 0.0, axis=1)
-    p = np.where(valid[None, :], hits, np.nan).reshape((len(antennas),) + shape)
-    se = np.sqrt(p * (1.0 - p) / draws)
-    return p, se
+    r = _estimate(values, sds, antennas, target=target, target_depth_m=target_depth_m, draws=draws, seed=seed,
+                  texture=texture, model=model, method=method)
+    return r.probability, r.error
 
 
 def area_fractions(margin_db, mask, *, probability=None, reaches_db=None):
