@@ -24,6 +24,7 @@ COMMANDS: dict[str, str] = {
     "setup": "subsurf.cli.setup",
     "depth": "subsurf.cli.depth",
     "velocity": "subsurf.cli.velocity",
+    "calibrate": "subsurf.cli.calibrate",
     "map": "subsurf.cli.map",
     "region": "subsurf.cli.region",
     "report": "subsurf.cli.report",

@@ -93,6 +93,9 @@ def add_arguments(parser) -> None:
     add_target_arguments(parser, depth_required=True)
     parser.add_argument("--antenna", action="append", metavar="NAME",
                         help="only these antennas of the catalogue (repeatable)")
+    from ._calibration import add_calibration_argument
+
+    add_calibration_argument(parser)
 
 
 COLUMNS_SPEC = [
@@ -159,18 +162,30 @@ def run(args) -> int:
     with collect_warnings() as notes:
         catalogue = load_catalogue(args.catalogue)
         antennas = [get_antenna(n, catalogue) for n in args.antenna] if args.antenna else list(catalogue.values())
-        medium = medium_from_args(args)
+        medium = medium_from_args(args, required=not args.calibration)
         if args.target is None:
             from ..errors import InputError
 
             raise InputError("give the target kind with --target planar|point|line")
         target = target_from_args(args, depth_m=depth)
-        result = compute(medium, target, antennas, surface_loss_db=surface)
+        from ._calibration import add_model_columns, replan_inputs
+
+        ground, used, calibration = replan_inputs(args, medium, antennas)
+        result = compute(ground, target, used, surface_loss_db=surface)
+        if calibration and medium is not None:  # predicted (soil model, catalogue) beside observed
+            add_model_columns(result["rows"], compute(medium, target, antennas, surface_loss_db=surface)["rows"])
+        medium = ground
     result["warnings"] = notes
+    result["calibration"] = calibration
     t = result["target"]
     what = f"{t['kind']} target, {t['material']}" + (f", {t['size_m']:g} m across" if t["size_m"] else "")
     title = f"Ground: {medium.label}\nTarget: {what}, at {t['depth_m']:g} m"
-    text = format_table(result["rows"], [Column(*c) for c in COLUMNS_SPEC], title=title)
+    spec = list(COLUMNS_SPEC)
+    if calibration:
+        title += "\n" + calibration["note"]
+        if "model_max_depth_m" in result["rows"][0]:
+            spec[4:4] = [("model_max_depth_m", "model depth", "m", ".3g")]
+    text = format_table(result["rows"], [Column(*c) for c in spec], title=title)
     text += (f"\nverdict: reaches = margin >= {result['thresholds']['reaches_margin_db']:g} dB; "
              "marginal = 0 to that; perf includes stacking gain 10·log10(N).")
     text += "\nvert res = λ/4 at the frequency received from the target depth; footprint = semi-axis at depth."

@@ -25,6 +25,9 @@ def add_arguments(parser) -> None:
                    "to reach a 6 dB margin when a target is given)")
     a.add_argument("--grid-3d", action="store_true", help="plan 3D imaging (λ/4 line spacing) instead of 2D "
                    "detection lines for the survey time")
+    from ._calibration import add_calibration_argument
+
+    add_calibration_argument(parser)
 
 
 def run(args) -> int:
@@ -53,12 +56,16 @@ def run(args) -> int:
         raise InputError(f"--stacks must be an integer >= 1, got {args.stacks}")
     with collect_warnings() as warns:
         antenna = get_antenna(args.antenna, load_catalogue(args.catalogue))
-        medium = medium_from_args(args)
+        medium = medium_from_args(args, required=not args.calibration)
+        from ._calibration import replan_inputs
+
+        medium, (antenna,), calibration = replan_inputs(args, medium, [antenna])
         target = target_from_args(args, depth_m=depth)
         result = acquisition_for_antenna(medium, antenna, target=target, depth_m=depth, surface_loss_db=surface,
                          stacks=args.stacks, area_m2=area, line_length_m=line_length, speed_m_per_s=speed,
                          imaging=args.grid_3d)
     result["warnings"] = warns
+    result["calibration"] = calibration
     rows = [{"setting": label, "value": result["settings"][k], "unit": unit, "rule": rule, "_fmt": fmt}
             for k, label, unit, fmt, rule in ROWS_SPEC if result["settings"][k] is not None]
     for r in rows:
@@ -67,6 +74,8 @@ def run(args) -> int:
     title = (f"Antenna: {antenna.name} ({antenna.centre_freq_hz / 1e6:g} MHz)\nGround: {medium.label}  "
              f"(at {g['freq_mhz']:g} MHz: ε'={g['eps_real']:.3g}, v={g['velocity_m_per_ns']:.4f} m/ns, "
              f"α={g['attenuation_db_per_m']:.3g} dB/m)")
+    if calibration:
+        title += "\n" + calibration["note"]
     if result["target"]:
         t = result["target"]
         title += f"\nTarget: {t['kind']}, {t['material']}" + (f", {t['size_m']:g} m across" if t["size_m"] else "")

@@ -1,0 +1,128 @@
+"""The ground as a site calibration measured it: α(f) and v, as ε'(f), σ(f) for the budget.
+
+The detection budget takes a ground as ``electrical(freq_hz) -> (eps, sigma)``.  A
+calibration gives the attenuation at one frequency, its frequency slope from Q* and a
+velocity; :func:`effective_medium` inverts the Helmholtz propagation constant exactly so
+that :func:`subsurf.propagation.wave_properties` of the returned (ε', σ) gives back that
+α and v.  :class:`CalibratedGround` is a drop-in for :class:`subsurf.ground.medium.Medium`.
+"""
+
+from __future__ import annotations
+
+import warnings
+from dataclasses import dataclass, field
+
+import numpy as np
+from scipy import constants
+
+from ..errors import InputError, ModelRangeWarning, check_nonnegative, check_positive
+from ..waves.propagation import NP_TO_DB
+
+__all__ = ["effective_medium", "CalibratedGround"]
+
+
+def effective_medium(alpha_np_per_m, velocity, freq_hz):
+    """(ε', σ) of the medium whose propagation constant is γ = α + jω/v at ``freq_hz``.
+
+    Parameters
+    ----------
+    alpha_np_per_m : float or array_like
+        Attenuation constant (Np/m, ≥ 0).
+    velocity : float or array_like
+        Phase velocity (m/s, 0 < v ≤ c).
+    freq_hz : float or array_like
+        Frequency (Hz, > 0).  All three broadcast.
+
+    Returns
+    -------
+    (eps_real, sigma) : ndarray, ndarray
+        Relative permittivity (real, no separate ε'') and effective conductivity (S/m).
+
+    Notes
+    -----
+    From γ² = jωμ₀(σ + jωε₀ε') and γ = α + jβ, β = ω/v:
+    ε' = (β² − α²)/(ω²μ₀ε₀) and σ = 2αβ/(ωμ₀) (the real and imaginary parts of γ²; e.g.
+    Balanis, C. A. (2012). *Advanced Engineering Electromagnetics*, 2nd ed., Wiley, §4.3).
+
+    Raises
+    ------
+    InputError
+        If the result has ε' < 1 (an attenuation too large for that velocity).
+    """
+    a = check_nonnegative("alpha_np_per_m", alpha_np_per_m, unit="Np/m")
+    v = check_positive("velocity", velocity, unit="m/s")
+    f = check_positive("freq_hz", freq_hz, unit="Hz")
+    omega = 2.0 * np.pi * f
+    beta = omega / v
+    eps = (beta**2 - a**2) / (omega**2 * constants.mu_0 * constants.epsilon_0)
+    if np.any(eps < 1.0):
+        raise InputError(f"attenuation {float(np.max(a)) * NP_TO_DB:.3g} dB/m is too large for a velocity of "
+                         f"{float(np.min(v)) * 1e-9:.4g} m/ns (no ground has ε' < 1)")
+    return eps, 2.0 * a * beta / (omega * constants.mu_0)
+
+
+@dataclass
+class CalibratedGround:
+    """A ground of measured α(f) = α_ref + s·(f − f_ref) (clipped at 0) and constant velocity.
+
+    Attributes
+    ----------
+    attenuation_db_per_m : float
+        α at ``reference_freq_hz`` (dB/m).
+    reference_freq_hz : float
+    slope_db_per_m_per_hz : float
+        dα/df (dB/m per Hz) = 8.686·π/(Q*·v); 0 when Q* was not resolved.
+    velocity : float
+        m/s, taken as the same at every frequency.
+    band_hz : (float, float)
+        Frequencies the calibration measured; outside them α(f) is extrapolated (warned).
+    label : str
+        One line for tables ("site calibration FILE: ...").
+    facts : dict
+        What the calibration says, in human units (for JSON outputs).
+    """
+
+    attenuation_db_per_m: float
+    reference_freq_hz: float
+    slope_db_per_m_per_hz: float
+    velocity: float
+    band_hz: tuple[float, float]
+    label: str = "site calibration"
+    facts: dict = field(default_factory=dict)
+
+    def attenuation_at(self, freq_hz) -> np.ndarray:
+        """α(f) in dB/m (≥ 0), warning once when a frequency lies outside the calibrated band."""
+        f = np.asarray(freq_hz, dtype=float)
+        lo, hi = self.band_hz
+        outside = (f < lo * (1 - 1e-9)) | (f > hi * (1 + 1e-9))
+        if np.any(outside):
+            warnings.warn(f"site calibration measured {lo / 1e6:.4g}–{hi / 1e6:.4g} MHz; the attenuation outside "
+                          "that band is extrapolated along its "
+                          f"{'Q* slope' if self.slope_db_per_m_per_hz else 'single value (no Q* resolved)'}",
+                          ModelRangeWarning, stacklevel=3)
+        return np.maximum(self.attenuation_db_per_m + self.slope_db_per_m_per_hz * (f - self.reference_freq_hz), 0.0)
+
+    def electrical(self, freq_hz):
+        """(eps, sigma) at ``freq_hz`` reproducing the calibrated α(f) and v (see :func:`effective_medium`)."""
+        f = np.asarray(freq_hz, dtype=float)
+        eps, sigma = effective_medium(self.attenuation_at(f) / NP_TO_DB, self.velocity, f)
+        return eps.astype(complex), sigma
+
+    @classmethod
+    def from_record(cls, record: dict, *, source: str = "calibration") -> CalibratedGround:
+        """Build from a calibration file's content (:mod:`subsurf.io.calibration_file`, human units)."""
+        try:
+            att = float(record["attenuation"]["db_per_m"])
+            f_ref = float(record["attenuation"]["reference_freq_mhz"]) * 1e6
+            v = float(record["velocity"]["m_per_ns"]) * 1e9
+            q = record["q_star"].get("value")
+            lo, hi = (float(x) * 1e6 for x in record["band_mhz"])
+        except (KeyError, TypeError, ValueError, AttributeError) as exc:
+            raise InputError(f"{source}: not a subsurf site calibration ({exc})") from None
+        slope = 0.0 if q is None else NP_TO_DB * np.pi / (float(q) * v)
+        q_txt = f"Q*={float(q):.3g}" if q is not None else "Q* not resolved"
+        label = (f"site calibration {source}: α={att:.3g} dB/m at {f_ref / 1e6:.4g} MHz, {q_txt}, "
+                 f"v={v * 1e-9:.4g} m/ns")
+        facts = {"calibration_file": source, "attenuation_db_per_m": att, "reference_freq_mhz": f_ref / 1e6,
+                 "q_star": q, "velocity_m_per_ns": v * 1e-9, "band_mhz": [lo / 1e6, hi / 1e6]}
+        return cls(max(att, 0.0), f_ref, slope, v, (lo, hi), label, facts)
