@@ -120,6 +120,7 @@ def floor_time(antennas, chain_out):
 
 def child(n_side: int, chunk: int, out: str) -> None:
     """One chunked run in this (fresh) process; prints JSON."""
+    from subsurf.io.regional import write_region
     from subsurf.planning.antennas import load_catalogue, make_target
     from subsurf.site import regional as scale
     from subsurf.site.synthetic import synthetic_region
@@ -131,7 +132,7 @@ def child(n_side: int, chunk: int, out: str) -> None:
         soil = synthetic_region(side, side, seed=1, chunk=chunk)
         result = scale.feasibility_region(soil, antennas, target=target, target_depth_m=DEPTH, texture="loam")
         with scale.scheduler("threads") as sched:
-            return scale.write_region(result, path, force=True, batch=2 * sched["slots"])
+            return write_region(result, path, force=True, batch=2 * sched["slots"])
 
     run(32, out)  # warm-up: imports and configuration files, not part of the timing
     r0 = resource.getrusage(resource.RUSAGE_SELF)

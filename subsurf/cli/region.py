@@ -76,18 +76,6 @@ def _need_dask():
         raise InputError("subsurf region needs the optional scale extra: pip install 'subsurf[scale]'") from None
 
 
-def _write_soil(soil, path, *, force: bool, chunk: int):
-    import dask
-
-    from ..io.outputs import atomic_path
-
-    enc = {q: {"dtype": "float32", "zlib": True, "complevel": 1, "_FillValue": float("nan"),
-               "chunksizes": (min(chunk, soil.sizes["y"]), min(chunk, soil.sizes["x"]))}
-           for q in soil.data_vars if q != "crs"}
-    with atomic_path(path, force=force) as tmp, dask.config.set(scheduler="threads"):
-        soil.to_netcdf(tmp, engine="netcdf4", encoding=enc)
-
-
 COLUMNS_SPEC = [
     ("antenna", "antenna", "", ""),
     ("freq_mhz", "f", "MHz", ".4g"),
@@ -102,21 +90,17 @@ def run(args) -> int:
     import time
 
     _need_dask()
-    from ..detection.budget import REACHES_MARGIN_DB
     from ..errors import InputError
     from ..io.outputs import (
         CAUTION,
-        Column,
         check_outputs_free,
         collect_warnings,
-        format_table,
         print_notes,
         print_result,
     )
-    from ..io.progress import progress_enabled
-    from ..planning.antennas import get_antenna, load_catalogue, target_summary
-    from ..site import regional as scale
-    from ..site import synthetic
+    from ..io.regional import map_region, write_soil
+    from ..planning.antennas import get_antenna, load_catalogue
+    from ..site import regional, synthetic
     from ..units import parse_quantity
     from .choose import parse_depth, target_from_args
 
@@ -143,14 +127,14 @@ def run(args) -> int:
                                               nodata_fraction=args.nodata_fraction)
             source = f"synthetic region {nx}x{ny} cells of {cell:g} m, seed {args.seed} (invented data)"
         else:
-            soil = scale.open_region(args.soil, chunk=args.chunk)
+            soil = regional.open_region(args.soil, chunk=args.chunk)
             source = str(args.soil)
         ny, nx = soil.sizes["y"], soil.sizes["x"]
         payload = {"soil": source, "cells": nx * ny, "shape": {"y": ny, "x": nx}, "chunk": args.chunk,
                    "outputs": {}}
         t0 = time.perf_counter()
         if args.write_soil:
-            _write_soil(soil, args.write_soil, force=args.force, chunk=args.chunk)
+            write_soil(soil, args.write_soil, force=args.force)
             payload["outputs"]["soil"] = str(args.write_soil)
             payload["soil_write_seconds"] = time.perf_counter() - t0
         if args.out:
@@ -159,52 +143,25 @@ def run(args) -> int:
             catalogue = load_catalogue(args.catalogue)
             antennas = ([get_antenna(n, catalogue) for n in args.antenna] if args.antenna
                         else list(catalogue.values()))
-            result = scale.feasibility_region(soil, antennas, target=target, target_depth_m=depth,
-                                              texture=args.texture, model=args.model, layers=layers)
-            bar = None
-            if progress_enabled(quiet=args.quiet):
-                from tqdm import tqdm
-
-                bar = tqdm(total=1, desc="tiles", leave=False, unit="tile")
-
-            def progress(done, total):
-                if bar is not None:
-                    bar.total = total
-                    bar.n = done
-                    bar.refresh()
-
-            t1 = time.perf_counter()
-            try:
-                with scale.scheduler(args.scheduler, workers=args.workers) as sched:
-                    batch = args.batch or 2 * sched["slots"]
-                    summary = scale.write_region(result, args.out, force=args.force, batch=batch,
-                                                 dtype="float64" if args.float64 else "float32",
-                                                 progress=progress, caution=CAUTION)
-            finally:
-                if bar is not None:
-                    bar.close()
-            seconds = time.perf_counter() - t1
-            freqs = {a.name: a.centre_freq_hz for a in antennas}
-            rows = []
-            for r in summary.rows():
-                rows.append({"antenna": r["antenna"], "freq_mhz": freqs[r["antenna"]] / 1e6,
-                             "reach_percent": 100 * r["reach_fraction"],
-                             "headroom_percent": 100 * r["reach_with_headroom_fraction"],
-                             "mean_max_depth_m": r["mean_max_depth_m"],
-                             "recommended_percent": 100 * r["recommended_fraction"]})
-            none = summary.recommended[0] / max(summary.cells_with_data, 1)
-            payload.update({
-                "target": target_summary(target), "texture": args.texture, "soil_model": args.model,
-                "scheduler": sched["scheduler"], "tiles": summary.tiles, "batch": batch,
-                "cells_with_data": summary.cells_with_data, "map_seconds": seconds,
-                "cells_per_second": summary.cells / seconds if seconds > 0 else None,
-                "thresholds": {"reaches_margin_db": 0.0, "headroom_margin_db": REACHES_MARGIN_DB},
-                "rows": rows, "no_antenna_reaches_percent": 100 * none,
-            })
+            payload.update(map_region(soil, antennas, args.out, target=target, target_depth_m=depth,
+                                      texture=args.texture, model=args.model, layers=layers,
+                                      scheduler=args.scheduler, workers=args.workers, batch=args.batch,
+                                      float64=args.float64, force=args.force, quiet=args.quiet))
             payload["outputs"]["map"] = str(args.out)
     payload["warnings"] = notes
     payload["caution"] = CAUTION
-    lines = [f"Soil: {source}; {nx} x {ny} = {nx * ny:,} cells, chunk {args.chunk}"]
+    print_result(payload, summary_text(payload, args), as_json=args.json)
+    print_notes(notes, quiet=args.quiet or args.json)
+    return 0
+
+
+def summary_text(payload: dict, args) -> str:
+    """The readable lines printed after a regional run."""
+    from ..detection.budget import REACHES_MARGIN_DB
+    from ..io.outputs import CAUTION, Column, format_table
+
+    nx, ny = payload["shape"]["x"], payload["shape"]["y"]
+    lines = [f"Soil: {payload['soil']}; {nx} x {ny} = {nx * ny:,} cells, chunk {args.chunk}"]
     if args.write_soil:
         lines.append(f"Wrote synthetic soil raster {args.write_soil} ({payload['soil_write_seconds']:.1f} s)")
     if args.out:
@@ -213,13 +170,10 @@ def run(args) -> int:
         lines.append(f"Target: {what}, at {t['depth_m']:g} m; ground: {args.model} model, texture {args.texture}")
         lines.append(f"Computed on {payload['scheduler']}: {payload['tiles']} tiles in "
                      f"{payload['map_seconds']:.1f} s ({payload['cells_per_second']:,.0f} cells/s)")
-        table = format_table(payload["rows"], [Column(*c) for c in COLUMNS_SPEC])
-        lines.append(table)
+        lines.append(format_table(payload["rows"], [Column(*c) for c in COLUMNS_SPEC]))
         lines.append(f"Percentages of the {payload['cells_with_data']:,} cells with soil data; reaches = "
                      f"margin >= 0 dB, with headroom = margin >= {REACHES_MARGIN_DB:g} dB; no antenna reaches: "
                      f"{payload['no_antenna_reaches_percent']:.1f} %.")
         lines.append(f"Wrote {args.out}")
     lines.append(f"Caution: {CAUTION}")
-    print_result(payload, "\n".join(lines), as_json=args.json)
-    print_notes(notes, quiet=args.quiet or args.json)
-    return 0
+    return "\n".join(lines)

@@ -51,7 +51,7 @@ def make_report(survey_path, out_path, *, force: bool = False, quiet: bool = Fal
         tmp = None
         try:
             if maps and map_result is None:
-                from .map import run_map
+                from ..io.maps import run_map
 
                 bar.start("feasibility maps")
                 if maps_out is None:

@@ -1,4 +1,4 @@
-"""Edges that write: atomic outputs, tables and JSON, pick files, figures, the HTML report.
+"""Edges that write: atomic outputs, the one CF NetCDF encoder, tables and JSON, figures, the HTML report.
 
-Owns how results reach disk and screen; it computes no physics of its own.
+Owns how results reach disk and screen (one figure style, one NetCDF encoding); it computes no physics of its own.
 """

@@ -1,41 +1,30 @@
-# ---------------------------------------------------------------------------------------
-# Map figures of ``subsurf map`` (feasibility over a survey grid).
-# Kept in its own module so the velocity/report figures in plot.py stay separate.
-# ---------------------------------------------------------------------------------------
-"""Matplotlib figures of feasibility maps.
+"""Matplotlib figures of feasibility maps (``subsurf map``, the report's map section).
 
 Every map panel shows coordinates in metres with the grid CRS named on the axes, a
 colour bar with units, the site outline, the soil sample points, the target-depth
 contour where a depth layer is shown, and hatching where the soil values are
-extrapolated beyond the samples.  Functions return a ``matplotlib.figure.Figure``; the
-caller saves it.  The Agg backend is used so that no display is needed.
+extrapolated beyond the samples.  Functions return a ``matplotlib.figure.Figure`` drawn
+in the subsurf style (:mod:`subsurf.io.figstyle`, Agg canvas, no pyplot); the caller
+saves it with :func:`subsurf.io.figstyle.save_png`.
 """
 
 from __future__ import annotations
 
 import numpy as np
 
-__all__ = ["antenna_figure", "scenario_figure", "inputs_figure"]
+from .figstyle import DEPTH_CMAP, INPUT_CMAP, PALETTE, PROBABILITY_CMAP, SIZES, new_figure, styled
 
-#: Our own palette: sandy-to-teal for depth, red-to-blue for probability.
-_DEPTH_CMAP = "cividis"
-_PROB_CMAP = "RdYlBu"
-_HATCH_COLOUR = "#4a4a4a"
+__all__ = ["antenna_figure", "scenario_figure", "inputs_figure"]
 
 
 def _figure(n_panels: int, *, ncols: int | None = None, panel_w: float = 4.2, panel_h: float = 3.6, aspect=None):
-    import matplotlib
-
-    matplotlib.use("Agg", force=False)
-    import matplotlib.pyplot as plt
-
     ncols = ncols or min(n_panels, 3)
     nrows = int(np.ceil(n_panels / ncols))
     if aspect is not None:  # height/width of the site: size panels to the map
         # the map itself is narrower than the panel (tick labels, axis label take ~1.1 in)
         panel_h = min(max((panel_w - 1.1) * aspect, 1.6), 6.0) + 0.45
-    fig, axes = plt.subplots(nrows, ncols, figsize=(panel_w * ncols + 0.6, panel_h * nrows + 0.9),
-                             squeeze=False, sharex=True, sharey=True, layout="constrained")
+    fig = new_figure(panel_w * ncols + 0.6, panel_h * nrows + 0.9)
+    axes = fig.subplots(nrows, ncols, squeeze=False, sharex=True, sharey=True)
     for ax in axes.ravel()[n_panels:]:
         ax.set_visible(False)
     return fig, axes.ravel()[:n_panels]
@@ -50,20 +39,17 @@ def _decorate(ax, grid, *, outline=None, samples=None, extrapolated=None, crs_na
               last_row=True):
     x, y = grid["x"].values, grid["y"].values
     if extrapolated is not None and np.any(extrapolated):
-        import matplotlib as mpl
-
-        with mpl.rc_context({"hatch.color": _HATCH_COLOUR, "hatch.linewidth": 0.6}):
-            ax.contourf(x, y, np.asarray(extrapolated, float), levels=[0.5, 1.5], colors="none", hatches=["////"])
+        ax.contourf(x, y, np.asarray(extrapolated, float), levels=[0.5, 1.5], colors="none", hatches=["////"])
     if outline is not None:
         geoms = getattr(outline, "geoms", [outline])
         for g in geoms:
             ox, oy = g.exterior.xy
-            ax.plot(ox, oy, color="black", lw=1.2)
+            ax.plot(ox, oy, color=PALETTE["ink"], lw=1.2)
             for ring in g.interiors:
                 ix, iy = ring.xy
-                ax.plot(ix, iy, color="black", lw=0.8)
+                ax.plot(ix, iy, color=PALETTE["ink"], lw=0.8)
     if samples is not None and len(samples[0]):
-        ax.scatter(samples[0], samples[1], s=14, marker="o", facecolor="white", edgecolor="black", lw=0.7,
+        ax.scatter(samples[0], samples[1], s=14, marker="o", facecolor="white", edgecolor=PALETTE["ink"], lw=0.7,
                    zorder=5, label="soil samples")
     ax.set_aspect("equal")
     from matplotlib.ticker import MaxNLocator
@@ -71,11 +57,11 @@ def _decorate(ax, grid, *, outline=None, samples=None, extrapolated=None, crs_na
     ax.xaxis.set_major_locator(MaxNLocator(4))
     ax.yaxis.set_major_locator(MaxNLocator(5))
     ax.ticklabel_format(useOffset=False, style="plain")
-    ax.tick_params(labelsize=7)
+    ax.tick_params(labelsize=SIZES["map_tick"])
     if last_row:
-        ax.set_xlabel(f"easting (m), {crs_name}", fontsize=8)
+        ax.set_xlabel(f"easting (m), {crs_name}", fontsize=SIZES["map_label"])
     if first_col:
-        ax.set_ylabel(f"northing (m), {crs_name}", fontsize=8)
+        ax.set_ylabel(f"northing (m), {crs_name}", fontsize=SIZES["map_label"])
 
 
 def _mesh(ax, grid, data, *, cmap, vmin, vmax):
@@ -83,6 +69,7 @@ def _mesh(ax, grid, data, *, cmap, vmin, vmax):
                          vmin=vmin, vmax=vmax, shading="nearest")
 
 
+@styled
 def antenna_figure(grid, result, *, scenario: str, target_depth_m: float, outline, samples, crs_name: str,
                    title: str = ""):
     """Maximum detectable depth per antenna for one scenario, with the target-depth contour.
@@ -102,21 +89,22 @@ def antenna_figure(grid, result, *, scenario: str, target_depth_m: float, outlin
     ncols = 2 if len(names) == 4 else min(len(names), 3)
     for i, (ax, name) in enumerate(zip(axes, names)):
         data = da.sel(antenna=name).values
-        mesh = _mesh(ax, grid, data, cmap=_DEPTH_CMAP, vmin=0.0, vmax=vmax)
+        mesh = _mesh(ax, grid, data, cmap=DEPTH_CMAP, vmin=0.0, vmax=vmax)
         if np.nanmin(data) < target_depth_m < np.nanmax(data):
-            cs = ax.contour(grid["x"].values, grid["y"].values, data, levels=[target_depth_m], colors="#d7301f",
+            cs = ax.contour(grid["x"].values, grid["y"].values, data, levels=[target_depth_m], colors=PALETTE["second"],
                             linewidths=1.6)
-            ax.clabel(cs, fmt=lambda v: f"target {v:g} m", fontsize=7)
+            ax.clabel(cs, fmt=lambda v: f"target {v:g} m", fontsize=SIZES["note"])
         frac = float(np.nanmean(np.where(np.isfinite(data), data >= target_depth_m, np.nan)))
-        ax.set_title(f"{name}: reaches {target_depth_m:g} m over {100 * frac:.0f} % of site", fontsize=9)
+        ax.set_title(f"{name}: reaches {target_depth_m:g} m over {100 * frac:.0f} % of site", fontsize=SIZES["title"])
         _decorate(ax, grid, outline=outline, samples=samples, extrapolated=result["extrapolated"].values,
                   crs_name=crs_name, first_col=(i % ncols == 0), last_row=(i >= len(names) - ncols))
     fig.colorbar(mesh, ax=list(axes), label="maximum detectable depth (m)", shrink=0.85)
     fig.suptitle(title or f"Maximum detectable depth per antenna, scenario '{scenario}' "
-                 "(red: target depth; hatched: extrapolated soil)", fontsize=10)
+                 "(red: target depth; hatched: extrapolated soil)", fontsize=SIZES["suptitle"])
     return fig
 
 
+@styled
 def scenario_figure(grid, result, *, target_depth_m: float, outline, samples, crs_name: str, title: str = ""):
     """Probability of reaching the target with the recommended antenna, one panel per scenario."""
     scen = [str(s) for s in result["scenario"].values]
@@ -128,24 +116,25 @@ def scenario_figure(grid, result, *, target_depth_m: float, outline, samples, cr
         rec = result["recommended_antenna"].sel(scenario=s).values
         best = np.nanmax(np.where(np.isfinite(p), p, -1.0), axis=0)
         best = np.where(np.isfinite(p[0]), best, np.nan)
-        mesh = _mesh(ax, grid, best, cmap=_PROB_CMAP, vmin=0.0, vmax=1.0)
+        mesh = _mesh(ax, grid, best, cmap=PROBABILITY_CMAP, vmin=0.0, vmax=1.0)
         inside = np.isfinite(best)
         counts = {names[k]: int(np.count_nonzero((rec == k) & inside)) for k in range(len(names))}
         top = max(counts, key=counts.get) if counts else "-"
         none = int(np.count_nonzero((rec < 0) & inside))
-        ax.set_title(f"{s}: most cells {top}; no antenna: {100 * none / max(inside.sum(), 1):.0f} %", fontsize=9)
+        ax.set_title(f"{s}: most cells {top}; no antenna: {100 * none / max(inside.sum(), 1):.0f} %", fontsize=SIZES["title"])
         if np.nanmin(best) < 0.5 < np.nanmax(best):
-            ax.contour(grid["x"].values, grid["y"].values, best, levels=[0.5], colors="black", linewidths=1.0,
+            ax.contour(grid["x"].values, grid["y"].values, best, levels=[0.5], colors=PALETTE["ink"], linewidths=1.0,
                        linestyles="--")
         _decorate(ax, grid, outline=outline, samples=samples, extrapolated=result["extrapolated"].values,
                   crs_name=crs_name, first_col=(i % ncols == 0), last_row=True)
     fig.colorbar(mesh, ax=list(axes), label=f"probability of reaching {target_depth_m:g} m (best antenna, 1)",
                  shrink=0.85)
     fig.suptitle(title or "Scenarios: probability that the target depth is reachable "
-                 "(dashed: p = 0.5; hatched: extrapolated soil)", fontsize=10)
+                 "(dashed: p = 0.5; hatched: extrapolated soil)", fontsize=SIZES["suptitle"])
     return fig
 
 
+@styled
 def inputs_figure(grid, soil, *, outline, samples, crs_name: str, quantities=("moisture", "moisture_sd")):
     """Soil inputs on the grid (e.g. moisture and its standard deviation) with the samples."""
     from ..site.survey import QUANTITIES
@@ -162,10 +151,10 @@ def inputs_figure(grid, soil, *, outline, samples, crs_name: str, quantities=("m
         finite = data[np.isfinite(data)]
         vmax = float(finite.max() * scale) if finite.size else 1.0
         vmin = float(finite.min() * scale) if finite.size else 0.0
-        mesh = _mesh(ax, grid, data * scale, cmap="viridis", vmin=vmin, vmax=vmax if vmax > vmin else vmin + 1)
+        mesh = _mesh(ax, grid, data * scale, cmap=INPUT_CMAP, vmin=vmin, vmax=vmax if vmax > vmin else vmin + 1)
         fig.colorbar(mesh, ax=ax, label=f"{q} ({unit})", shrink=0.85)
-        ax.set_title(soil[q].attrs.get("long_name", q), fontsize=9)
+        ax.set_title(soil[q].attrs.get("long_name", q), fontsize=SIZES["title"])
         _decorate(ax, grid, outline=outline, samples=samples, extrapolated=soil["extrapolated"].values,
                   crs_name=crs_name, first_col=(i == 0))
-    fig.suptitle("Soil inputs on the grid (hatched: extrapolated)", fontsize=10)
+    fig.suptitle("Soil inputs on the grid (hatched: extrapolated)", fontsize=SIZES["suptitle"])
     return fig

@@ -4,15 +4,17 @@ Each function takes plain numbers (already computed by the physics modules; noth
 computed here but axis limits) in SI units and draws in the human units of the report
 (MHz, m/ns, dB/m, ns, m).  Figures are drawn on ``matplotlib.figure.Figure`` with the
 Agg canvas, never through pyplot's global state, so that report building is re-entrant
-and needs no display.  Colours are the report's own plain palette, chosen to stay
-distinguishable in greyscale print (different markers and line styles as well).
+and needs no display; fonts, sizes and colours are the shared subsurf style
+(:mod:`subsurf.io.figstyle`).
 """
 
 from __future__ import annotations
 
-import io
-
 import numpy as np
+
+from .figstyle import PALETTE, SIZES, new_figure, styled
+from .figstyle import png_bytes as figure_png
+from .figstyle import style_axes as _style
 
 __all__ = [
     "PALETTE",
@@ -23,49 +25,7 @@ __all__ = [
     "time_depth_png",
 ]
 
-#: The report's colours: ink, accent (teal), second (rust), third (ochre), muted grey, band fill.
-PALETTE = {
-    "ink": "#1d2733",
-    "accent": "#0f6b66",
-    "second": "#b4532a",
-    "third": "#8a6d0b",
-    "muted": "#7b8794",
-    "band": "#a8d0cc",
-    "site": "#e6efe9",
-}
-
-_DPI = 110
-
-
-def _new_figure(width_in: float, height_in: float):
-    from matplotlib.figure import Figure
-
-    fig = Figure(figsize=(width_in, height_in), dpi=_DPI, layout="constrained")
-    return fig
-
-
-def _style(ax):
-    ax.grid(True, which="major", color="#d5dbe1", linewidth=0.7)
-    ax.grid(True, which="minor", color="#eef1f4", linewidth=0.5)
-    ax.tick_params(colors=PALETTE["ink"], labelsize=8)
-    for side in ("top", "right"):
-        ax.spines[side].set_visible(False)
-    for side in ("left", "bottom"):
-        ax.spines[side].set_color(PALETTE["muted"])
-    ax.xaxis.label.set_color(PALETTE["ink"])
-    ax.yaxis.label.set_color(PALETTE["ink"])
-    ax.xaxis.label.set_size(9)
-    ax.yaxis.label.set_size(9)
-
-
-def figure_png(fig) -> bytes:
-    """Render a matplotlib Figure to PNG bytes (Agg, no display needed)."""
-    from matplotlib.backends.backend_agg import FigureCanvasAgg
-
-    FigureCanvasAgg(fig)
-    buf = io.BytesIO()
-    fig.savefig(buf, format="png", dpi=_DPI, facecolor="white")
-    return buf.getvalue()
+_new_figure = new_figure
 
 
 def _mark_antennas(ax, antenna_freqs_hz):
@@ -81,6 +41,7 @@ def _plain_log_ticks(axis, subs=(1.0, 2.0, 5.0)):
     axis.set_minor_formatter(FuncFormatter(lambda v, _: ""))
 
 
+@styled
 def site_map_png(outline_rings, samples=(), *, crs_name: str = "", scale_m: float | None = None,
                  zones=()) -> bytes:
     """Outline of the site with the soil sample positions, in the grid CRS (metres).
@@ -110,7 +71,7 @@ def site_map_png(outline_rings, samples=(), *, crs_name: str = "", scale_m: floa
         ax.plot(ring[:, 0] - x0, ring[:, 1] - y0, color=PALETTE["third"], linewidth=1.0,
                 linestyle="--", label="soil zones" if j == 0 else None)
         c = ring[:-1].mean(axis=0) if len(ring) > 1 else ring[0]
-        ax.annotate(name, (c[0] - x0, c[1] - y0), fontsize=7, color=PALETTE["third"], ha="center")
+        ax.annotate(name, (c[0] - x0, c[1] - y0), fontsize=SIZES["legend"], color=PALETTE["third"], ha="center")
     markers = ["o", "s", "^", "D"]
     colours = [PALETTE["second"], PALETTE["ink"], PALETTE["third"], PALETTE["muted"]]
     for k, (label, sx, sy) in enumerate(samples):
@@ -122,12 +83,13 @@ def site_map_png(outline_rings, samples=(), *, crs_name: str = "", scale_m: floa
     ax.set_xlabel(f"easting − {x0:,.0f} m")
     ax.set_ylabel(f"northing − {y0:,.0f} m")
     if crs_name:
-        ax.set_title(crs_name, fontsize=8, color=PALETTE["muted"], loc="left")
+        ax.set_title(crs_name, fontsize=SIZES["tick"], color=PALETTE["muted"], loc="left")
     _style(ax)
-    ax.legend(fontsize=7, loc="best", frameon=True, framealpha=0.9)
+    ax.legend(fontsize=SIZES["legend"], loc="best", frameon=True, framealpha=0.9)
     return figure_png(fig)
 
 
+@styled
 def ground_properties_png(freq_hz, eps_real, eps_imag, velocity_m_per_s, attenuation_db_per_m, *,
                           antenna_freqs_hz=(), eps_effective=None) -> bytes:
     """Four panels against frequency: ε', ε'' (and σ_eff/(ωε₀)), velocity and attenuation.
@@ -159,7 +121,7 @@ def ground_properties_png(freq_hz, eps_real, eps_imag, velocity_m_per_s, attenua
         if k == 1 and eps_effective is not None:
             ax.plot(f_mhz, eps_effective, color=PALETTE["ink"], linewidth=1.4, linestyle="--",
                     label="ε''_eff with conduction")
-            ax.legend(fontsize=7, loc="best")
+            ax.legend(fontsize=SIZES["legend"], loc="best")
         ax.set_xscale("log")
         _plain_log_ticks(ax.xaxis, subs=(1.0,))
         if yscale == "log" and np.all(y[np.isfinite(y)] > 0):
@@ -174,6 +136,7 @@ def ground_properties_png(freq_hz, eps_real, eps_imag, velocity_m_per_s, attenua
     return figure_png(fig)
 
 
+@styled
 def max_depth_png(freq_hz, depth_curves, target_depth_m: float, antennas, *, target_label: str = "target") -> bytes:
     """Maximum detectable depth against frequency, the target depth and the antennas.
 
@@ -201,7 +164,7 @@ def max_depth_png(freq_hz, depth_curves, target_depth_m: float, antennas, *, tar
             top = max(top, min(float(finite.max()), 4.0 * max(target_depth_m, 0.1)))
     ax.axhline(target_depth_m, color=PALETTE["second"], linewidth=1.4, linestyle="--")
     ax.annotate(f"{target_label}: {target_depth_m:.2g} m", (f_mhz.min(), target_depth_m),
-                xytext=(4, -11), textcoords="offset points", fontsize=8, color=PALETTE["second"])
+                xytext=(4, -11), textcoords="offset points", fontsize=SIZES["tick"], color=PALETTE["second"])
     for a in antennas:
         rec = bool(a.get("recommended"))
         d = float(a["max_depth_m"])
@@ -211,7 +174,7 @@ def max_depth_png(freq_hz, depth_curves, target_depth_m: float, antennas, *, tar
                    color=PALETTE["second"] if rec else (PALETTE["accent"] if reach else PALETTE["ink"]),
                    zorder=4, edgecolor="white" if reach or rec else None, linewidth=0.6)
         ax.annotate(a["name"] + (" (recommended)" if rec else ""), (a["freq_hz"] / 1e6, min(d, top * 1.05)),
-                    xytext=(5, 4), textcoords="offset points", fontsize=7,
+                    xytext=(5, 4), textcoords="offset points", fontsize=SIZES["legend"],
                     color=PALETTE["second"] if rec else PALETTE["ink"],
                     fontweight="bold" if rec else "normal")
     ax.set_xscale("log")
@@ -221,10 +184,11 @@ def max_depth_png(freq_hz, depth_curves, target_depth_m: float, antennas, *, tar
     ax.set_ylabel("maximum detectable depth (m)")
     _style(ax)
     if depth_curves:
-        ax.legend(fontsize=7, loc="lower left")
+        ax.legend(fontsize=SIZES["legend"], loc="lower left")
     return figure_png(fig)
 
 
+@styled
 def time_depth_png(twt_s, depth_m, depth_low_m, depth_high_m, *, velocity_text: str = "",
                    target_depth_m: float | None = None) -> bytes:
     """Two-way travel time against depth with the uncertainty band (the field chart).
@@ -252,8 +216,8 @@ def time_depth_png(twt_s, depth_m, depth_low_m, depth_high_m, *, velocity_text: 
     ax.set_xlabel("two-way travel time after time zero (ns)")
     ax.set_ylabel("depth (m)")
     if velocity_text:
-        ax.set_title(velocity_text, fontsize=8, color=PALETTE["muted"], loc="left")
+        ax.set_title(velocity_text, fontsize=SIZES["tick"], color=PALETTE["muted"], loc="left")
     _style(ax)
     ax.minorticks_on()
-    ax.legend(fontsize=7, loc="upper right")
+    ax.legend(fontsize=SIZES["legend"], loc="upper right")
     return figure_png(fig)

@@ -1,31 +1,23 @@
-"""Matplotlib figures (Agg backend; matplotlib is imported inside each function so that
-importing subsurf stays light).  Each block below belongs to one job."""
+"""Figure of velocity fits (``subsurf velocity --plot``): picks, fitted curve and residuals.
+
+Drawn in the subsurf style (:mod:`subsurf.io.figstyle`: Agg canvas, no pyplot, matplotlib
+imported only when a figure is made).
+"""
 
 from __future__ import annotations
 
 from pathlib import Path
 
+from .figstyle import PALETTE, SIZES, new_figure, png_bytes, style_axes, styled
+
 __all__ = ["velocity_fit_figure"]
 
-
-def _pyplot():
-    import matplotlib
-
-    matplotlib.use("Agg", force=False)
-    import matplotlib.pyplot as plt
-
-    return plt
+_PICK_COLOUR = PALETTE["accent"]
+_CURVE_COLOUR = PALETTE["second"]
+_DOWN_COLOUR = PALETTE["third"]
 
 
-# ======================================================================================
-# Velocity fits (hyperbola and CMP picks): picks, fitted curve and residuals
-# ======================================================================================
-
-_PICK_COLOUR = "#1b4f72"
-_CURVE_COLOUR = "#c0392b"
-_DOWN_COLOUR = "#e67e22"
-
-
+@styled
 def velocity_fit_figure(panels: list[dict], path, *, title: str = "") -> Path:
     """Write a PNG: for each fit, picks with the fitted curve (time downward) above
     their residuals.
@@ -41,10 +33,9 @@ def velocity_fit_figure(panels: list[dict], path, *, title: str = "") -> Path:
     """
     import numpy as np
 
-    plt = _pyplot()
     n = len(panels)
-    fig, axes = plt.subplots(2, n, figsize=(4.6 * n, 6.0), squeeze=False,
-                             gridspec_kw={"height_ratios": [3, 1.3]}, sharex="col")
+    fig = new_figure(4.6 * n, 6.0, layout="tight")
+    axes = fig.subplots(2, n, squeeze=False, gridspec_kw={"height_ratios": [3, 1.3]}, sharex="col")
     for k, p in enumerate(panels):
         top, bot = axes[0, k], axes[1, k]
         w = np.asarray(p["weight"], dtype=float)
@@ -57,20 +48,18 @@ def velocity_fit_figure(panels: list[dict], path, *, title: str = "") -> Path:
                      color=_DOWN_COLOUR, label="down-weighted picks")
         top.invert_yaxis()
         top.set_ylabel("two-way time (ns)")
-        top.set_title(p["label"], fontsize=9)
-        top.grid(alpha=0.3)
-        top.legend(fontsize=7, loc="lower center")
-        bot.axhline(0.0, color="0.4", lw=0.8)
+        top.set_title(p["label"], fontsize=SIZES["title"])
+        style_axes(top, minor_grid=False)
+        top.legend(fontsize=SIZES["legend"], loc="lower center")
+        bot.axhline(0.0, color=PALETTE["muted"], lw=0.8)
         bot.plot(np.asarray(p["x"])[~down], np.asarray(p["residual_ns"])[~down], "o", ms=3.5, color=_PICK_COLOUR)
         if np.any(down):
             bot.plot(np.asarray(p["x"])[down], np.asarray(p["residual_ns"])[down], "s", ms=4.5, mfc="none",
                      color=_DOWN_COLOUR)
         bot.set_ylabel("residual (ns)")
         bot.set_xlabel(p.get("xlabel", "distance along line (m)"))
-        bot.grid(alpha=0.3)
+        style_axes(bot, minor_grid=False)
     if title:
-        fig.suptitle(title, fontsize=10)
-    fig.tight_layout()
-    fig.savefig(path, dpi=120, format="png")
-    plt.close(fig)
+        fig.suptitle(title, fontsize=SIZES["suptitle"])
+    Path(path).write_bytes(png_bytes(fig))
     return Path(path)

@@ -4,19 +4,19 @@ A regional soil raster (tens of thousands of cells on a side) does not fit in me
 Here it is read lazily (:func:`open_region`), the unchanged per-cell chain
 :func:`subsurf.feasibility.evaluate` is applied chunk by chunk with
 ``xarray.apply_ufunc(dask="parallelized")`` (:func:`feasibility_region`), and the result
-is written to CF NetCDF tile by tile (:func:`write_region`).  Memory is bounded by the
-chunk size times the number of tiles in flight, never by the raster size.
+is written to CF NetCDF tile by tile (:func:`subsurf.io.regional.write_region`, through
+the one CF encoder :func:`subsurf.io.netcdf.write_netcdf`), accumulating the whole-region
+statistics of :class:`RegionSummary` on the way.  Memory is bounded by the chunk size
+times the number of tiles in flight, never by the raster size.
 
 Library choice: dask (the ``scale`` extra) does the scheduling — the local threaded
 scheduler by default, a local or remote ``dask.distributed`` cluster on request
 (:func:`scheduler`); subsurf keeps no parallel engine of its own.
 
-Writing: the output file is created with its CF metadata by this process (netCDF4), and
-tiles are computed a batch at a time by whichever scheduler is active and written here
-into their place.  Workers of a remote cluster therefore never need access to the output
-path (only to the input raster, if it is a file), and at most ``batch`` tiles are held at
-once.  The file is written under a temporary name and renamed when complete
-(:func:`subsurf.outputs.atomic_path`).
+Writing (in :mod:`subsurf.io`): tiles are computed a batch at a time by whichever
+scheduler is active and written by this process into their place, so workers of a
+remote cluster never need access to the output path (only to the input raster, if it is
+a file), and at most ``batch`` tiles are held at once.
 
 No physics is re-derived here: every number comes from :mod:`subsurf.feasibility`.
 """
@@ -37,7 +37,7 @@ __all__ = [
     "open_region",
     "feasibility_region",
     "RegionSummary",
-    "write_region",
+    "REC_FILL",
     "scheduler",
     "chain_antennas",
 ]
@@ -47,7 +47,8 @@ ALWAYS_LAYERS = ("max_depth", "margin_db")
 #: Further per-antenna layers that may be asked for (``sigma`` is per cell only).
 OPTIONAL_LAYERS = ("velocity", "attenuation_db_per_m", "eps_real", "eps_imag", "sigma", "vertical_resolution")
 
-_REC_FILL = np.int16(-32768)
+#: ``recommended_antenna`` where a cell has no soil data
+REC_FILL = np.int16(-32768)
 
 
 # --- input ------------------------------------------------------------------------------
@@ -185,7 +186,7 @@ def _chain_block(*arrays, names, antennas, target, target_depth_m, texture, mode
     _check_block_ranges(values, source)
     res = evaluate(values, antennas, target=target, target_depth_m=target_depth_m, texture=texture, model=model)
     rec = recommend_antenna(res["margin_db"], [a.centre_freq_hz for a in antennas])
-    rec = np.where(np.isfinite(res["margin_db"][0]), rec, _REC_FILL).astype(np.int16)
+    rec = np.where(np.isfinite(res["margin_db"][0]), rec, REC_FILL).astype(np.int16)
     outs = []
     for name in layers:
         v = res[name]
@@ -344,11 +345,15 @@ def scheduler(address: str | None = None, *, workers: int | None = None):
         yield {"scheduler": f"dask.distributed at {address} ({slots} threads)", "slots": slots, "client": client}
 
 
-# --- output --------------------------------------------------------------------------------
+# --- whole-region statistics --------------------------------------------------------------------------------
 
 @dataclass
 class RegionSummary:
-    """Whole-region statistics accumulated while the tiles are written."""
+    """Whole-region statistics accumulated tile by tile (:meth:`add`) while the map is written.
+
+    ``reach`` counts cells with margin ≥ 0 dB, ``reach_with_headroom`` cells with margin
+    ≥ the reach threshold (:data:`subsurf.detection.budget.REACHES_MARGIN_DB`).
+    """
 
     antennas: list
     cells: int = 0
@@ -367,7 +372,7 @@ class RegionSummary:
         self.recommended = np.zeros(n + 1, np.int64)
 
     def add(self, max_depth, margin, rec, *, reaches_db: float):
-        valid = rec != _REC_FILL
+        valid = rec != REC_FILL
         self.cells += rec.size
         self.cells_with_data += int(valid.sum())
         self.reach += np.count_nonzero((margin >= 0) & valid, axis=(1, 2))
@@ -383,137 +388,3 @@ class RegionSummary:
                  "mean_max_depth_m": self.depth_sum[i] / n if self.cells_with_data else float("nan"),
                  "recommended_fraction": self.recommended[i + 1] / n}
                 for i, a in enumerate(self.antennas)]
-
-
-def _create_file(tmp, result, *, dtype, complevel: int, tile: tuple[int, int]):
-    """Create the CF NetCDF file with coordinates, grid mapping and empty layer variables."""
-    import netCDF4
-
-    nc = netCDF4.Dataset(tmp, "w", format="NETCDF4")
-    ny, nx = result.sizes["y"], result.sizes["x"]
-    nc.createDimension("antenna", result.sizes["antenna"])
-    nc.createDimension("y", ny)
-    nc.createDimension("x", nx)
-    for c in ("x", "y"):
-        if c in result.coords:
-            v = nc.createVariable(c, "f8", (c,))
-            v.setncatts(dict(result[c].attrs))
-            v[:] = result[c].values
-    names = nc.createVariable("antenna", str, ("antenna",))
-    names.setncatts(dict(result["antenna"].attrs))
-    for i, a in enumerate(result["antenna"].values):
-        names[i] = str(a)
-    for c in ("centre_frequency", "performance"):
-        v = nc.createVariable(c, "f8", ("antenna",))
-        v.setncatts(dict(result[c].attrs))
-        v[:] = result[c].values
-    if "crs" in result:
-        v = nc.createVariable("crs", "i4", ())
-        v.setncatts(dict(result["crs"].attrs))
-    ty, tx = min(tile[0], ny), min(tile[1], nx)
-    comp = {"zlib": complevel > 0, "complevel": complevel or None, "shuffle": complevel > 0}
-    comp = {k: v for k, v in comp.items() if v is not None}
-    for name, da in result.data_vars.items():
-        if name == "crs":
-            continue
-        if name == "recommended_antenna":
-            v = nc.createVariable(name, "i2", ("y", "x"), fill_value=_REC_FILL, chunksizes=(ty, tx), **comp)
-        else:
-            dims = da.dims
-            chunks = tuple(1 if d == "antenna" else (ty if d == "y" else tx) for d in dims)
-            v = nc.createVariable(name, dtype, dims, fill_value=np.array(np.nan, dtype), chunksizes=chunks, **comp)
-        attrs = dict(da.attrs)
-        if "antenna" in da.dims:
-            attrs["coordinates"] = "centre_frequency performance"
-        v.setncatts(attrs)
-    nc.setncatts({"Conventions": "CF-1.8", "title": "subsurf regional GPR feasibility map",
-                  "source": "subsurf.scale.write_region", **{k: v for k, v in result.attrs.items()}})
-    return nc
-
-
-def write_region(result, path, *, force: bool = False, batch: int = 4, dtype: str = "float32",
-                 complevel: int = 1, progress=None, caution: str | None = None) -> RegionSummary:
-    """Compute ``result`` (from :func:`feasibility_region`) tile by tile and write it to CF NetCDF.
-
-    Parameters
-    ----------
-    result : xarray.Dataset
-        Dask-backed output of :func:`feasibility_region`.
-    path : path-like
-        Output NetCDF; written under a temporary name and renamed when complete.
-    force : bool
-        Overwrite an existing output.
-    batch : int
-        Tiles computed at once by the active scheduler (memory ≈ batch × tile working set).
-    dtype : {"float32", "float64"}
-        Storage type of the layers (the chain itself runs in float64).
-    complevel : int
-        zlib level (0: no compression).
-    progress : callable, optional
-        Called with (tiles done, tiles total) after each batch.
-    caution : str, optional
-        Safety text stored as a global attribute.
-
-    Returns
-    -------
-    RegionSummary
-    """
-    import dask
-
-    from ..detection.budget import REACHES_MARGIN_DB
-    from ..io.outputs import atomic_path
-
-    if dtype not in ("float32", "float64"):
-        raise InputError(f"dtype must be float32 or float64, got {dtype!r}")
-    result = result.unify_chunks() if hasattr(result, "unify_chunks") else result
-    rec_da = result["recommended_antenna"].data
-    if not hasattr(rec_da, "to_delayed"):  # numpy-backed: one tile
-        result = result.chunk({"y": result.sizes["y"], "x": result.sizes["x"]})
-        rec_da = result["recommended_antenna"].data
-    ychunks, xchunks = rec_da.chunks
-    layers = [n for n in result.data_vars if n not in ("crs", "recommended_antenna")]
-    # unoptimised: the layers keep the keys of the one chain task per tile they share,
-    # so the chain runs once per tile however many layers are written
-    delayed = {n: result[n].data.to_delayed(optimize_graph=False) for n in layers + ["recommended_antenna"]}
-    y_edges = np.concatenate([[0], np.cumsum(ychunks)])
-    x_edges = np.concatenate([[0], np.cumsum(xchunks)])
-    tiles = [(i, j) for i in range(len(ychunks)) for j in range(len(xchunks))]
-    summary = RegionSummary(antennas=[str(a) for a in result["antenna"].values])
-    batch = max(int(batch), 1)
-    with atomic_path(path, force=force) as tmp:
-        nc = _create_file(tmp, result, dtype=dtype, complevel=complevel, tile=(max(ychunks), max(xchunks)))
-        try:
-            if caution:
-                nc.setncattr("caution", caution)
-            for start in range(0, len(tiles), batch):
-                group = tiles[start:start + batch]
-                wanted = []
-                for i, j in group:
-                    for n in layers + ["recommended_antenna"]:
-                        d = delayed[n]
-                        wanted.append(d[0, i, j] if d.ndim == 3 else d[i, j])
-                computed = dask.compute(*wanted)
-                k = 0
-                for i, j in group:
-                    ys = slice(int(y_edges[i]), int(y_edges[i + 1]))
-                    xs = slice(int(x_edges[j]), int(x_edges[j + 1]))
-                    blocks = {}
-                    for n in layers + ["recommended_antenna"]:
-                        blocks[n] = computed[k]
-                        k += 1
-                    for n in layers:
-                        b = blocks[n]
-                        if b.ndim == 3:
-                            nc[n][:, ys, xs] = b.astype(dtype)
-                        else:
-                            nc[n][ys, xs] = b.astype(dtype)
-                    nc["recommended_antenna"][ys, xs] = blocks["recommended_antenna"]
-                    summary.add(blocks["max_depth"], blocks["margin_db"], blocks["recommended_antenna"],
-                                reaches_db=REACHES_MARGIN_DB)
-                del computed, blocks
-                if progress is not None:
-                    progress(min(start + batch, len(tiles)), len(tiles))
-        finally:
-            nc.close()
-    return summary
-

@@ -4,11 +4,13 @@ import json
 import subprocess
 import sys
 
+import netCDF4
 import numpy as np
 import pytest
 import xarray as xr
 
 from subsurf.errors import FileInputError, OutputExistsError
+from subsurf.io.regional import write_region
 from subsurf.planning.antennas import load_catalogue, make_target
 from subsurf.site import feasibility
 from subsurf.site import regional as scale
@@ -85,7 +87,7 @@ def test_written_file_equals_in_memory_chain_in_float32(soil_numpy, antennas, ta
                                     target_depth_m=DEPTH, texture="loam")
     out = tmp_path / "map.nc"
     with scale.scheduler("threads", workers=2):
-        scale.write_region(lazy, out, batch=3)
+        write_region(lazy, out, batch=3)
     with xr.open_dataset(out) as ds:
         for name in ("max_depth", "margin_db", "velocity"):
             assert ds[name].dtype == np.float32
@@ -99,7 +101,7 @@ def test_summary_matches_area_fractions_of_the_in_memory_map(soil_numpy, antenna
     expect = feasibility.area_fractions(ref["margin_db"], mask)
     lazy = scale.feasibility_region(soil_numpy.chunk({"y": 16, "x": 16}), antennas, target=target,
                                     target_depth_m=DEPTH, texture="loam")
-    summary = scale.write_region(lazy, tmp_path / "m.nc")
+    summary = write_region(lazy, tmp_path / "m.nc")
     rows = summary.rows()
     np.testing.assert_allclose([r["reach_fraction"] for r in rows], expect["reach"], rtol=1e-12)
     np.testing.assert_allclose([r["reach_with_headroom_fraction"] for r in rows], expect["reach_with_headroom"],
@@ -112,15 +114,23 @@ def test_output_is_cf_annotated(soil_numpy, antennas, target, tmp_path):
     lazy = scale.feasibility_region(soil_numpy.chunk({"y": 32, "x": 32}), antennas, target=target,
                                     target_depth_m=DEPTH, texture="loam")
     out = tmp_path / "cf.nc"
-    scale.write_region(lazy, out, caution="verify services")
+    write_region(lazy, out, caution="verify services")
     with xr.open_dataset(out, decode_coords="all") as ds:
         assert ds.attrs["Conventions"].startswith("CF-")
         assert ds.attrs["caution"] == "verify services"
         assert ds["max_depth"].attrs["units"] == "m"
         assert ds["margin_db"].attrs["units"] == "dB"
         assert "crs" in ds.coords and "crs_wkt" in ds["crs"].attrs
-        assert list(ds["antenna"].values) == [a.name for a in antennas]
+        assert list(ds["antenna_name"].values) == [a.name for a in antennas]
         assert ds["x"].attrs["standard_name"] == "projection_x_coordinate"
+    # the same encoding rules as the survey map (tests/cli/test_cli_map.py): CF-1.8 section 1.3
+    # (coordinate variables numeric), 2.5.1 (no fill values on coordinates), 6.1 (label variables)
+    with netCDF4.Dataset(out) as nc:
+        assert "antenna" not in nc.variables and nc["antenna_name"].dtype == np.dtype("S1")
+        assert "antenna_name" in nc["max_depth"].coordinates.split()
+        for c in ("x", "y", "centre_frequency", "performance"):
+            assert "_FillValue" not in nc[c].ncattrs(), c
+        assert nc["recommended_antenna"]._FillValue == scale.REC_FILL
 
 
 def test_existing_output_is_kept_without_force(soil_numpy, antennas, target, tmp_path):
@@ -130,9 +140,9 @@ def test_existing_output_is_kept_without_force(soil_numpy, antennas, target, tmp
     lazy = scale.feasibility_region(soil_numpy.chunk({"y": 32, "x": 32}), antennas, target=target,
                                     target_depth_m=DEPTH, texture="loam")
     with pytest.raises(OutputExistsError):
-        scale.write_region(lazy, out)
+        write_region(lazy, out)
     assert out.read_text() == "precious"
-    scale.write_region(lazy, out, force=True)
+    write_region(lazy, out, force=True)
     assert [p.name for p in tmp_path.iterdir()] == ["keep.nc"]
 
 
@@ -185,7 +195,7 @@ def test_local_distributed_cluster_gives_identical_map(soil_numpy, antennas, tar
     out = tmp_path / "dist.nc"
     with LocalCluster(n_workers=1, threads_per_worker=1, processes=True, host="127.0.0.1",
                       dashboard_address=None) as cluster, Client(cluster):
-        scale.write_region(lazy, out, batch=2)
+        write_region(lazy, out, batch=2)
     with xr.open_dataset(out) as ds:
         np.testing.assert_array_equal(ds["max_depth"].values, ref["max_depth"].astype(np.float32))
         np.testing.assert_array_equal(ds["margin_db"].values, ref["margin_db"].astype(np.float32))

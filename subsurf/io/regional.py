@@ -1,0 +1,145 @@
+"""Outputs of ``subsurf region``: the regional map and the synthetic soil raster, written tile by tile.
+
+Both files go through the one CF encoder (:func:`subsurf.io.netcdf.write_netcdf`), the
+same that writes ``subsurf map``'s NetCDF: antenna names as a label variable, no fill
+values on coordinates, grid mapping and units on every layer.  The layers are dask-backed
+(:func:`subsurf.site.regional.feasibility_region`), so the encoder computes a batch of
+tiles at a time on the active scheduler and memory stays bounded by the chunk size.
+:func:`map_region` runs a whole regional job and returns its summary (percentages of the
+cells with soil data) for the command to print.
+"""
+
+from __future__ import annotations
+
+import time
+
+__all__ = ["write_region", "write_soil", "map_region"]
+
+
+def write_region(result, path, *, force: bool = False, batch: int = 4, dtype: str = "float32",
+                 complevel: int = 1, progress=None, caution: str | None = None):
+    """Compute ``result`` (from :func:`subsurf.site.regional.feasibility_region`) tile by tile and write it.
+
+    Parameters
+    ----------
+    result : xarray.Dataset
+        Dask- (or numpy-) backed output of :func:`~subsurf.site.regional.feasibility_region`.
+    path : path-like
+        Output NetCDF; written under a temporary name and renamed when complete.
+    force : bool
+        Overwrite an existing output.
+    batch : int
+        Tiles computed at once by the active scheduler (memory ≈ batch × tile working set).
+    dtype : {"float32", "float64"}
+        Storage type of the layers (the chain itself runs in float64).
+    complevel : int
+        zlib level (0: no compression).
+    progress : callable, optional
+        Called with (tiles done, tiles total) after each batch.
+    caution : str, optional
+        Safety text stored as a global attribute.
+
+    Returns
+    -------
+    subsurf.site.regional.RegionSummary
+        Reach fractions, mean depth and recommendation counts over the cells with data.
+    """
+    from ..detection.budget import REACHES_MARGIN_DB
+    from ..errors import InputError
+    from ..site.regional import REC_FILL, RegionSummary
+    from .netcdf import write_netcdf
+
+    if dtype not in ("float32", "float64"):
+        raise InputError(f"dtype must be float32 or float64, got {dtype!r}")
+    if not hasattr(result["recommended_antenna"].data, "to_delayed"):  # numpy-backed: one tile
+        result = result.chunk({"y": result.sizes["y"], "x": result.sizes["x"]})
+    result = result.copy()
+    result["recommended_antenna"].encoding["_FillValue"] = REC_FILL
+    summary = RegionSummary(antennas=[str(a) for a in result["antenna"].values])
+
+    def on_tile(blocks):
+        summary.add(blocks["max_depth"], blocks["margin_db"], blocks["recommended_antenna"],
+                    reaches_db=REACHES_MARGIN_DB)
+
+    attrs = {"title": "subsurf regional GPR feasibility map", "source": "subsurf.io.regional.write_region"}
+    if caution:
+        attrs["caution"] = caution
+    write_netcdf(result, path, force=force, attrs=attrs, dtype=dtype, complevel=complevel, batch=batch,
+                 progress=progress, on_tile=on_tile)
+    return summary
+
+
+def write_soil(soil, path, *, force: bool = False, batch: int = 4) -> None:
+    """Write a (dask-backed) soil raster, e.g. a synthetic region, as float32 CF NetCDF chunk by chunk."""
+    import dask
+
+    from .netcdf import write_netcdf
+
+    with dask.config.set(scheduler="threads"):
+        write_netcdf(soil, path, force=force, dtype="float32", complevel=1, batch=batch)
+
+
+def _tile_bar(quiet: bool):
+    """(progress callback, close) drawing a tqdm bar of tiles on a terminal, or doing nothing."""
+    from .progress import progress_enabled
+
+    if not progress_enabled(quiet=quiet):
+        return None, lambda: None
+    from tqdm import tqdm
+
+    bar = tqdm(total=1, desc="tiles", leave=False, unit="tile")
+
+    def progress(done, total):
+        bar.total = total
+        bar.n = done
+        bar.refresh()
+
+    return progress, bar.close
+
+
+def map_region(soil, antennas, out, *, target, target_depth_m: float, texture: str, model: str, layers,
+               scheduler: str | None = "threads", workers: int | None = None, batch: int | None = None,
+               float64: bool = False, force: bool = False, quiet: bool = False) -> dict:
+    """Evaluate and write the regional map of ``soil`` to ``out``; return what the command reports.
+
+    Returns
+    -------
+    dict
+        ``target`` (its summary), ``scheduler``, ``tiles``, ``batch``, ``cells_with_data``,
+        ``map_seconds``, ``cells_per_second``, ``thresholds``, ``rows`` (per antenna:
+        ``freq_mhz``, ``reach_percent`` margin ≥ 0 dB, ``headroom_percent`` margin ≥ the
+        reach threshold, ``mean_max_depth_m``, ``recommended_percent``) and
+        ``no_antenna_reaches_percent``, percentages of the cells with soil data.
+    """
+    from ..detection.budget import REACHES_MARGIN_DB
+    from ..planning.antennas import target_summary
+    from ..site import regional
+    from .outputs import CAUTION
+
+    result = regional.feasibility_region(soil, antennas, target=target, target_depth_m=target_depth_m,
+                                         texture=texture, model=model, layers=layers)
+    progress, close = _tile_bar(quiet)
+    t1 = time.perf_counter()
+    try:
+        with regional.scheduler(scheduler, workers=workers) as sched:
+            batch = batch or 2 * sched["slots"]
+            summary = write_region(result, out, force=force, batch=batch,
+                                   dtype="float64" if float64 else "float32", progress=progress, caution=CAUTION)
+    finally:
+        close()
+    seconds = time.perf_counter() - t1
+    freqs = {a.name: a.centre_freq_hz for a in antennas}
+    rows = [{"antenna": r["antenna"], "freq_mhz": freqs[r["antenna"]] / 1e6,
+             "reach_percent": 100 * r["reach_fraction"],
+             "headroom_percent": 100 * r["reach_with_headroom_fraction"],
+             "mean_max_depth_m": r["mean_max_depth_m"],
+             "recommended_percent": 100 * r["recommended_fraction"]} for r in summary.rows()]
+    none = summary.recommended[0] / max(summary.cells_with_data, 1)
+    return {
+        "target": target_summary(target), "texture": texture, "soil_model": model,
+        "scheduler": sched["scheduler"], "tiles": summary.tiles, "batch": batch,
+        "cells_with_data": summary.cells_with_data, "map_seconds": seconds,
+        "cells_per_second": summary.cells / seconds if seconds > 0 else None,
+        "thresholds": {"reaches_margin_db": 0.0, "headroom_margin_db": REACHES_MARGIN_DB},
+        "rows": rows, "no_antenna_reaches_percent": 100 * none,
+    }

@@ -1,0 +1,221 @@
+"""Feasibility maps of a survey, in memory: the chain on the survey grid for every antenna and scenario.
+
+:func:`compute_maps` lays the grid of a survey (:mod:`subsurf.site.grid`), puts the soil
+inputs on it, evaluates the chain (:func:`subsurf.site.feasibility.evaluate`) and the
+reach probability per scenario (:mod:`subsurf.site.probability`), and returns a :class:`FeasibilityMaps`:
+one labelled xarray Dataset with every layer (dims scenario, antenna, y, x) plus what the
+report, the map outputs and the command need (antennas, target, area fractions, summary
+rows).  Nothing here writes files or prints; :mod:`subsurf.io.maps` writes the outputs.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+__all__ = ["FeasibilityMaps", "compute_maps", "summary_rows", "monte_carlo_info", "sample_points"]
+
+
+@dataclass(frozen=True)
+class FeasibilityMaps:
+    """Every feasibility layer of one survey, with the inputs that made them.
+
+    Attributes
+    ----------
+    survey : subsurf.site.survey.Survey
+    dataset : xarray.Dataset
+        Layers (``max_depth``, ``margin_db``, ``velocity``, ..., ``reach_probability``,
+        ``reach_probability_se``; dims scenario, antenna, y, x; SI units in CF attributes),
+        ``recommended_antenna`` (scenario, y, x; flag values), the soil inputs on the grid
+        (``soil_<quantity>``, ``distance_to_sample``, ``extrapolated``), ``mask``, the grid
+        mapping ``crs``; string coordinates ``scenario`` and ``antenna``; global attributes
+        describing the target, grid and Monte Carlo settings.
+    grid : xarray.Dataset
+        The survey grid (:func:`subsurf.site.grid.build_grid`).
+    soil : xarray.Dataset
+        Soil inputs on the grid (:func:`subsurf.site.grid.soil_on_grid`).
+    antennas : list
+        Catalogue antennas, in the order of the ``antenna`` coordinate.
+    target : subsurf.detection.budget.Target
+    fractions : list of dict
+        Per scenario, :func:`subsurf.site.feasibility.area_fractions` of the site.
+    """
+
+    survey: object
+    dataset: object
+    grid: object
+    soil: object
+    antennas: list
+    target: object
+    fractions: list = field(default_factory=list)
+
+    @property
+    def rows(self) -> list[dict]:
+        """One summary row per scenario and antenna (:func:`summary_rows`)."""
+        return summary_rows(self)
+
+    @property
+    def monte_carlo(self) -> dict:
+        return monte_carlo_info(self)
+
+
+def _antennas_and_target(survey):
+    from ..errors import FileInputError, InputError
+    from ..planning.antennas import get_antenna, load_catalogue, make_target
+
+    catalogue = load_catalogue()
+    antennas = []
+    for name in survey.antennas:
+        try:
+            antennas.append(get_antenna(name, catalogue))
+        except InputError as exc:
+            raise FileInputError(survey.path, str(exc), field="antennas.names") from None
+    t = survey.target
+    try:
+        target = make_target(t.kind, depth_m=t.depth_m, size_m=t.size_m if t.kind != "planar" else None,
+                             material=t.material)
+    except InputError as exc:
+        raise FileInputError(survey.path, str(exc), field="target") from None
+    return antennas, target
+
+
+def compute_maps(survey, *, quiet: bool = True) -> FeasibilityMaps:
+    """Grid, soil inputs and every feasibility layer of ``survey``.
+
+    Parameters
+    ----------
+    survey : subsurf.site.survey.Survey
+        A loaded survey (:func:`subsurf.site.survey.load_survey`).
+    quiet : bool
+        No progress bar (one step per scenario, on stderr, only on a terminal).
+
+    Returns
+    -------
+    FeasibilityMaps
+    """
+    import xarray as xr
+
+    from ..io.progress import steps
+    from . import feasibility as fz
+    from .grid import build_grid, soil_on_grid
+    from .probability import DEFAULT_TOLERANCE, reach_probability
+
+    antennas, target = _antennas_and_target(survey)
+    n_ant, n_sc = len(antennas), len(survey.scenarios)
+    grid = build_grid(survey, n_layers=n_ant * n_sc * 12)
+    soil = soil_on_grid(survey, grid)
+    inside = grid["mask"].values.astype(bool)
+    base_values = {q: soil[q].values for q in fz.SOIL_FIELDS if q in soil}
+    base_sd = {q: soil[q + "_sd"].values for q in base_values}
+    layers = {k: [] for k in fz.LAYER_ATTRS}
+    rec_all, fractions, sampled = [], [], []
+    freqs = [a.centre_freq_hz for a in antennas]
+    with steps(n_sc, desc="subsurf map", quiet=quiet) as bar:
+        for sc in survey.scenarios:
+            bar.start(sc.name)
+            vals = fz.apply_scenario(base_values, sc)
+            common = {"target": target, "target_depth_m": survey.target.depth_m, "texture": survey.texture,
+                      "model": survey.soil_model}
+            out = fz.evaluate(vals, antennas, **common)
+            r = reach_probability(vals, base_sd, antennas, draws=survey.draws, seed=survey.seed, **common)
+            p, se = r.probability, r.error
+            sampled.append(r.sampled_fraction)
+            out["reach_probability"], out["reach_probability_se"] = p, se
+            for k in layers:
+                layers[k].append(out[k])
+            rec = fz.recommend_antenna(out["margin_db"], freqs)
+            rec_all.append(np.where(inside, rec, -2).astype(np.int16))
+            fractions.append(fz.area_fractions(out["margin_db"], grid["mask"].values, probability=p))
+            bar.advance()
+    dims = ("scenario", "antenna", "y", "x")
+    ds = xr.Dataset(coords=grid.coords)
+    ds["crs"] = grid["crs"]
+    ds["mask"] = grid["mask"]
+    ds = ds.assign_coords(scenario=("scenario", [s.name for s in survey.scenarios], {"long_name": "scenario"}),
+                          antenna=("antenna", [a.name for a in antennas], {"long_name": "antenna"}))
+    ds["centre_frequency"] = ("antenna", np.array(freqs), {"long_name": "antenna centre frequency", "units": "Hz"})
+    ds["system_performance"] = ("antenna", np.array([a.effective_performance_db for a in antennas]),
+                                {"long_name": "system performance including stacking", "units": "dB"})
+    for k, arrs in layers.items():
+        ds[k] = (dims, np.stack(arrs).astype(np.float32), dict(fz.LAYER_ATTRS[k], grid_mapping="crs"))
+    names = " ".join(["outside_site", "none_reaches"] + [a.name.replace(" ", "_") for a in antennas])
+    ds["recommended_antenna"] = (("scenario", "y", "x"), np.stack(rec_all), {
+        "long_name": "recommended antenna (highest frequency with >= 6 dB margin, else largest margin >= 0)",
+        "flag_values": np.arange(-2, n_ant, dtype=np.int16), "flag_meanings": names, "grid_mapping": "crs"})
+    for q in soil.data_vars:
+        ds["soil_" + q if q not in ("distance_to_sample", "extrapolated") else q] = soil[q]
+    ds["reach_probability"].attrs["comment"] = (
+        "per-cell soil values normal with the measurement and interpolation standard deviations; "
+        f"first-order (linearised) probability where its estimated error is <= {DEFAULT_TOLERANCE:g}, "
+        f"seeded Monte Carlo elsewhere ({survey.draws} draws, seed {survey.seed}; cells sampled per scenario: "
+        + ", ".join(f"{s.name} {100 * f:.1f} %" for s, f in zip(survey.scenarios, sampled))
+        + "); estimated error in reach_probability_se")
+    ds["reach_probability"].attrs["sampled_fraction"] = np.array(sampled)
+    t = survey.target
+    ds.attrs = {
+        "target": f"{t.kind} {t.material} {t.size_m:g} m at {t.depth_m:g} m",
+        "target_depth_m": t.depth_m,
+        "monte_carlo_draws": survey.draws,
+        "monte_carlo_seed": survey.seed,
+        "cell_size_m": survey.cell_size_m,
+        "grid_crs_source": survey.grid_crs_source,
+        "soil_model": survey.soil_model,
+        "site_outline_wkt": grid.attrs["site_outline_wkt"],
+    }
+    return FeasibilityMaps(survey=survey, dataset=ds, grid=grid, soil=soil, antennas=antennas, target=target,
+                           fractions=fractions)
+
+
+def summary_rows(maps: FeasibilityMaps) -> list[dict]:
+    """Area fractions per scenario and antenna, in percent of the cells inside the site.
+
+    Keys: ``scenario``, ``antenna``, ``centre_frequency_mhz``, ``reach_pct`` (margin ≥ 0),
+    ``reach_headroom_pct`` (margin ≥ the reach threshold, 6 dB), ``expected_reach_pct``
+    (mean reach probability), ``reach_p90_pct`` (probability ≥ 0.9), ``median_max_depth_m``
+    and ``recommended_pct`` (area where the antenna is the recommended one).
+    """
+    ds = maps.dataset
+    inside = ds["mask"].values.astype(bool)
+    n_inside = max(int(inside.sum()), 1)
+    rows = []
+    for si, sc in enumerate(maps.survey.scenarios):
+        rec = ds["recommended_antenna"].values[si]
+        fr = maps.fractions[si]
+        for ai, a in enumerate(maps.antennas):
+            md = ds["max_depth"].values[si, ai][inside]
+            rows.append({
+                "scenario": sc.name, "antenna": a.name, "centre_frequency_mhz": a.centre_freq_hz / 1e6,
+                "reach_pct": 100 * float(fr["reach"][ai]),
+                "reach_headroom_pct": 100 * float(fr["reach_with_headroom"][ai]),
+                "expected_reach_pct": 100 * float(fr["expected_reach"][ai]),
+                "reach_p90_pct": 100 * float(fr["reach_p90"][ai]),
+                "median_max_depth_m": float(np.median(md)),
+                "recommended_pct": 100 * float(np.count_nonzero(rec[inside] == ai)) / n_inside,
+            })
+    return rows
+
+
+def monte_carlo_info(maps: FeasibilityMaps) -> dict:
+    """How the reach probability was estimated: draws, seed, error bounds, share of cells sampled per scenario."""
+    survey, ds = maps.survey, maps.dataset
+    sampled = [float(f) for f in ds["reach_probability"].attrs.get("sampled_fraction", [])]
+    return {"draws": survey.draws, "seed": survey.seed,
+            "max_standard_error": float(0.5 / np.sqrt(survey.draws)),
+            "max_estimated_error": float(np.nanmax(ds["reach_probability_se"].values)),
+            "sampled_fraction": dict(zip([s.name for s in survey.scenarios], sampled)),
+            "method": "per-cell normal soil quantities (measurement and interpolation sd); first-order "
+                      "(linearised) probability where its estimated error is <= 0.01, else Monte Carlo draws "
+                      "keyed per tile of 256 cells, common random numbers across antennas"}
+
+
+def sample_points(survey) -> tuple[np.ndarray, np.ndarray]:
+    """Every soil sample position in the survey's grid CRS (easting, northing arrays, m)."""
+    from .grid import transform_points
+
+    sx, sy = [], []
+    for s in survey.samples:
+        gx, gy = transform_points(s.x, s.y, s.crs, survey.grid_crs)
+        sx.append(gx)
+        sy.append(gy)
+    return (np.concatenate(sx), np.concatenate(sy)) if sx else (np.array([]), np.array([]))
