@@ -13,8 +13,6 @@ from __future__ import annotations
 import importlib
 from pathlib import Path
 
-from .errors import InputError, ModelRangeWarning, SubsurfError
-
 __version__ = "0.1.0"
 __all__ = ["SubsurfError", "InputError", "ModelRangeWarning", "config_dir", "__version__"]
 
@@ -36,13 +34,24 @@ def config_dir() -> Path:
     here = Path(__file__).resolve().parent.parent / "configs"
     if here.is_dir():
         return here
+    from .errors import SubsurfError
+
     raise SubsurfError(
         "cannot find the configs/ folder; install subsurf from its source tree "
         "(pip install -e .) or set SUBSURF_CONFIG_DIR to a folder holding the tables"
     )
 
 
+#: names re-exported from subsurf.errors, loaded on first use (errors imports numpy, which
+#: ``subsurf --help`` does not need)
+_FROM_ERRORS = ("SubsurfError", "InputError", "ModelRangeWarning")
+
+
 def __getattr__(name: str):
+    if name in _FROM_ERRORS:
+        from . import errors
+
+        return getattr(errors, name)
     if name in _SUBMODULES:
         return importlib.import_module(f".{name}", __name__)
     raise AttributeError(f"module 'subsurf' has no attribute {name!r}")

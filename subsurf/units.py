@@ -37,6 +37,35 @@ SI_UNITS: dict[str, str] = {
 }
 
 
+#: Units read without pint (importing pint and building its registry costs ~0.5 s of CPU,
+#: four times numpy, and it pulls dask and uncertainties when they are installed): unit ->
+#: (SI unit of :data:`SI_UNITS`, factor).  Only exact SI prefixes and definitions; every entry
+#: is checked against pint in tests/test_units.py.  Anything else goes to pint.
+_PLAIN_UNITS: dict[str, tuple[str, float]] = {
+    "Hz": ("Hz", 1.0), "kHz": ("Hz", 1e3), "MHz": ("Hz", 1e6), "GHz": ("Hz", 1e9),
+    "S/m": ("S/m", 1.0), "mS/m": ("S/m", 1e-3), "dS/m": ("S/m", 0.1), "mS/cm": ("S/m", 0.1),
+    "uS/cm": ("S/m", 1e-4),
+    "m": ("m", 1.0), "km": ("m", 1e3), "cm": ("m", 1e-2), "mm": ("m", 1e-3),
+    "s": ("s", 1.0), "ms": ("s", 1e-3), "us": ("s", 1e-6), "ns": ("s", 1e-9),
+    "m/s": ("m/s", 1.0), "m/ns": ("m/s", 1e9), "cm/ns": ("m/s", 1e7), "mm/ns": ("m/s", 1e6),
+    "dimensionless": ("dimensionless", 1.0), "%": ("dimensionless", 1e-2),
+    "psu": ("dimensionless", 1.0), "PSU": ("dimensionless", 1.0), "dB": ("dimensionless", 1.0),
+    "kg/m**3": ("kg/m**3", 1.0), "g/cm**3": ("kg/m**3", 1e3), "mg/L": ("kg/m**3", 1e-3),
+    "g/L": ("kg/m**3", 1.0),
+    "degC": ("degC", 1.0),
+    "W": ("W", 1.0), "m**2": ("m**2", 1.0),
+}
+_PLAIN = re.compile(r"\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(\S+)\s*")
+
+
+def _plain(value: float, unit: str, target: str):
+    """``value`` in ``unit`` converted to ``target`` without pint, or None when the table cannot."""
+    entry = _PLAIN_UNITS.get(unit)
+    if entry is None or entry[0] != target:
+        return None
+    return value * entry[1]
+
+
 @lru_cache(maxsize=1)
 def _registry():
     import pint
@@ -70,17 +99,46 @@ def parse_quantity(text, kind: str, *, default_unit: str, name: str = "value") -
     """
     if kind not in SI_UNITS:
         raise InputError(f"unknown quantity kind {kind!r}; allowed: {', '.join(SI_UNITS)}")
-    ureg = _registry()
     target = SI_UNITS[kind]
+    value = _parse_plain(text, default_unit, target)
+    if value is None:
+        value = _parse_with_pint(text, kind, target, default_unit=default_unit, name=name)
+    if not math.isfinite(value):
+        # 'nan' and 'inf' parse as floats; no edge quantity may be either
+        raise InputError(f"{name}: must be a finite number, got {text!r}; write e.g. '1 {default_unit}'")
+    return value
+
+
+def _normalise(text: str) -> str:
+    s = str(text).strip()
+    s = s.replace("µ", "u").replace("μ", "u").replace("³", "**3").replace("²", "**2")
+    # "g/cm3", "kg/m3", "m2": a unit letter followed by an exponent digit
+    return re.sub(r"(?<=[A-Za-z])([23])\b", r"**\1", s)
+
+
+def _parse_plain(text, default_unit: str, target: str):
+    """A bare number or '<number> <unit>' with a unit of the plain table, without pint; else None."""
+    if isinstance(text, bool):
+        return None
+    if isinstance(text, (int, float)):
+        return _plain(float(text), default_unit, target)
+    s = _normalise(text)
+    try:
+        return _plain(float(s), default_unit, target)
+    except ValueError:
+        pass
+    m = _PLAIN.fullmatch(s)
+    return None if m is None else _plain(float(m.group(1)), m.group(2), target)
+
+
+def _parse_with_pint(text, kind: str, target: str, *, default_unit: str, name: str) -> float:
+    ureg = _registry()
     if isinstance(text, (int, float)) and not isinstance(text, bool):
         q = ureg.Quantity(float(text), default_unit)
     else:
-        s = str(text).strip()
+        s = _normalise(text)
         if not s:
             raise InputError(f"{name}: empty value; expected a number with unit such as '1 {default_unit}'")
-        s = s.replace("µ", "u").replace("μ", "u").replace("³", "**3").replace("²", "**2")
-        # "g/cm3", "kg/m3", "m2": a unit letter followed by an exponent digit
-        s = re.sub(r"(?<=[A-Za-z])([23])\b", r"**\1", s)
         try:
             num = float(s)
         except ValueError:
@@ -107,20 +165,23 @@ def parse_quantity(text, kind: str, *, default_unit: str, name: str = "value") -
                 f"{name}: {text!r} has units of {q.units:~}, which cannot be read as a {kind} "
                 f"(expected something convertible to {target}, e.g. '1 {default_unit}')"
             ) from None
-    if not math.isfinite(value):
-        # 'nan' and 'inf' parse as floats; no edge quantity may be either
-        raise InputError(f"{name}: must be a finite number, got {text!r}; write e.g. '1 {default_unit}'")
     return value
 
 
 def to_si(value: float, unit: str) -> float:
     """Convert ``value`` given in ``unit`` (e.g. ``"MHz"``) to SI."""
+    entry = _PLAIN_UNITS.get(unit)
+    if entry is not None and entry[0] != "degC":
+        return float(value) * entry[1]
     q = _registry().Quantity(value, unit)
     return float(q.to_base_units().magnitude)
 
 
 def from_si(value, unit: str):
     """Convert an SI ``value`` (scalar or array) to ``unit`` (e.g. ``"ns"``, ``"mS/m"``)."""
+    entry = _PLAIN_UNITS.get(unit)
+    if entry is not None and entry[0] != "degC":
+        return value / entry[1]
     ureg = _registry()
     q = ureg.Quantity(1.0, unit)
     factor = q.to_base_units().magnitude

@@ -7,9 +7,11 @@ conductivity on top of it (see :class:`subsurf.soil.Soil`).
 
 from __future__ import annotations
 
-import numpy as np
-from scipy.constants import epsilon_0, pi
+from math import pi
 
+import numpy as np
+
+from .._codata import epsilon_0  # scipy.constants value without its import cost (start-up)
 from ..errors import InputError, check_broadcast, check_positive, check_range
 from ._validity import BULK_DENSITY_RANGE, PARTICLE_DENSITY_RANGE, check_density, warn_validity
 from .water import _debye, _temperature

@@ -8,8 +8,9 @@ Practical Salinity Scale 1978.
 
 from __future__ import annotations
 
+from math import pi
+
 import numpy as np
-from scipy.constants import pi
 
 from ..errors import InputError, check_broadcast, check_finite, check_nonnegative
 from ._validity import warn_validity

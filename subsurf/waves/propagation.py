@@ -21,8 +21,8 @@ from dataclasses import dataclass
 from typing import Literal
 
 import numpy as np
-from scipy import constants
 
+from .. import _codata as constants  # scipy.constants values without its import cost (start-up)
 from ..errors import (
     InputError,
     LowLossApproximationWarning,
