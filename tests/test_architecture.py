@@ -22,7 +22,7 @@ SHIMS = {"soil", "propagation", "velocity"}
 MAX_LINES = 400
 #: Modules still over the limit, each to be split; the list may only shrink.
 OVERSIZE: set[str] = {
-    "detection/budget.py", "io/report.py", "site/survey.py", "waves/propagation.py",
+    "detection/budget.py", "site/survey.py", "waves/propagation.py",
 }
 
 

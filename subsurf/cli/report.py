@@ -1,4 +1,8 @@
-"""``subsurf report``: the self-contained HTML planning report of a survey file."""
+"""``subsurf report``: the self-contained HTML planning report of a survey file.
+
+Parses the arguments, calls :func:`subsurf.io.report.make_report` and prints where the
+report is and what it recommends.
+"""
 
 from __future__ import annotations
 
@@ -28,49 +32,6 @@ def default_report_name(survey_path) -> str:
     return f"{stem or 'survey'}-report.html"
 
 
-def make_report(survey_path, out_path, *, force: bool = False, quiet: bool = False, maps: bool = True,
-                maps_out=None, map_result: dict | None = None, tables_dir=None) -> dict:
-    """Run the maps (unless given or skipped) and write the report; return the summary.
-
-    Existing outputs are checked before any work starts.  Map files go to ``maps_out``
-    when given (kept), else to a temporary folder that is removed afterwards.
-    """
-    import tempfile
-    from pathlib import Path
-
-    from ..io.outputs import check_outputs_free
-    from ..io.progress import steps
-    from ..io.report import write_report
-
-    out_path = Path(out_path)
-    check_outputs_free([out_path], force=force)
-    if maps_out is not None and map_result is None and maps:
-        check_outputs_free([maps_out], force=force)
-    n_steps = 6 if maps and map_result is None else 5
-    with steps(n_steps, desc="subsurf report", quiet=quiet) as bar:
-        tmp = None
-        try:
-            if maps and map_result is None:
-                from ..io.maps import run_map
-
-                bar.start("feasibility maps")
-                if maps_out is None:
-                    tmp = tempfile.TemporaryDirectory(prefix="subsurf-maps-")
-                folder = maps_out if tmp is None else tmp.name
-                # GeoTIFF layers only when the map files are kept (they are not embedded)
-                map_result = {**run_map(survey_path, folder, force=force or tmp is not None, quiet=True,
-                                        geotiff=tmp is None),
-                              "kept": tmp is None, "out_dir": str(folder)}
-                bar.advance("site and soil")
-            else:
-                bar.start("site and soil")
-            return write_report(survey_path, out_path, force=force, map_result=map_result, bar=bar,
-                                tables_dir=tables_dir)
-        finally:
-            if tmp is not None:
-                tmp.cleanup()
-
-
 def summary_text(summary: dict) -> str:
     """The readable lines printed after a report is written."""
     lines = [f"Report written: {summary['report']}"]
@@ -90,6 +51,7 @@ def run(args) -> int:
     from pathlib import Path
 
     from ..io.outputs import print_notes, print_result
+    from ..io.report import make_report
 
     out = Path(args.out) if args.out else Path(default_report_name(args.survey))
     summary = make_report(args.survey, out, force=args.force, quiet=args.quiet or args.json,

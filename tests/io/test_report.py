@@ -94,12 +94,12 @@ def test_velocity_draws_fall_with_moisture(data):
     """Physical invariant: across Monte Carlo draws, wetter soil is slower (negative rank correlation)."""
     from scipy import stats
 
-    from subsurf.io.report import _velocity_draws
+    from subsurf.io.report.content import velocity_draws
 
     soil = data["site_soil"].soil
     rng_moist = np.random.default_rng(11).normal(float(soil.moisture), 0.03, 300)
-    # the same seed inside _velocity_draws draws moisture first
-    _, v, varied = _velocity_draws(soil, {"moisture": 0.03}, 250e6, draws=300, seed=11)
+    # the same seed inside velocity_draws draws moisture first
+    _, v, varied = velocity_draws(soil, {"moisture": 0.03}, 250e6, draws=300, seed=11)
     assert varied == ["moisture"]
     rho = stats.spearmanr(np.clip(rng_moist, 0, None), v).statistic
     assert rho < -0.99
@@ -107,9 +107,9 @@ def test_velocity_draws_fall_with_moisture(data):
 
 def test_velocity_draws_without_spread_are_nominal(data):
     """With no input spread every draw equals the nominal velocity."""
-    from subsurf.io.report import _velocity_draws
+    from subsurf.io.report.content import velocity_draws
 
-    v0, v, varied = _velocity_draws(data["site_soil"].soil, {}, 250e6, draws=50, seed=1)
+    v0, v, varied = velocity_draws(data["site_soil"].soil, {}, 250e6, draws=50, seed=1)
     assert varied == []
     np.testing.assert_array_equal(v, np.full(50, v0))
 
@@ -203,3 +203,26 @@ def test_cli_report_missing_survey_is_one_line(tmp_path):
     assert res.returncode == 1
     assert res.stderr.strip().count("\n") == 0
     assert "not found" in res.stderr
+
+
+def test_survey_text_is_escaped(tmp_path):
+    """Markup typed into a survey file is shown as text, never run (jinja2 autoescape, HTML 5 §13.1.2)."""
+    from subsurf.io.report import collect, render_html
+
+    path = write_test_survey(tmp_path)
+    text = path.read_text(encoding="utf-8").replace(
+        'description = "An invented site', 'description = "<script>alert(1)</script> & <b>bold</b> An invented site')
+    path.write_text(text, encoding="utf-8")
+    page = render_html(collect(path))
+    assert "<script" not in page and "<b>bold" not in page
+    assert "&lt;script&gt;alert(1)&lt;/script&gt; &amp; &lt;b&gt;bold&lt;/b&gt;" in page
+
+
+def test_templates_ship_with_the_package():
+    """The report templates are package data (found through importlib.resources, as an installed wheel would)."""
+    from importlib.resources import files
+
+    root = files("subsurf.io.report") / "templates"
+    names = {p.name for p in root.iterdir()} | {p.name for p in (root / "sections").iterdir()}
+    for name in ("report.html.j2", "macros.html.j2", "report.css", "summary.html.j2", "safety.html.j2"):
+        assert name in names, name

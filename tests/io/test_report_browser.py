@@ -67,7 +67,7 @@ def browser(tmp_path_factory):
 @pytest.fixture(scope="module")
 def opened_report(browser, tmp_path_factory, report_survey):
     """Write the report of the test survey and load it in the browser (once per module)."""
-    from subsurf.cli.report import make_report
+    from subsurf.io.report import make_report
 
     out = tmp_path_factory.mktemp("browser") / "report.html"
     summary = make_report(report_survey, out, quiet=True)  # with the feasibility maps

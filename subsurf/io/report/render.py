@@ -1,0 +1,145 @@
+"""The planning report as HTML (jinja2 templates, autoescaped), its JSON summary and CSV tables.
+
+Templates live in ``templates/`` (shipped as package data): ``report.html.j2`` frames the
+page, ``sections/<id>.html.j2`` lays out each section from the context that
+:mod:`.sections` builds, ``macros.html.j2`` holds tables and figures, ``report.css`` the
+screen and print styles.  Autoescape is on for every template, so no value from a survey
+file can inject markup; figures are embedded as base64 PNG data URIs, and the page has no
+scripts, fonts or links to the network.
+
+Library choice: jinja2 (a well-kept template engine, pure Python, already a dependency of
+much of the scientific-Python stack) instead of HTML assembled in f-strings.
+"""
+
+from __future__ import annotations
+
+import base64
+import functools
+from pathlib import Path
+
+import numpy as np
+
+from .content import collect
+from .sections import SECTION_BUILDERS, Verdict
+from .texts import SECTIONS
+
+__all__ = ["render_html", "summary_payload", "report_tables", "write_report", "TABLE_NAMES"]
+
+#: CSV tables written beside a report (``tables_dir``)
+TABLE_NAMES = ("antenna_ranking.csv", "time_to_depth.csv", "ground_properties.csv")
+
+
+def _png_data_uri(png: bytes) -> str:
+    return "data:image/png;base64," + base64.b64encode(png).decode("ascii")
+
+
+@functools.lru_cache(maxsize=1)
+def environment():
+    """The jinja2 environment of the report templates (autoescape on, undefined names are errors)."""
+    import jinja2
+
+    env = jinja2.Environment(loader=jinja2.PackageLoader("subsurf.io.report", "templates"), autoescape=True,
+                             undefined=jinja2.StrictUndefined, trim_blocks=True, lstrip_blocks=True,
+                             keep_trailing_newline=True)
+    env.filters["png_data_uri"] = _png_data_uri
+    env.tests["verdict"] = lambda v: isinstance(v, Verdict)
+    return env
+
+
+def render_html(data: dict) -> str:
+    """The complete, self-contained HTML page for the content of :func:`.content.collect`."""
+    from ... import __version__
+    from ...detection.budget import REACHES_MARGIN_DB
+
+    titles = dict(SECTIONS)
+    sections = [(sid, titles[sid], build(data)) for sid, build in SECTION_BUILDERS.items()]
+    return environment().get_template("report.html.j2").render(
+        title=data["title"], generated=data["generated"], version=__version__,
+        survey_file=Path(data["survey"]["survey"]).name, sections=sections, toc=SECTIONS[1:],
+        reaches_db=f"{REACHES_MARGIN_DB:g}")
+
+
+def summary_payload(data: dict, report_path) -> dict:
+    """The JSON-able summary printed by the commands (no arrays, no images)."""
+    from ...safety import CAUTION
+
+    rows = [{k: r[k] for k in ("name", "centre_freq_hz", "performance_db", "max_depth_m", "margin_db",
+                                "verdict", "recommended")} for r in data["ranking"]]
+    c = data["depth_chart"]
+    return {
+        "report": str(report_path),
+        "survey": data["survey"]["survey"],
+        "site": data["survey"]["name"],
+        "target": data["target"],
+        "recommended": data["recommended"],
+        "reason": data["reason"],
+        "ranking": rows,
+        "velocity_m_per_s": c["velocity"],
+        "velocity_p05_m_per_s": c["velocity_p05"],
+        "velocity_p95_m_per_s": c["velocity_p95"],
+        "warnings": data["warnings"],
+        "caution": CAUTION,
+    }
+
+
+def report_tables(data: dict) -> dict[str, str]:
+    """The report's main tables as CSV text: file name -> content (human units, caution column)."""
+    import csv
+    import io
+
+    from ...safety import CAUTION
+
+    def to_csv(header, rows):
+        buf = io.StringIO()
+        w = csv.writer(buf, lineterminator="\n")
+        w.writerow(header + ["caution"])
+        for i, r in enumerate(rows):
+            w.writerow([f"{v:.6g}" if isinstance(v, float) else v for v in r] + [CAUTION if i == 0 else ""])
+        return buf.getvalue()
+
+    c = data["depth_chart"]
+    ranking = to_csv(
+        ["antenna", "centre_frequency_mhz", "performance_db", "max_depth_m", "margin_db", "verdict",
+         "vertical_resolution_m", "horizontal_resolution_m", "recommended"],
+        [[r["name"], r["centre_freq_hz"] / 1e6, r["performance_db"], r["max_depth_m"], r["margin_db"],
+          r["verdict"], r["vertical_resolution_m"], r["fresnel_radius_m"], "yes" if r["recommended"] else "no"]
+         for r in data["ranking"]])
+    depth = to_csv(["two_way_time_ns", "depth_m", "depth_p05_m", "depth_p95_m", "antenna", "velocity_m_per_ns",
+                    "antenna_separation_m"],
+                   [[r["twt_ns"], r["depth_m"], r["depth_p05_m"], r["depth_p95_m"], data["chart_antenna"],
+                     c["velocity"] * 1e-9, c["offset_m"]] for r in c["table"]])
+    g = data["ground"]
+    idx = np.unique(np.searchsorted(g["freq_hz"], [25e6, 50e6, 100e6, 200e6, 250e6, 400e6, 500e6, 1e9, 2e9]))
+    ground = to_csv(["frequency_mhz", "eps_real", "eps_imag", "sigma_eff_ms_per_m", "loss_tangent",
+                     "velocity_m_per_ns", "attenuation_db_per_m", "skin_depth_m"],
+                    [[g["freq_hz"][i] / 1e6, g["eps_real"][i], g["eps_imag"][i], g["sigma_eff"][i] * 1e3,
+                      g["loss_tangent"][i], g["velocity"][i] * 1e-9, g["attenuation_db_per_m"][i],
+                      g["skin_depth"][i]] for i in idx if i < g["freq_hz"].size])
+    return {"antenna_ranking.csv": ranking, "time_to_depth.csv": depth, "ground_properties.csv": ground}
+
+
+def write_report(survey_path, out_path, *, force: bool = False, map_result: dict | None = None,
+                 bar=None, tables_dir=None) -> dict:
+    """Build the report for ``survey_path`` and write it atomically to ``out_path``.
+
+    Returns the summary of :func:`summary_payload` (with ``tables``: the CSV files
+    written to ``tables_dir`` when given).  Raises
+    :class:`~subsurf.errors.OutputExistsError` if an output exists and not ``force``
+    (checked before any work is done).
+    """
+    from ..outputs import atomic_write_text, check_outputs_free
+
+    out_path = Path(out_path)
+    names = TABLE_NAMES
+    check_outputs_free([out_path] + ([Path(tables_dir) / n for n in names] if tables_dir else []), force=force)
+    data = collect(survey_path, map_result=map_result, bar=bar)
+    page = render_html(data)
+    if bar is not None:
+        bar.advance("writing")
+    atomic_write_text(out_path, page, force=force)
+    summary = summary_payload(data, out_path)
+    summary["tables"] = []
+    if tables_dir is not None:
+        for name, text in report_tables(data).items():
+            summary["tables"].append(str(atomic_write_text(Path(tables_dir) / name, text, force=force)))
+    return summary

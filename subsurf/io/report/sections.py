@@ -1,0 +1,270 @@
+"""The report's sections as template contexts: formatted cells, sentences with numbers, figures.
+
+Each ``<name>(data)`` takes the content of :func:`.content.collect` and returns the plain
+values its template (``templates/sections/<name>.html.j2``) lays out: strings already in
+the report's human units, tables as :class:`Table`, figures as :class:`Figure` (PNG bytes,
+drawn by :mod:`subsurf.io.fig_report`).  No HTML is written here; the templates escape
+every value (jinja2 autoescape).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+
+from .content import REPORT_FREQS_HZ, ground_table, site_geometry
+from .texts import (
+    ASSUMPTIONS,
+    HUMAN,
+    MAP_COLUMNS,
+    MODEL_VALIDITY,
+    REFERENCES,
+    REFERENCES_SKIPPED,
+    SAFETY,
+    SPREAD_NAMES,
+)
+
+__all__ = ["Table", "Figure", "Verdict", "fmt", "SECTION_BUILDERS"]
+
+
+@dataclass(frozen=True)
+class Verdict:
+    """A verdict word in a table cell, shown with its colour class."""
+
+    word: str
+
+    @property
+    def css(self) -> str:
+        return {"reaches": "verdict-reaches", "marginal": "verdict-marginal"}.get(self.word, "verdict-no")
+
+
+@dataclass(frozen=True)
+class Table:
+    """Headers, rows of cells (str or :class:`Verdict`), numeric column indices, optional row classes."""
+
+    headers: list
+    rows: list
+    numeric: tuple = ()
+    row_classes: list = field(default_factory=list)
+
+
+@dataclass(frozen=True)
+class Figure:
+    """A PNG figure with its alternative text and caption."""
+
+    png: bytes
+    alt: str
+    caption: str = ""
+
+
+def fmt(v, spec=".3g") -> str:
+    """A number as the report shows it: ``–`` for missing/NaN, ``∞`` for infinity."""
+    if v is None:
+        return "–"
+    if isinstance(v, float):
+        if math.isnan(v):
+            return "–"
+        if math.isinf(v):
+            return "∞"
+    try:
+        return format(v, spec)
+    except (TypeError, ValueError):
+        return str(v)
+
+
+def summary(data) -> dict:
+    rows, rec, t, chart = data["ranking"], data["recommended"], data["target"], data["depth_chart"]
+    rec_row = next((r for r in rows if r["name"] == rec), None)
+    reaching = [r["name"] for r in rows if r["verdict"] == "reaches"]
+    cards = []
+    if rec_row:
+        cards.append(("recommended antenna", rec, f"{rec_row['centre_freq_hz'] / 1e6:.0f} MHz", False))
+        cards.append(("max depth, this target", f"{rec_row['max_depth_m']:.2f} m",
+                      f"target at {t['depth_m']:.2f} m · margin {rec_row['margin_db']:.0f} dB",
+                      rec_row["verdict"] != "reaches"))
+    else:
+        cards.append(("recommended antenna", "none", "no listed antenna reaches the target", True))
+        best = max(rows, key=lambda r: r["margin_db"])
+        cards.append(("closest antenna", best["name"], f"max depth {best['max_depth_m']:.2f} m", True))
+    cards.append(("ground velocity", f"{chart['velocity'] * 1e-9:.3f} m/ns",
+                  f"5–95 %: {chart['velocity_p05'] * 1e-9:.3f}–{chart['velocity_p95'] * 1e-9:.3f} m/ns", False))
+    cards.append(("antennas that reach", f"{len(reaching)} of {len(rows)}",
+                  ", ".join(reaching) if reaching else "none with margin", not reaching))
+    size = f", {t['size_m']:.2g} m across" if t["kind"] != "planar" else ""
+    across = ""
+    maps = data.get("maps") or {}
+    if maps.get("summary"):
+        # "reaches" means >= 6 dB to spare everywhere else in the report; margin >= 0 is only "marginal"
+        best = {}
+        for r in maps["summary"]:
+            key = (r["reach_headroom_pct"], r["reach_pct"])
+            if r["scenario"] not in best or key > (best[r["scenario"]]["reach_headroom_pct"],
+                                                   best[r["scenario"]]["reach_pct"]):
+                best[r["scenario"]] = r
+        across = "; ".join(f"{sc}: {r['antenna']} reaches the target with 6 dB to spare over "
+                           f"{r['reach_headroom_pct']:.0f} % of the area (at least marginally over "
+                           f"{r['reach_pct']:.0f} %)" for sc, r in best.items())
+    return {"description": data["survey"].get("description") or "",
+            "cards": [{"k": k, "v": v, "s": s, "bad": bad} for k, v, s, bad in cards],
+            "target_text": f"{t['kind']} target of {t['material'].replace('_', ' ')}{size}, top at {t['depth_m']:.2f} m",
+            "reason": data["reason"], "across": across, "caution": " ".join(data["caution"]),
+            "illustrative": bool(data.get("antennas_illustrative"))}
+
+
+def site(data) -> dict:
+    from ...site.survey import QUANTITIES
+    from ..fig_report import site_map_png
+
+    survey, d = data["survey_obj"], data["survey"]
+    rings, zones, samples = site_geometry(survey)
+    png = site_map_png(rings, samples, crs_name=f"{survey.grid_crs.name} ({d['grid_crs_source']})", zones=zones)
+    info = [["survey file", Path(d["survey"]).name], ["outline CRS", d["outline_crs"]],
+            ["grid CRS", f"{d['grid_crs_name']} ({d['grid_crs']}, {d['grid_crs_source']})"],
+            ["grid cell size", f"{d['cell_size_m']:g} m"], ["soil model", d["soil_model"]],
+            ["texture", d["texture"] or "not given"], ["antennas considered", ", ".join(d["antennas"])]]
+    rows = []
+    for f in data["site_soil"].facts:
+        label, unit, k, spec = HUMAN[f["quantity"]]
+        rng = "" if f["min"] == f["max"] else f"{fmt(f['min'] * k, spec)}–{fmt(f['max'] * k, spec)}"
+        rows.append([label, fmt(f["value"] * k, spec), fmt(f["sd"] * k, ".2g") if f["sd"] else "–", rng, unit,
+                     f["source"]])
+    return {"figure": Figure(png, "site outline with soil sample positions",
+                             "Site outline and soil sample positions in the grid's projected coordinates."),
+            "info": Table(["item", "value"], info),
+            "facts": Table(["quantity", "value", "± (1 s.d.)", "range on site", "unit", "source"], rows,
+                           numeric=(1, 2, 3)),
+            "quantities": ", ".join(QUANTITIES)}
+
+
+def ground(data) -> dict:
+    from scipy import constants
+
+    from ..fig_report import ground_properties_png
+
+    g = data["ground"]
+    eps_eff = g["sigma_eff"] / (2 * np.pi * g["freq_hz"] * constants.epsilon_0)
+    png = ground_properties_png(g["freq_hz"], g["eps_real"], g["eps_imag"], g["velocity"],
+                                g["attenuation_db_per_m"], antenna_freqs_hz=data["ground_table_freqs_hz"],
+                                eps_effective=eps_eff)
+    f, w = ground_table(data["site_soil"].soil, data["ground_table_freqs_hz"])
+    rows = [[fmt(f[i] / 1e6, ".4g"), fmt(float(w.eps_real[i])), fmt(float(w.eps_imag[i])),
+             fmt(float(w.effective_conductivity[i]) * 1e3), fmt(float(w.loss_tangent[i])),
+             fmt(float(w.velocity[i]) * 1e-9, ".4f"), fmt(float(w.wavelength[i])),
+             fmt(float(w.attenuation_db_per_m[i])), fmt(float(w.skin_depth[i]))] for i in range(f.size)]
+    return {"figure": Figure(png, "relative permittivity, loss, velocity and attenuation against frequency",
+                             "The site-median ground against frequency. Loss panel: the dielectric ε'' of the soil "
+                             "model and the effective ε''_eff = σ_eff/(ωε₀) that includes DC conduction. Vertical "
+                             "lines mark the centre frequencies of the antennas considered."),
+            "table": Table(["f (MHz)", "ε'", "ε''", "σ_eff (mS/m)", "tan δ", "v (m/ns)", "λ (m)", "α (dB/m)",
+                            "skin depth (m)"], rows, numeric=tuple(range(9))),
+            "conduction_in_eps": bool(getattr(data["site_soil"].soil, "conduction_in_eps", False))}
+
+
+def reach(data) -> dict:
+    from ..fig_report import max_depth_png
+
+    t = data["target"]
+    pts = [{"name": r["name"], "freq_hz": r["centre_freq_hz"], "max_depth_m": r["max_depth_m"],
+            "recommended": r["recommended"]} for r in data["ranking"]]
+    png = max_depth_png(REPORT_FREQS_HZ, data["max_depth_curves"], t["depth_m"], pts,
+                        target_label=f"{t['kind']} target")
+    text = ("Curves: the deepest the target could be detected by a system of the stated performance and "
+            "gain at each frequency. Points: each antenna with its own performance (stacking included) and "
+            "gain; a point above the dashed target line does not reach it.")
+    return {"figure": Figure(png, "maximum detectable depth against frequency", text)}
+
+
+def antennas(data) -> dict:
+    rows, classes = [], []
+    for r in sorted(data["ranking"], key=lambda r: -r["margin_db"]):
+        rows.append([r["name"] + (" ★" if r["recommended"] else ""), fmt(r["centre_freq_hz"] / 1e6, ".4g"),
+                     fmt(r["performance_db"], ".1f"), fmt(r["max_depth_m"]), fmt(r["margin_db"], ".1f"),
+                     Verdict(r["verdict"]), fmt(r["vertical_resolution_m"], ".2g"),
+                     fmt(r["fresnel_radius_m"], ".2g"), fmt(r["received_freq_hz"] / 1e6, ".3g")])
+        classes.append("rec" if r["recommended"] else "")
+    return {"table": Table(["antenna", "f_c (MHz)", "performance (dB)", "max depth (m)", "margin at target (dB)",
+                            "verdict", "vertical resolution (m)", "horizontal resolution (m)", "received f (MHz)"],
+                           rows, numeric=(1, 2, 3, 4, 6, 7, 8), row_classes=classes),
+            "reason": data["reason"]}
+
+
+def settings(data) -> dict:
+    acq = data["acquisition"]
+    return {"antenna": data["chart_antenna"],
+            "which": "the recommended antenna" if data["recommended"] else "the antenna that comes closest",
+            "depth": f"{data['target']['depth_m']:.2f}", "area": f"{acq['area_m2']:,.0f}",
+            "table": Table(["setting", "value", "unit", "rule"],
+                           [[r["label"], fmt(r["value"], r["fmt"]), r["unit"], r["rule"]] for r in acq["rows"]],
+                           numeric=(1,)),
+            "notes": list(acq["notes"])}
+
+
+def _describe_files(files) -> str:
+    """Short description of a list of output file names, grouped by kind."""
+    kinds = {".nc": "CF NetCDF", ".tif": "GeoTIFF layers", ".png": "PNG maps", ".csv": "CSV", ".md": "Markdown",
+             ".json": "JSON"}
+    counts: dict = {}
+    for f in files:
+        k = kinds.get(Path(f).suffix.lower(), "other")
+        counts[k] = counts.get(k, 0) + 1
+    return ", ".join(f"{n} {k}" if n > 1 else f"{k}" if k != "other" else "1 other" for k, n in counts.items()) + \
+        f" ({len(files)} files)"
+
+
+def maps(data) -> dict:
+    m = data["maps"]
+    if not m:
+        return {"present": False}
+    scen = data["survey"]["scenarios"]
+    out = {"present": True, "scenarios": scen if len(scen) > 1 or (scen and scen[0]["name"] != "base") else [],
+           "table": None, "monte_carlo": m.get("monte_carlo") or {},
+           "figures": [Figure(f["png"], f["caption"], f["caption"]) for f in m["figures"]],
+           "files": _describe_files(m["files"]) if m["files"] else ""}
+    if m["summary"]:
+        rows = [[fmt(r.get(k), f) if f != "s" else str(r.get(k, "")) for k, _, f in MAP_COLUMNS] for r in m["summary"]]
+        out["table"] = Table([h for _, h, _ in MAP_COLUMNS], rows, numeric=tuple(range(2, len(MAP_COLUMNS))))
+        mc = out["monte_carlo"]
+        out["mc_error"] = f"{mc.get('max_standard_error', 0):.3f}" if mc else ""
+    return out
+
+
+def depth(data) -> dict:
+    from ..fig_report import time_depth_png
+
+    c = data["depth_chart"]
+    vtxt = (f"{data['chart_antenna']}: v = {c['velocity'] * 1e-9:.3f} m/ns "
+            f"(5–95 %: {c['velocity_p05'] * 1e-9:.3f}–{c['velocity_p95'] * 1e-9:.3f} m/ns), "
+            f"antenna separation {c['offset_m']:g} m")
+    png = time_depth_png(c["twt_s"], c["depth_m"], c["depth_p05_m"], c["depth_p95_m"], velocity_text=vtxt,
+                         target_depth_m=data["target"]["depth_m"])
+    rows = [[fmt(r["twt_ns"], ".4g"), fmt(r["depth_m"], ".2f"), fmt(r["depth_p05_m"], ".2f"),
+             fmt(r["depth_p95_m"], ".2f")] for r in c["table"]]
+    return {"figure": Figure(png, "two-way travel time to depth chart with uncertainty band",
+                             "Depth below the surface for a two-way travel time measured from time zero."),
+            "table": Table(["two-way time (ns)", "depth (m)", "5 % (m)", "95 % (m)"], rows, numeric=(0, 1, 2, 3)),
+            "freq_mhz": f"{c['freq_hz'] / 1e6:.0f}", "draws": c["draws"], "seed": c["seed"],
+            "varied": ", ".join(SPREAD_NAMES.get(v, v) for v in c["varied"]) or "none (no spread given)"}
+
+
+def assumptions(data) -> dict:
+    model = data["survey"]["soil_model"]
+    return {"entries": [f"Soil model: {MODEL_VALIDITY.get(model, model)}", *ASSUMPTIONS],
+            "warnings": list(data["warnings"])}
+
+
+def references(data) -> dict:
+    skip = REFERENCES_SKIPPED.get(data["survey"]["soil_model"], set())
+    return {"entries": [{"text": text, "use": use} for key, (text, use) in REFERENCES.items() if key not in skip]}
+
+
+def safety(data) -> dict:
+    return {"entries": list(SAFETY)}
+
+
+#: section id -> context builder, in page order (titles in :data:`.texts.SECTIONS`)
+SECTION_BUILDERS = {"summary": summary, "site": site, "ground": ground, "reach": reach, "antennas": antennas,
+                    "settings": settings, "maps": maps, "depth": depth, "assumptions": assumptions,
+                    "references": references, "safety": safety}
