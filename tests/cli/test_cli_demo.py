@@ -119,3 +119,14 @@ def test_demo_report_site_sentence_uses_the_6db_rule(demo):
         best = max(r["reach_headroom_pct"] for r in rows if r["scenario"] == sc)
         m = re.search(rf"{sc}: \S+ reaches the target with 6 dB to spare over (\d+) %", page)
         assert m and int(m.group(1)) == round(best), sc
+
+
+def test_demo_report_quotes_the_maps_probability_method(demo):
+    """The map section states how reach probabilities were estimated, as the map's own summary.json records."""
+    cwd, _ = demo
+    page = (cwd / "subsurf-demo" / "report.html").read_text(encoding="utf-8")
+    mc = json.loads((cwd / "subsurf-demo" / "maps" / "summary.json").read_text(encoding="utf-8"))["monte_carlo"]
+    assert f"({mc['draws']} draws, seed {mc['seed']}" in page
+    assert f"estimated error at most {mc['max_estimated_error']:.3f}" in page
+    for name, f in mc["sampled_fraction"].items():
+        assert f"{name} {100 * f:.1f} %" in page

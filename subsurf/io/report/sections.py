@@ -227,7 +227,9 @@ def maps(data) -> dict:
         rows = [[fmt(r.get(k), f) if f != "s" else str(r.get(k, "")) for k, _, f in MAP_COLUMNS] for r in m["summary"]]
         out["table"] = Table([h for _, h, _ in MAP_COLUMNS], rows, numeric=tuple(range(2, len(MAP_COLUMNS))))
         mc = out["monte_carlo"]
-        out["mc_error"] = f"{mc.get('max_standard_error', 0):.3f}" if mc else ""
+        err = mc.get("max_estimated_error", mc.get("max_standard_error", 0.0))
+        out["mc_error"] = f"{err:.3f}" if mc else ""
+        out["mc_sampled"] = ", ".join(f"{name} {100 * f:.1f} %" for name, f in mc.get("sampled_fraction", {}).items())
     return out
 
 
