@@ -2,7 +2,7 @@
 
 The ground is given either directly (``--eps``, ``--sigma``) or as soil facts
 (``--texture``, ``--moisture``, pore water, temperature, model) or as a TOML file
-(``--soil FILE``) whose keys are the fields of :class:`subsurf.soil.Soil`.
+(``--soil FILE``) whose keys are declared in :mod:`subsurf.ground.schema`.
 Only light imports at module level: numpy and the physics load when a command runs.
 """
 
@@ -54,17 +54,6 @@ _SOIL_FLAGS = {
 }
 
 
-# Keys of a --soil file that are flag names (or the survey file's names) rather than Soil
-# fields: they read bare numbers in the flag's unit, like the flag itself.
-_SOIL_FILE_KEYS = {
-    "temp": "temp",
-    "temperature": "temp",
-    "salinity": "salinity",
-    "pore_water_ec": "pore_water_ec",
-    "tds": "tds",
-}
-
-
 def medium_from_args(args, *, required: bool = True) -> Medium | None:
     """Build the :class:`Medium` described by the parsed flags; errors name the flag."""
     from ..errors import InputError
@@ -99,30 +88,10 @@ def medium_from_args(args, *, required: bool = True) -> Medium | None:
     mapping: dict = {}
     source = "command line"
     if args.soil:
-        import tomllib
-        from pathlib import Path
+        from ..ground.schema import load_soil_file
 
-        path = Path(args.soil)
-        try:
-            with path.open("rb") as fh:
-                data = tomllib.load(fh)
-        except FileNotFoundError:
-            raise InputError(f"--soil: file not found: {path}") from None
-        except tomllib.TOMLDecodeError as exc:
-            raise InputError(f"{path}: not valid TOML: {exc}") from None
-        source = str(path)
-        table = data.get("soil", data)
-        if not isinstance(table, dict):
-            raise InputError(f"{path}: 'soil' must be a table of soil facts, got {table!r}")
-        for key, val in table.items():
-            flag = _SOIL_FILE_KEYS.get(key)
-            if flag is None:
-                mapping[key] = val  # a Soil field name: SI bare numbers (checked by Soil.from_mapping)
-                continue
-            fld, kind, unit = _SOIL_FLAGS[flag]
-            if isinstance(val, bool) or not isinstance(val, (int, float, str)):
-                raise InputError(f"{path}: field '{key}' must be a number or a string with unit, got {val!r}")
-            mapping[fld] = parse_quantity(val, kind, default_unit=unit, name=f"{path}: field '{key}'")
+        source = str(args.soil)
+        mapping.update(load_soil_file(args.soil))  # SI values; keys and ranges from ground/schema.py
     if args.texture:
         mapping["texture"] = args.texture
     if args.model:

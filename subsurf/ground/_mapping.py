@@ -1,4 +1,8 @@
-"""Reading a soil description from a TOML-like mapping (edge input for :class:`Soil`)."""
+"""Reading a soil description from a TOML-like mapping (edge input for :class:`Soil`).
+
+Kinds, bare-number units and ranges come from :data:`subsurf.ground.schema.SOIL_FACTS`,
+declared once; unknown keys are refused with the closest valid key suggested.
+"""
 
 from __future__ import annotations
 
@@ -6,29 +10,12 @@ import re
 
 import numpy as np
 
+from .._schema import closest
 from ..errors import InputError, SubsurfError
 from ..units import parse_quantity
 
 __all__ = ["soil_kwargs_from_mapping"]
 
-# Field name -> (quantity kind for subsurf.units.parse_quantity, default unit of bare numbers).
-_FIELD_KINDS = {
-    "moisture": ("fraction", "dimensionless"),
-    "sand": ("fraction", "dimensionless"),
-    "clay": ("fraction", "dimensionless"),
-    "porosity": ("fraction", "dimensionless"),
-    "bulk_density": ("density", "kg/m**3"),
-    "particle_density": ("density", "kg/m**3"),
-    "temp_c": ("temperature", "degC"),
-    "pore_water_salinity_psu": ("salinity", "psu"),
-    "pore_water_ec25": ("conductivity", "S/m"),
-    "pore_water_tds": ("mass_concentration", "kg/m**3"),
-    "eps_solid": ("dimensionless", "dimensionless"),
-    "archie_a": ("dimensionless", "dimensionless"),
-    "archie_m": ("dimensionless", "dimensionless"),
-    "archie_n": ("dimensionless", "dimensionless"),
-    "clay_cec": ("dimensionless", "dimensionless"),
-}
 _CUBE = re.compile(r"(?<=[A-Za-z])(?<![0-9][eE])([23])(?![\d.])")
 
 
@@ -36,21 +23,28 @@ def soil_kwargs_from_mapping(mapping, allowed, *, source: str = "<input>") -> di
     """Keyword arguments for :class:`Soil` from ``mapping``; numbers SI, strings with units.
 
     Raises :class:`~subsurf.errors.InputError` naming ``source``, the field and the value.
+    Ranges are left to :class:`Soil` itself (arrays from code are checked there).
     """
+    from .schema import SOIL_FACTS, soil_fact
+
     if not isinstance(mapping, dict):
         raise InputError(f"{source}: soil must be a table of fields, got {type(mapping).__name__}")
+    allowed = list(allowed)
     kwargs = {}
     for key, value in mapping.items():
         if key not in allowed:
-            raise InputError(f"{source}: unknown soil field {key!r}; allowed: {', '.join(allowed)}")
+            fact = SOIL_FACTS.get(key)
+            near = fact.field if fact is not None and fact.field in allowed else closest(key, allowed)
+            hint = f"; did you mean '{near}'?" if near else ""
+            raise InputError(f"{source}: unknown soil field {key!r}{hint} (allowed: {', '.join(allowed)})")
         if key in ("texture", "model"):
             if not isinstance(value, str):
                 raise InputError(f"{source}: field '{key}' must be a string, got {value!r}")
             kwargs[key] = value
             continue
-        kind, unit = _FIELD_KINDS[key]
+        fact = soil_fact(key)
 
-        def one(v, key=key, kind=kind, unit=unit):
+        def one(v, key=key, kind=fact.kind, unit=fact.unit):
             if isinstance(v, bool) or not isinstance(v, (int, float, str)):
                 raise InputError(f"field '{key}' must be a number or a string with unit, got {v!r}")
             if isinstance(v, str):

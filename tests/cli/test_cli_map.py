@@ -129,7 +129,7 @@ def test_bad_survey_one_line_error(tmp_path):
     proc = run(p, "--out", tmp_path / "o")
     assert proc.returncode == 1
     lines = proc.stderr.strip().splitlines()
-    assert len(lines) == 1 and "antennas.names" in lines[0] and "nosuch-123" in lines[0]
+    assert len(lines) == 1 and "[antennas] names" in lines[0] and "nosuch-123" in lines[0]
     assert not (tmp_path / "o" / "feasibility.nc").exists()
 
 

@@ -1,9 +1,10 @@
-"""Survey files: schema, CRS handling and bad input (subsurf.survey)."""
+"""Survey files: schema, CRS handling and bad input (subsurf.site.survey, subsurf.site.schema)."""
 
 from __future__ import annotations
 
 import json
 import math
+import re
 from pathlib import Path
 
 import pytest
@@ -85,16 +86,16 @@ def test_sample_units_converted_to_si(tmp_path):
 
 
 def test_missing_crs_named(tmp_path):
-    """A site without a CRS is a one-line error naming the field site.crs."""
+    """A site without a CRS is a one-line error naming the key [site] crs and what it takes."""
     p = write(tmp_path, BASE.replace('crs = "EPSG:32631"\n', "", 1))
-    with pytest.raises(FileInputError, match=r"field 'site\.crs'.*CRS is required"):
+    with pytest.raises(FileInputError, match=r"survey\.toml: \[site\] crs: missing required key \(an EPSG code"):
         load_survey(p)
 
 
 def test_unknown_crs_named(tmp_path):
     """An unknown EPSG code is refused with the field named."""
     p = write(tmp_path, BASE.replace('crs = "EPSG:32631"', 'crs = "EPSG:999999"', 1))
-    with pytest.raises(FileInputError, match=r"site\.crs.*unknown CRS"):
+    with pytest.raises(FileInputError, match=r"\[site\] crs: unknown CRS"):
         load_survey(p)
 
 
@@ -152,7 +153,7 @@ def test_value_out_of_range_names_row(tmp_path):
 def test_unknown_antenna_kind_of_target(tmp_path):
     """An unknown target kind lists the allowed kinds."""
     p = write(tmp_path, BASE.replace('kind = "line"', 'kind = "sphere"'))
-    with pytest.raises(FileInputError, match="planar, point, line"):
+    with pytest.raises(FileInputError, match=r"\[target\] kind: 'sphere' is not one of planar, point, line"):
         load_survey(p)
 
 
@@ -169,7 +170,7 @@ def test_auto_utm_norway_svalbard_exceptions(lon, lat, epsg):
 def test_vertical_crs_refused(tmp_path):
     """A vertical-only CRS (EPSG:5703, NAVD88 height) cannot place an outline: one line naming site.crs."""
     p = write(tmp_path, BASE.replace('crs = "EPSG:32631"', 'crs = "EPSG:5703"', 1))
-    with pytest.raises(FileInputError, match=r"site\.crs.*not a horizontal"):
+    with pytest.raises(FileInputError, match=r"\[site\] crs: CRS .* is not a horizontal"):
         load_survey(p)
 
 
@@ -184,14 +185,139 @@ def test_temperature_offset_in_kelvin_is_a_difference(tmp_path):
 
 
 def test_monte_carlo_draws_not_a_number(tmp_path):
-    """draws = "many" is a one-line error naming monte_carlo.draws, not an internal error."""
+    """draws = "many" is a one-line error naming [monte_carlo] draws, not an internal error."""
     p = write(tmp_path, BASE + '\n[monte_carlo]\ndraws = "many"\n')
-    with pytest.raises(FileInputError, match=r"monte_carlo\.draws.*whole number"):
+    with pytest.raises(FileInputError, match=r"\[monte_carlo\] draws: expected a whole number"):
         load_survey(p)
 
 
 def test_single_bracket_samples_table(tmp_path):
     """[soil.samples] written with single brackets is explained (an array of tables is needed)."""
     p = write(tmp_path, BASE + '\n[soil.samples]\nfile = "s.csv"\ncrs = "EPSG:32631"\n')
-    with pytest.raises(FileInputError, match=r"soil\.samples.*double brackets"):
+    with pytest.raises(FileInputError, match=r"\[soil\.samples\]: expected an array of tables.*double brackets"):
         load_survey(p)
+
+
+# --- the declared schema (subsurf.site.schema) ------------------------------------------------
+
+SCHEMA_FILE = EXAMPLE.parents[1] / "survey.schema.json"
+
+
+def test_cellsize_typo_refused_with_suggestion(tmp_path):
+    """An unknown key (cellsize) is refused, naming [grid] and suggesting cell_size (difflib)."""
+    p = write(tmp_path, BASE.replace("cell_size", "cellsize"))
+    with pytest.raises(FileInputError, match=r"\[grid\] cellsize: unknown key; did you mean 'cell_size'\?"):
+        load_survey(p)
+
+
+def test_unknown_top_level_key_refused(tmp_path):
+    """A key outside every table (a stray 'catalog') is refused, listing the allowed tables."""
+    p = write(tmp_path, 'catalog = "x.toml"\n' + BASE)
+    with pytest.raises(FileInputError, match=r"catalog: unknown key.*site, grid, soil, target, antennas"):
+        load_survey(p)
+
+
+def test_scenario_offset_range_names_key_path_and_range(tmp_path):
+    """An offset of +90 % moisture leaves the accepted span (+-70 %): file, scenario, key and range in one line."""
+    p = write(tmp_path, BASE + '\n[[scenarios]]\nname = "wet"\noffset = { moisture = "90 %" }\n')
+    with pytest.raises(FileInputError) as err:
+        load_survey(p)
+    msg = str(err.value)
+    assert msg.count("\n") == 0
+    assert 'survey.toml: [[scenarios]] "wet" offset.moisture: must be between -0.7 and 0.7 (-70 to 70 %)' in msg
+
+
+def test_default_range_error_names_table_and_range(tmp_path):
+    """[soil.defaults] moisture = '85 %' names the table, the key and the range 0-70 %."""
+    p = write(tmp_path, BASE.replace('moisture = "15 %"', 'moisture = "85 %"'))
+    with pytest.raises(FileInputError, match=r"\[soil\.defaults\] moisture: must be between 0 and 0\.7 "
+                                             r"\(0 to 70 %\), got '85 %'"):
+        load_survey(p)
+
+
+def test_units_strings_read_at_the_edge(tmp_path):
+    """'20 mS/m', '5 m' and '15 %' are converted to SI by pint (0.02 S/m, 5 m, 0.15)."""
+    s = load_survey(write(tmp_path))
+    assert s.defaults["pore_water_ec"] == pytest.approx(0.020, rel=1e-12)
+    assert s.defaults["moisture"] == pytest.approx(0.15, rel=1e-12) and s.cell_size_m == 5.0
+
+
+CATALOGUE = """
+[antenna.site-600]
+centre_frequency_mhz = 600
+bandwidth_mhz = 600
+system_performance_db = 120
+separation_m = 0.1
+trace_rate_hz = 100
+"""
+
+
+def test_catalogue_key_resolved_relative_to_survey(tmp_path):
+    """[antennas] catalogue names a TOML beside the survey; the Survey carries its absolute path."""
+    (tmp_path / "cat").mkdir()
+    (tmp_path / "cat" / "mine.toml").write_text(CATALOGUE)
+    p = write(tmp_path, BASE.replace('names = ["midband-250"]', 'names = ["site-600"]\ncatalogue = "cat/mine.toml"'))
+    s = load_survey(p)
+    assert s.catalogue_path == (tmp_path / "cat" / "mine.toml").resolve()
+    assert s.describe()["catalogue"] == str(s.catalogue_path)
+
+
+def test_antenna_not_in_own_catalogue_suggests_name(tmp_path):
+    """An antenna missing from the survey's catalogue is refused, suggesting the nearest name in it."""
+    (tmp_path / "mine.toml").write_text(CATALOGUE)
+    p = write(tmp_path, BASE.replace('names = ["midband-250"]', 'names = ["site-60"]\ncatalogue = "mine.toml"'))
+    with pytest.raises(FileInputError, match=r"\[antennas\] names: antenna 'site-60' is not in mine\.toml; "
+                                             r"did you mean 'site-600'\?"):
+        load_survey(p)
+
+
+def test_missing_catalogue_file_named(tmp_path):
+    """A catalogue path that does not exist is one line naming [antennas] catalogue."""
+    p = write(tmp_path, BASE.replace('names = ["midband-250"]', 'names = ["midband-250"]\ncatalogue = "no.toml"'))
+    with pytest.raises(FileInputError, match=r"\[antennas\] catalogue: antenna catalogue not found"):
+        load_survey(p)
+
+
+def test_sample_column_mapping(tmp_path):
+    """columns = {moisture = 'VWC [%]'} reads a file whose header names moisture otherwise."""
+    (tmp_path / "s.csv").write_text(f"x,y,VWC [%]\n{E0 + 10},{N0 + 10},20\n{E0 + 50},{N0 + 20},25\n"
+                                    f"{E0 + 80},{N0 + 50},30\n")
+    text = BASE + '\n[[soil.samples]]\nfile = "s.csv"\ncrs = "EPSG:32631"\ncolumns = { moisture = "VWC [%]" }\n'
+    s = load_survey(write(tmp_path, text))
+    assert s.samples[0].values["moisture"].tolist() == pytest.approx([0.20, 0.25, 0.30])
+
+
+def test_committed_json_schema_is_generated():
+    """surveys/survey.schema.json equals the schema generated from the models (rerun surveys/make_schemas.py)."""
+    from subsurf.site.schema import survey_json_schema
+
+    assert json.loads(SCHEMA_FILE.read_text(encoding="utf-8")) == survey_json_schema()
+
+
+def test_json_schema_accepts_example_and_refuses_typo():
+    """An independent validator (jsonschema, draft 2020-12) accepts the bundled example and refuses a typo."""
+    import tomllib
+
+    import jsonschema
+
+    schema = json.loads(SCHEMA_FILE.read_text(encoding="utf-8"))
+    jsonschema.Draft202012Validator.check_schema(schema)
+    data = tomllib.loads(EXAMPLE.read_text(encoding="utf-8"))
+    jsonschema.Draft202012Validator(schema).validate(data)
+    data["grid"]["cellsize"] = data["grid"].pop("cell_size")
+    with pytest.raises(jsonschema.ValidationError, match="cellsize"):
+        jsonschema.Draft202012Validator(schema).validate(data)
+
+
+def test_readme_documents_every_schema_key():
+    """Every key the schema declares appears in surveys/README.md (the prose cannot drift from the models)."""
+    from subsurf.site import schema as sch
+
+    readme = (EXAMPLE.parents[1] / "README.md").read_text(encoding="utf-8")
+    for model in (sch.Site, sch.Grid, sch.SoilTable, sch.Samples, sch.Zones, sch.Raster, sch.Target,
+                  sch.Antennas, sch.Scenario, sch.MonteCarlo, sch.SurveyFile):
+        for key in model.model_fields:
+            documented = f"`{key}`" in readme or re.search(rf"\[\[?([a-z_]+\.)?{key}\]", readme)
+            assert documented, (model.__name__, key)
+    for q in sch.QUANTITIES:
+        assert f"`{q}`" in readme, q

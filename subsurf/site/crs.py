@@ -1,0 +1,64 @@
+"""Coordinate reference systems of survey inputs: parsing a declared CRS and the automatic UTM zone.
+
+pyproj wraps PROJ and the EPSG database; every input CRS is explicit (EPSG code or WKT).
+"""
+
+from __future__ import annotations
+
+import math
+
+from .._schema import fail
+from ..errors import InputError
+
+__all__ = ["read_crs", "auto_utm_crs"]
+
+
+def read_crs(value, *, path, field: str):
+    """Parse an EPSG code (``"EPSG:4326"`` or ``4326``) or WKT into a ``pyproj.CRS``.
+
+    ``field`` is the key path named in the error (e.g. ``"[site] crs"``).
+    """
+    from pyproj import CRS
+    from pyproj.exceptions import CRSError
+
+    if value is None or (isinstance(value, str) and not value.strip()):
+        raise fail(path, field, "a CRS is required (an EPSG code such as 'EPSG:4326', or WKT)")
+    try:
+        crs = CRS.from_user_input(value)
+    except CRSError:
+        shown = str(value) if len(str(value)) < 60 else str(value)[:57] + "..."
+        raise fail(path, field, f"unknown CRS {shown!r}; give an EPSG code such as 'EPSG:4326' "
+                   "or a WKT string") from None
+    if not (crs.is_geographic or crs.is_projected):
+        raise fail(path, field, f"CRS {crs.name!r} is not a horizontal (geographic or projected) CRS; "
+                   "give one whose axes are longitude/latitude or easting/northing")
+    return crs
+
+
+def auto_utm_crs(lon: float, lat: float):
+    """The WGS 84 / UTM zone CRS holding (lon, lat).
+
+    The zone follows the UTM grid definition: 6-degree zones numbered eastward from
+    180 W, with the exceptions of the UTM/MGRS grid (zone 32 widened to 3-12 E between
+    56 and 64 N for south-western Norway; zones 31, 33, 35 and 37 only, 9 or 12 degrees
+    wide, between 72 and 84 N over Svalbard).  North of the equator (latitude >= 0) the
+    northern-hemisphere code 326zz is used, south of it 327zz; the CRS itself comes from
+    pyproj's EPSG database.  A site straddling a zone boundary uses the zone of the
+    point given (the site centre); UTM stays usable a few degrees beyond its zone.
+
+    References
+    ----------
+    NIMA (2001). *Datums, Ellipsoids, Grids, and Grid Reference Systems*, Technical
+    Manual 8358.1 (UTM zones and their exceptions; cited from memory).
+    """
+    from pyproj import CRS
+
+    if not (math.isfinite(lon) and math.isfinite(lat) and -180.0 <= lon <= 180.0 and -80.0 <= lat <= 84.0):
+        raise InputError(f"site centre lon={lon:.6g}, lat={lat:.6g} is outside the UTM zones "
+                         "(latitude -80 to 84 degrees); give the grid CRS explicitly")
+    zone = min(int(math.floor((lon + 180.0) / 6.0)) + 1, 60)
+    if 56.0 <= lat < 64.0 and 3.0 <= lon < 12.0:
+        zone = 32  # south-western Norway
+    elif lat >= 72.0 and 0.0 <= lon < 42.0:
+        zone = 31 if lon < 9.0 else 33 if lon < 21.0 else 35 if lon < 33.0 else 37  # Svalbard
+    return CRS.from_epsg((32600 if lat >= 0 else 32700) + zone)
