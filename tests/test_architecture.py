@@ -13,8 +13,8 @@ PACKAGE = Path(__file__).resolve().parents[1] / "subsurf"
 #: cli → io/site → planning/detection/interpretation → waves → ground (docs/ARCHITECTURE.md).
 RANK = {"ground": 0, "waves": 1, "detection": 2, "planning": 3, "interpretation": 3,
         "site": 4, "io": 4, "cli": 5}
-#: Shared by every layer: the error family, unit parsing at the edges, the package root.
-SHARED = {"errors", "units", "safety", ""}
+#: Shared by every layer: the error family, unit parsing and file-schema machinery at the edges, the package root.
+SHARED = {"errors", "units", "safety", "_schema", ""}
 #: Public re-export paths named in the design; library code imports the layer, not these.
 SHIMS = {"soil", "propagation", "velocity"}
 
@@ -22,7 +22,7 @@ SHIMS = {"soil", "propagation", "velocity"}
 MAX_LINES = 400
 #: Modules still over the limit, each to be split; the list may only shrink.
 OVERSIZE: set[str] = {
-    "detection/budget.py", "site/survey.py", "waves/propagation.py",
+    "detection/budget.py", "waves/propagation.py",
 }
 
 
