@@ -76,7 +76,7 @@ def read_raster(entry, *, survey_path: Path, where: str) -> RasterLayer:
         try:
             import rioxarray  # noqa: F401 - registers the .rio accessor
         except ImportError:
-            raise FileInputError(path, "reading GeoTIFF needs the optional geo extra: pip install 'subsurf[geo]'") \
+            raise FileInputError(path, "reading GeoTIFF needs rasterio and rioxarray (part of the base install; reinstall with pip install -e .)") \
                 from None
         import xarray as xr
 
