@@ -14,7 +14,7 @@ PACKAGE = Path(__file__).resolve().parents[1] / "subsurf"
 RANK = {"ground": 0, "waves": 1, "detection": 2, "planning": 3, "interpretation": 3,
         "site": 4, "io": 4, "cli": 5}
 #: Shared by every layer: the error family, unit parsing and file-schema machinery at the edges, the package root.
-SHARED = {"errors", "units", "safety", "_schema", ""}
+SHARED = {"errors", "units", "safety", "_schema", "quantities", ""}
 #: Public re-export paths named in the design; library code imports the layer, not these.
 SHIMS = {"soil", "propagation", "velocity"}
 

@@ -13,6 +13,7 @@ from typing import Literal
 import numpy as np
 
 from ..errors import InputError, check_nonnegative, check_positive, check_range
+from ..quantities import accepts_quantities
 from ._validity import PARTICLE_DENSITY_RANGE, check_density
 from .water import _temperature, salinity_from_conductivity
 
@@ -180,6 +181,14 @@ def salinity_from_ec25(ec25):
     return salinity_from_conductivity(ec25, 25.0)
 
 
+@accepts_quantities(
+    water_conductivity="S/m",
+    porosity="dimensionless",
+    saturation="dimensionless",
+    a="dimensionless",
+    m="dimensionless",
+    n="dimensionless",
+)
 def archie_conductivity(water_conductivity, porosity, saturation=1.0, a=1.0, m=2.0, n=2.0):
     """Bulk conductivity of a clean (clay-free) porous medium, Archie's law.
 

@@ -5,6 +5,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..errors import InputError, check_broadcast, check_finite, check_range
+from ..quantities import accepts_quantities
 from ._validity import BULK_DENSITY_RANGE, PARTICLE_DENSITY_RANGE, check_density, warn_validity
 
 __all__ = [
@@ -24,6 +25,7 @@ def _out(x):
     return x[()] if isinstance(x, np.ndarray) and x.ndim == 0 else x
 
 
+@accepts_quantities(theta="dimensionless")
 def topp_permittivity(theta):
     """Apparent relative permittivity of a mineral soil from its volumetric water content.
 
@@ -53,6 +55,7 @@ def topp_permittivity(theta):
     return _out(3.03 + 9.3 * th + 146.0 * th**2 - 76.7 * th**3)
 
 
+@accepts_quantities(ka="dimensionless")
 def topp_moisture(ka):
     """Volumetric water content from apparent permittivity (Topp et al. 1980 inverse fit).
 
@@ -138,6 +141,14 @@ def _sqrt_passive(eps):
     return out
 
 
+@accepts_quantities(
+    moisture="dimensionless",
+    porosity="dimensionless",
+    eps_solid="dimensionless",
+    eps_water="dimensionless",
+    eps_air="dimensionless",
+    exponent="dimensionless",
+)
 def lichtenecker_permittivity(moisture, porosity, eps_solid, eps_water, eps_air=1.0, *,
                               exponent=0.5):
     """Three-phase (solid, water, air) power-law mixing of permittivities.
@@ -191,6 +202,13 @@ def lichtenecker_permittivity(moisture, porosity, eps_solid, eps_water, eps_air=
     return _out(out)
 
 
+@accepts_quantities(
+    moisture="dimensionless",
+    porosity="dimensionless",
+    eps_solid="dimensionless",
+    eps_water="dimensionless",
+    eps_air="dimensionless",
+)
 def crim_permittivity(moisture, porosity, eps_solid, eps_water, eps_air=1.0):
     """Complex refractive index model (CRIM): Lichtenecker–Rother mixing with exponent 1/2.
 

@@ -13,6 +13,7 @@ import numpy as np
 
 from .._codata import epsilon_0  # scipy.constants value without its import cost (start-up)
 from ..errors import InputError, check_broadcast, check_positive, check_range
+from ..quantities import accepts_quantities
 from ._validity import BULK_DENSITY_RANGE, PARTICLE_DENSITY_RANGE, check_density, warn_validity
 from .water import _debye, _temperature
 
@@ -94,6 +95,15 @@ def peplinski_effective_conductivity(sand, clay, bulk_density=1.5e3):
     return out[()] if out.ndim == 0 else out
 
 
+@accepts_quantities(
+    freq_hz="Hz",
+    moisture="dimensionless",
+    sand="dimensionless",
+    clay="dimensionless",
+    bulk_density="kg/m**3",
+    particle_density="kg/m**3",
+    temp_c="degC",
+)
 def peplinski_permittivity(freq_hz, moisture, sand, clay, bulk_density=1.5e3,
                            particle_density=2.66e3, temp_c=20.0):
     """Complex relative permittivity of a mineral soil, Peplinski et al. (1995).

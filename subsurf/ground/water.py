@@ -13,6 +13,7 @@ from math import pi
 import numpy as np
 
 from ..errors import InputError, check_broadcast, check_finite, check_nonnegative
+from ..quantities import accepts_quantities
 from ._validity import warn_validity
 
 __all__ = [
@@ -146,6 +147,7 @@ def water_relaxation_time(temp_c=20.0, salinity_psu=0.0):
     return _two_pi_tau_fresh(t) * _saline_tau_factor(t, s) / (2.0 * pi)
 
 
+@accepts_quantities(freq_hz="Hz", temp_c="degC", salinity_psu="dimensionless")
 def water_permittivity(freq_hz, temp_c=20.0, salinity_psu=0.0):
     """Complex relative permittivity of free water (Debye relaxation only).
 
@@ -216,6 +218,7 @@ def _sp_from_rt(rt, t68):
     return sp, dsp
 
 
+@accepts_quantities(salinity_psu="dimensionless", temp_c="degC")
 def water_conductivity(salinity_psu, temp_c=20.0):
     """Electrical conductivity of sea-salt water from practical salinity and temperature.
 

@@ -13,6 +13,7 @@ import numpy as np
 from scipy import constants
 
 from ..errors import InputError, ModelRangeError, check_nonnegative, check_positive
+from ..quantities import accepts_quantities
 
 __all__ = ["CmpFit", "IntervalVelocities", "cmp_twt", "fit_cmp", "dix_interval_velocities"]
 
@@ -63,6 +64,7 @@ class CmpFit:
         return cmp_twt(offset_m, self.velocity, self.t0)
 
 
+@accepts_quantities(offset_m="m", twt_s="s")
 def fit_cmp(offset_m, twt_s) -> CmpFit:
     """Velocity and zero-offset time of a flat reflector from a CMP or WARR gather.
 

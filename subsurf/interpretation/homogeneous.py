@@ -13,6 +13,7 @@ import numpy as np
 from scipy import constants
 
 from ..errors import InputError, check_finite, check_nonnegative, check_positive
+from ..quantities import accepts_quantities
 from ..waves.propagation import depth_from_time
 
 __all__ = ["DepthEstimate", "time_zero_from_direct_wave", "apply_time_zero", "depth_with_uncertainty"]
@@ -91,6 +92,15 @@ class DepthEstimate:
     sd_from_time_zero: np.ndarray
 
 
+@accepts_quantities(
+    twt_s="s",
+    velocity="m/s",
+    offset_m="m",
+    time_zero_s="s",
+    velocity_se="m/s",
+    twt_sd_s="s",
+    time_zero_sd_s="s",
+)
 def depth_with_uncertainty(twt_s, velocity, *, offset_m=0.0, time_zero_s=0.0, velocity_se=0.0,
                            twt_sd_s=0.0, time_zero_sd_s=0.0) -> DepthEstimate:
     """Depth in homogeneous ground with a first-order (linearised) standard deviation.

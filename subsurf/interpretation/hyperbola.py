@@ -14,6 +14,7 @@ import numpy as np
 from scipy import constants, optimize
 
 from ..errors import InputError, ModelRangeError, check_finite, check_nonnegative
+from ..quantities import accepts_quantities
 
 __all__ = ["HyperbolaFit", "hyperbola_twt", "fit_hyperbola", "HUBER_K"]
 
@@ -200,6 +201,7 @@ def _robust_covariance(jac, r, c):
     return scale2 * inv
 
 
+@accepts_quantities(x_m="m", twt_s="s", radius_m="m", offset_m="m", time_zero_s="s")
 def fit_hyperbola(x_m, twt_s, *, radius_m: float | None = 0.0, offset_m: float = 0.0,
                   time_zero_s: float = 0.0) -> HyperbolaFit:
     """Fit a diffraction hyperbola to picks by robust (Huber) least squares.
