@@ -14,7 +14,9 @@ import importlib
 from pathlib import Path
 
 __version__ = "0.1.0"
-__all__ = ["SubsurfError", "InputError", "ModelRangeWarning", "config_dir", "__version__"]
+__all__ = ["SubsurfError", "InputError", "ModelRangeWarning", "config_dir", "__version__",
+           "medium", "ground_properties", "target", "choose_antenna", "plan_survey", "time_to_depth",
+           "fit_hyperbola", "fit_cmp", "load_survey", "feasibility_maps", "write_report"]
 
 _SUBMODULES = {
     # layers, in the direction of the data flow
@@ -47,7 +49,25 @@ def config_dir() -> Path:
 _FROM_ERRORS = ("SubsurfError", "InputError", "ModelRangeWarning")
 
 
+#: the jobs as plain calls (documented in the README): name -> (module, attribute)
+_API = {
+    **{name: ("subsurf.api", name) for name in (
+        "medium", "ground_properties", "target", "choose_antenna", "plan_survey", "load_survey",
+        "feasibility_maps", "write_report")},
+    "time_to_depth": ("subsurf.interpretation.homogeneous", "depth_with_uncertainty"),
+    "fit_hyperbola": ("subsurf.interpretation.hyperbola", "fit_hyperbola"),
+    "fit_cmp": ("subsurf.interpretation.cmp", "fit_cmp"),
+}
+
+
+def __dir__():
+    return sorted(set(globals()) | set(_API) | set(_FROM_ERRORS) | _SUBMODULES)
+
+
 def __getattr__(name: str):
+    if name in _API:
+        module, attribute = _API[name]
+        return getattr(importlib.import_module(module), attribute)
     if name in _FROM_ERRORS:
         from . import errors
 
