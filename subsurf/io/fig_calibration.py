@@ -1,4 +1,4 @@
-"""Figure of a site calibration (matplotlib, Agg; imported inside the function).
+"""Figure of a site calibration, in the subsurf style (:mod:`subsurf.io.figstyle`: Agg canvas, no pyplot).
 
 Left: the trace-averaged envelope power (dB) against depth with its noise floor, the
 floor + margin, the fitted decay (spreading and attenuation) and the observed penetration.
@@ -12,30 +12,24 @@ from pathlib import Path
 
 import numpy as np
 
+from .figstyle import PALETTE, SIZES, new_figure, png_bytes, style_axes, styled
+
 __all__ = ["calibration_figure"]
 
-_DATA = "#1b4f72"
-_FIT = "#c0392b"
-_NOISE = "#7f8c8d"
-_PEN = "#27ae60"
+_DATA = PALETTE["accent"]
+_FIT = PALETTE["second"]
+_NOISE = PALETTE["muted"]
+_PEN = PALETTE["third"]
 
 
-def _pyplot():
-    import matplotlib
-
-    matplotlib.use("Agg", force=False)
-    import matplotlib.pyplot as plt
-
-    return plt
-
-
+@styled
 def calibration_figure(cal, path, *, title: str = "") -> Path:
     """Write a PNG of ``cal`` (:class:`subsurf.interpretation.site_calibration.SiteCalibration`)."""
     from ..interpretation.site_calibration import SPREADING_POWER
     from ..waves.propagation import depth_from_time
 
-    plt = _pyplot()
-    fig, (ax, bx) = plt.subplots(1, 2, figsize=(11.0, 5.0))
+    fig = new_figure(11.0, 5.0, layout="tight")
+    ax, bx = fig.subplots(1, 2)
     t0 = cal.time_zero.time_s
     tau = cal.twt_s - t0
     ok = tau > cal.separation_m / cal.velocity
@@ -60,9 +54,9 @@ def calibration_figure(cal, path, *, title: str = "") -> Path:
     ax.invert_yaxis()
     ax.set_xlabel("envelope power (dB, record units)")
     ax.set_ylabel(f"depth (m) at v = {cal.velocity * 1e-9:.4f} m/ns")
-    ax.grid(alpha=0.3)
-    ax.legend(fontsize=7, loc="lower left")
-    ax.set_title("envelope versus depth", fontsize=10)
+    style_axes(ax, minor_grid=False)
+    ax.legend(fontsize=SIZES["legend"], loc="lower left")
+    ax.set_title("envelope versus depth", fontsize=SIZES["title"])
     q = cal.q_star
     if q is not None and q.centroid_hz.size:
         bx.plot(q.window_twt_s * 1e9, q.centroid_hz / 1e6, "o", ms=4, color=_DATA, label="window centroid")
@@ -71,17 +65,15 @@ def calibration_figure(cal, path, *, title: str = "") -> Path:
         lab = (f"fit: Q* = {q.value:.3g} ± {q.se:.2g}" if q.value is not None else
                f"no downshift resolved (Q* > {q.lower_bound:.3g})" if q.lower_bound else "no downshift resolved")
         bx.plot(q.window_twt_s * 1e9, (q.fit.intercept + q.fit.slope * x) / 1e6, color=_FIT, lw=1.6, label=lab)
-        bx.legend(fontsize=8)
+        bx.legend(fontsize=SIZES["legend"])
     else:
         bx.text(0.5, 0.5, "too few windows above the noise for Q*", ha="center", va="center",
                 transform=bx.transAxes)
     bx.set_xlabel("two-way time after time zero (ns)")
     bx.set_ylabel("spectral centroid (MHz)")
-    bx.grid(alpha=0.3)
-    bx.set_title("centroid downshift (Quan & Harris 1997)", fontsize=10)
+    style_axes(bx, minor_grid=False)
+    bx.set_title("centroid downshift (Quan & Harris 1997)", fontsize=SIZES["title"])
     if title:
-        fig.suptitle(title, fontsize=10)
-    fig.tight_layout()
-    fig.savefig(path, dpi=120, format="png")
-    plt.close(fig)
+        fig.suptitle(title, fontsize=SIZES["suptitle"])
+    Path(path).write_bytes(png_bytes(fig))
     return Path(path)
