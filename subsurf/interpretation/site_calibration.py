@@ -127,7 +127,9 @@ def calibrate_profile(profile: TraceProfile, *, centre_freq_hz: float, separatio
     margin_db : float
         The observed penetration is where the trace-averaged envelope power falls to the
         noise floor plus this margin (dB).  The default 3 dB is where the signal power
-        equals the noise power (E|a|² = S² + 2σ², so floor + 3 dB ⇔ S² = 2σ²).
+        equals the noise power (E|a|² = S² + 2σ², so floor + 3 dB ⇔ S² = 2σ²).  Later
+        excursions above that level count only when they exceed it by twice the
+        smoothed curve's own fluctuation in the noise window (hysteresis).
     spreading : {"planar", "line", "point"}
         Geometric spreading corrected before the decay fit, power ∝ d^(−p), p = 2, 3, 4.
     fit_from_m : float or None
@@ -208,7 +210,10 @@ def calibrate_profile(profile: TraceProfile, *, centre_freq_hz: float, separatio
     k_smooth = max(1, int(round(2.0 * period / dt)))
     curve = smooth(mean_p, k_smooth)
     threshold = noise.power * 10.0 ** (margin_db / 10.0)
-    t_pen, lower = crossing_time(curve, t, threshold, start_s=t_start, stop_s=search_stop)
+    in_noise = (t >= noise.start_s) & (t < noise.stop_s)
+    fluctuation = float(np.std(curve[in_noise]))  # of the smoothed mean where there is only noise
+    t_pen, lower = crossing_time(curve, t, threshold, start_s=t_start, stop_s=search_stop,
+                                 significance=2.0 * fluctuation)
     if t_pen is None:
         raise InputError(f"the averaged envelope never rises {margin_db:g} dB above the noise floor "
                          f"({noise.db:.1f} dB) after the direct wave (from {t_start * 1e9:.4g} ns): no reflections "

@@ -276,27 +276,37 @@ def noise_floor(power, twt_s, *, window: Literal["late", "pre"], start_s: float,
     return NoiseFloor(floor, se, window, float(start_s), float(stop_s), m, float(slope * (tt[-1] - tt[0])))
 
 
-def crossing_time(curve, twt_s, threshold: float, *, start_s: float, stop_s: float):
+def crossing_time(curve, twt_s, threshold: float, *, start_s: float, stop_s: float, significance: float = 0.0):
     """Last time in [start_s, stop_s) where ``curve`` falls through ``threshold``.
+
+    Parameters
+    ----------
+    significance : float
+        Hysteresis: only samples above ``threshold + significance`` count as "above", so a
+        noise bump that barely touches the threshold beyond the true penetration does not
+        extend it; the crossing itself is still found at ``threshold`` (the first sample
+        below it after the last significant one).
 
     Returns
     -------
     (time_s, lower_bound) : (float or None, bool)
         Linear interpolation in log(curve) between the last sample above the threshold
-        and the next; None when the curve never exceeds it; ``lower_bound`` True when it
-        is still above at ``stop_s`` (then the time returned is ``stop_s``).
+        and the next; None when the curve never exceeds it significantly; ``lower_bound``
+        True when it is still above at ``stop_s`` (then the time returned is ``stop_s``).
     """
     c = np.asarray(curve, dtype=float)
     t = np.asarray(twt_s, dtype=float)
     idx = np.flatnonzero((t >= start_s) & (t < stop_s))
     if idx.size < 2:
         return None, False
-    above = c[idx] >= threshold
-    if not np.any(above):
+    strong = np.flatnonzero(c[idx] >= threshold + significance)
+    if strong.size == 0:
         return None, False
-    last = idx[np.flatnonzero(above)[-1]]
-    if last == idx[-1]:
-        return float(t[last]), True
+    after = idx[strong[-1]:]
+    below = np.flatnonzero(c[after] < threshold)
+    if below.size == 0:
+        return float(t[idx[-1]]), True
+    last = after[below[0]] - 1
     y0, y1 = np.log(c[last]), np.log(max(c[last + 1], 1e-300))
     frac = (y0 - np.log(threshold)) / (y0 - y1) if y0 != y1 else 0.0
     return float(t[last] + frac * (t[last + 1] - t[last])), False
