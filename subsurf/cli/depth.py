@@ -69,20 +69,7 @@ def _velocity_model(args, q):
         return "homogeneous", v, \
             q(args.velocity_se, "velocity", "m/ns", "--velocity-se"), "--velocity"
     if args.velocity_from:
-        import json
-        from pathlib import Path
-
-        p = Path(args.velocity_from)
-        try:
-            data = json.loads(p.read_text(encoding="utf-8"))
-            fit = data["fits"][0] if "fits" in data else data
-            v, se = float(fit["velocity_m_per_ns"]) * 1e9, float(fit["velocity_se_m_per_ns"]) * 1e9
-        except FileNotFoundError:
-            raise InputError(f"--velocity-from: file not found: {p}") from None
-        except (ValueError, KeyError, IndexError, TypeError):
-            raise InputError(f"--velocity-from: {p} is not a 'subsurf velocity' JSON result "
-                             "(needs velocity_m_per_ns and velocity_se_m_per_ns)") from None
-        return "homogeneous", v, se, str(p)
+        return _model_from_file(args.velocity_from)
     from ..interpretation.layers import LayeredEarth
 
     vel, se, thick = [], [], []
@@ -101,6 +88,62 @@ def _velocity_model(args, q):
                                    f"--layer {k + 1} velocity", parts[1]))
         se.append(q(parts[2], "velocity", "m/ns", f"--layer {k + 1} SE") if len(parts) == 3 else 0.0)
     return "layered", LayeredEarth.from_thicknesses(vel, thick, velocity_se=se), None, "--layer"
+
+
+def _model_from_file(name):
+    """The velocity model of a 'subsurf velocity --out-json' file: its layered model when it has one."""
+    import json
+    from pathlib import Path
+
+    import numpy as np
+
+    from ..errors import InputError, SubsurfError
+    from ..interpretation.layers import LayeredEarth
+
+    p = Path(name)
+    try:
+        data = json.loads(p.read_text(encoding="utf-8"))
+    except FileNotFoundError:
+        raise InputError(f"--velocity-from: file not found: {p}") from None
+    except (ValueError, UnicodeDecodeError, IsADirectoryError):
+        raise InputError(f"--velocity-from: {p} is not a JSON file written by 'subsurf velocity --out-json'") \
+            from None
+    if not isinstance(data, dict):
+        raise InputError(f"--velocity-from: {p} is not a 'subsurf velocity' JSON result")
+    if "layered_model" in data:
+        m = data["layered_model"]
+        try:
+            v = np.asarray(m["velocity_m_per_ns"], dtype=float) * 1e9
+            h = np.asarray(m["thickness_m"], dtype=float)
+            n = v.size
+            cov = np.asarray(m["covariance"], dtype=float)
+            scale = np.concatenate([np.full(n, 1e9), np.ones(n)])
+            cov = cov * np.outer(scale, scale)
+            keep = list(range(2 * n - 1))  # the deepest layer continues as the half-space
+            earth = LayeredEarth.from_thicknesses(v, h[:-1], covariance=cov[np.ix_(keep, keep)])
+        except (KeyError, TypeError, ValueError, IndexError):
+            raise InputError(f"--velocity-from: {p}, key 'layered_model': expected velocity_m_per_ns, thickness_m "
+                             "and covariance of the same layers (as 'subsurf velocity' writes them)") from None
+        except SubsurfError as exc:
+            raise InputError(f"--velocity-from: {p}, key 'layered_model': {exc}") from None
+        names = m.get("reflectors") or [str(i + 1) for i in range(n)]
+        return "layered", earth, None, (f"{p}: layered model of {n} layers above reflectors {', '.join(names)} "
+                                        "(joint ray-traced CMP fit, with its covariance)")
+    fits = data.get("fits") if "fits" in data else [data]
+    if data.get("method") == "cmp" and isinstance(fits, list) and len(fits) > 1:
+        raise InputError(f"--velocity-from: {p} holds {len(fits)} CMP reflectors but no 'layered_model'; "
+                         "re-run 'subsurf velocity --out-json' to write the interval model (the first "
+                         "reflector's velocity is not the velocity below it)")
+    try:
+        fit = fits[0]
+        v, se = float(fit["velocity_m_per_ns"]) * 1e9, float(fit["velocity_se_m_per_ns"]) * 1e9
+    except (ValueError, KeyError, IndexError, TypeError, AttributeError):
+        raise InputError(f"--velocity-from: {p} is not a 'subsurf velocity' JSON result "
+                         "(needs fits with velocity_m_per_ns and velocity_se_m_per_ns)") from None
+    which = f", fit '{fit['target']}'" if isinstance(fit, dict) and "target" in fit else ""
+    if len(fits) > 1:
+        which += f" (the first of {len(fits)} fits)"
+    return "homogeneous", _check_velocity(v, "--velocity-from", f"{v * 1e-9:g} m/ns"), se, f"{p}{which}"
 
 
 def run(args) -> int:
@@ -191,8 +234,8 @@ def run(args) -> int:
         mc = layers.layered_depth_monte_carlo(twt, model, offset_m=offset, time_zero_s=tz, twt_sd_s=sd,
                                               time_zero_sd_s=tz_sd, draws=args.draws, seed=args.seed)
         depth, depth_sd = est.depth, est.depth_sd
-        velocity_text = "layered: " + "; ".join(
-            (f"{h:g} m" if i < model.thickness.size else "half-space") + f" at {v * 1e-9:.4g} ± {s * 1e-9:.2g} m/ns"
+        velocity_text = ("" if v_source == "--layer" else v_source + ": ") + "layered: " + "; ".join(
+            (f"{h:.4g} m" if i < model.thickness.size else "half-space") + f" at {v * 1e-9:.4g} ± {s * 1e-9:.2g} m/ns"
             for i, (v, s, h) in enumerate(zip(model.velocity, model.velocity_se,
                                               list(model.thickness) + [math.inf])))
 
@@ -247,7 +290,9 @@ def run(args) -> int:
 
     inputs = {"velocity": velocity_text, "offset_m": offset, "time_zero_ns": tz * 1e9, "time_zero_source": tz_source,
               "time_zero_sd_ns": tz_sd * 1e9, "pick_sd_default_ns": pick_sd_default * 1e9,
-              "uncertainty": "first order (linearised), independent inputs"
+              "uncertainty": "first order (linearised), "
+              + ("layer parameters with their covariance, pick and time zero independent"
+                 if mode == "layered" and model.covariance is not None else "independent inputs")
               + (f"; Monte Carlo {mc.draws} draws, seed {mc.seed}, {mc.rejected} rejected" if mc else "")}
     if out_crs is not None:
         inputs["crs"] = out_crs.to_string()

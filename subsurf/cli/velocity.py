@@ -53,10 +53,54 @@ def _calibration(args, q):
             "depth_m": d, "twt_ns": t * 1e9, "n_picks": 1}
 
 
+def _layered_model(fits, cmp_picks, source):
+    """Joint ray-traced fit of every CMP reflector: the interval model written to JSON, and warnings."""
+    import numpy as np
+
+    from ..errors import SubsurfError
+    from ..interpretation.layered_cmp import HYPERBOLIC_SPREAD_LIMIT, fit_flags, fit_layered_cmp
+
+    order = sorted(range(len(fits)), key=lambda i: fits[i]["t0_ns"])
+    try:
+        lf = fit_layered_cmp([cmp_picks[i][0] for i in order], [cmp_picks[i][1] for i in order])
+    except SubsurfError as exc:
+        raise type(exc)(f"{source}: layered model of the reflectors: {exc}") from None
+    names = [fits[i]["target"] for i in order]
+    n = len(names)
+    warnings = []
+    for k, i in enumerate(order):
+        rec = fits[i]
+        rec.update({"depth_m": float(lf.reflector_depth[k]), "depth_se_m": float(lf.reflector_depth_se[k]),
+                    "depth_method": "layered model (ray-traced fit of all reflectors)",
+                    "spread_to_depth": float(lf.spread_ratio[k])})
+        if k > 0 and lf.spread_ratio[k] > HYPERBOLIC_SPREAD_LIMIT:
+            warnings.append(
+                f"{rec['target']}: spread/depth = {lf.spread_ratio[k]:.2f} exceeds {HYPERBOLIC_SPREAD_LIMIT:g}, "
+                "beyond which the t²–x² (hyperbolic) fit below other layers is biased (Yilmaz 2001, Seismic Data "
+                f"Analysis §3.1; common practice): its v_rms and the Dix depth {lf.dix_depth[k]:.3f} m are biased; "
+                f"the layered model gives {lf.reflector_depth[k]:.3f} ± {lf.reflector_depth_se[k]:.3f} m")
+    pnames = [f"v({m})" for m in names] + [f"thickness({m})" for m in names]
+    model = {
+        "kind": "layered", "method": "joint least-squares fit of all reflectors with ray-traced (Snell) times",
+        "reflectors": names,
+        "velocity_m_per_ns": (lf.velocity * 1e-9).tolist(), "velocity_se_m_per_ns": (lf.velocity_se * 1e-9).tolist(),
+        "thickness_m": lf.thickness.tolist(), "thickness_se_m": lf.thickness_se.tolist(),
+        "reflector_depth_m": lf.reflector_depth.tolist(), "reflector_depth_se_m": lf.reflector_depth_se.tolist(),
+        "parameters": pnames,
+        "covariance": (lf.covariance * np.outer(*(2 * [np.concatenate([np.full(n, 1e-9), np.ones(n)])]))).tolist(),
+        "covariance_units": "m/ns for velocities, m for thicknesses",
+        "below_deepest_reflector": "the deepest layer's velocity continues as a half-space",
+        "rms_ns": lf.rms_s * 1e9, "n_picks": lf.n_picks,
+        "flags": fit_flags(pnames, np.concatenate([lf.velocity, lf.thickness]), lf.covariance),
+    }
+    return model, warnings
+
+
 def run(args) -> int:
     import numpy as np
 
     from ..errors import InputError
+    from ..interpretation.layered_cmp import fit_flags
     from ..interpretation.velocity import dix_interval_velocities, fit_cmp, fit_hyperbola
     from ..io import picks
     from ..io.outputs import CAUTION, Column, atomic_path, check_outputs_free, format_table, print_result
@@ -70,7 +114,7 @@ def run(args) -> int:
     calib = args.known_depth is not None or args.twt is not None
     if calib == bool(args.picks):
         raise InputError("give either --picks CSV, or --known-depth with --twt for a calibration target")
-    fits, panels, dix = [], [], None
+    fits, panels, dix, layered, warnings = [], [], None, None, []
     if calib:
         if args.known_depth is None or args.twt is None:
             raise InputError("a calibration target needs both --known-depth and --twt")
@@ -103,6 +147,7 @@ def run(args) -> int:
             if unknown:
                 raise InputError(f"--target {unknown[0]!r} is not in {args.picks} (targets: {', '.join(order)})")
             order = [t for t in order if t in args.target]
+        cmp_picks = []
         for tid in order:
             sel = np.array([i == tid for i in ids])
             rows = table.rows[sel]
@@ -132,13 +177,18 @@ def run(args) -> int:
                             "radius_fitted": f.radius_fitted, "offset_m": offset, "time_zero_ns": tz * 1e9,
                             "downweighted": [{"row": int(rows[i]), "weight": float(f.weights[i]),
                                               "residual_ns": float(f.residuals_s[i] * 1e9)} for i in f.downweighted]})
+                rec["flags"] = fit_flags(list(f.parameters), [getattr(f, n) for n in f.parameters], f.covariance,
+                                         positions=("x0",))
                 curve = (f.twt(cx) + tz) * 1e9
                 label = (f"{tid}: v = {f.velocity * 1e-9:.4f} ± {f.velocity_se * 1e-9:.4f} m/ns, "
                          f"depth {f.depth:.3f} ± {f.depth_se:.3f} m")
                 weight = f.weights
             else:
                 rec.update({"t0_ns": f.t0 * 1e9, "t0_se_ns": f.t0_se * 1e9, "depth_m": f.depth,
-                            "depth_se_m": f.depth_se, "time_zero_ns": tz * 1e9})
+                            "depth_se_m": f.depth_se, "depth_method": "v_rms·t0/2 (homogeneous ground above)",
+                            "time_zero_ns": tz * 1e9, "max_offset_m": float(xs.max()),
+                            "flags": fit_flags(["velocity", "t0"], [f.velocity, f.t0], f.covariance)})
+                cmp_picks.append((table.offset_m[sel], table.twt_s[sel] - tz))
                 curve = (f.twt(cx) + tz) * 1e9
                 label = f"{tid}: v_rms = {f.velocity * 1e-9:.4f} ± {f.velocity_se * 1e-9:.4f} m/ns, t0 {f.t0 * 1e9:.2f} ns"
                 weight = np.ones(f.n_picks)
@@ -155,6 +205,8 @@ def run(args) -> int:
                     "interval_velocity_se_m_per_ns": float(s) * 1e-9, "thickness_m": float(h),
                     "thickness_se_m": float(hs)}
                    for r, v, s, h, hs in zip(srt, iv.velocity, iv.velocity_se, iv.thickness, iv.thickness_se)]
+            layered, more = _layered_model(fits, cmp_picks, args.picks)
+            warnings += more
 
     written = []
     if args.figure:
@@ -166,6 +218,10 @@ def run(args) -> int:
     payload = {"caution": CAUTION, "method": method, "fits": fits}
     if dix:
         payload["interval_velocities"] = dix
+    if layered:
+        payload["layered_model"] = layered
+    if warnings:
+        payload["warnings"] = warnings
     if args.out_csv:
         keys = ["target", "method", "velocity_m_per_ns", "velocity_se_m_per_ns", "permittivity", "x0_m", "x0_se_m",
                 "t0_ns", "t0_se_ns", "depth_m", "depth_se_m", "radius_m", "radius_se_m", "rms_ns", "n_picks"]
@@ -205,13 +261,25 @@ def run(args) -> int:
                             f"(residual {d['residual_ns']:+.2f} ns) - check this pick")
         if r.get("radius_fitted"):
             text.append(f"  {r['target']}: radius fitted {r['radius_m']:.3f} ± {r['radius_se_m']:.3f} m")
-    if dix:
-        text += ["", format_table(dix, [Column("reflector", "layer above"),
-                                        Column("interval_velocity_m_per_ns", "interval v", "m/ns", ".4f"),
-                                        Column("interval_velocity_se_m_per_ns", "± se", "m/ns", ".4f"),
-                                        Column("thickness_m", "thickness", "m", ".3f"),
-                                        Column("thickness_se_m", "± se", "m", ".3f")],
-                                  title="Interval velocities (Dix)")]
+        for flag in r.get("flags", []):
+            text.append(f"  {r['target']}: {flag}")
+    if layered:
+        rows_l = [{"layer": f"above {name}", "v": v, "vse": vs, "h": h, "hse": hs, "z": z, "zse": zs}
+                  for name, v, vs, h, hs, z, zs in zip(layered["reflectors"], layered["velocity_m_per_ns"],
+                                                       layered["velocity_se_m_per_ns"], layered["thickness_m"],
+                                                       layered["thickness_se_m"], layered["reflector_depth_m"],
+                                                       layered["reflector_depth_se_m"])]
+        text += ["", format_table(rows_l, [Column("layer", "layer"), Column("v", "interval v", "m/ns", ".4f"),
+                                           Column("vse", "± se", "m/ns", ".4f"), Column("h", "thickness", "m", ".3f"),
+                                           Column("hse", "± se", "m", ".3f"), Column("z", "reflector depth", "m", ".3f"),
+                                           Column("zse", "± se", "m", ".3f")],
+                                  title="Layered model (all reflectors fitted with ray-traced times, Snell's law)"),
+                 "  depths in the CMP table above are from this model; for comparison the Dix (t²–x²) "
+                 "thicknesses are " + ", ".join(f"{d['thickness_m']:.3f}" for d in dix) + " m"]
+        for flag in layered["flags"]:
+            text.append(f"  layered model: {flag}")
+    for w in warnings:
+        text.append(f"WARNING: {w}")
     text.append("standard errors: fit covariance scaled by the picks' own residuals"
                 if not calib else "standard error: first order from the depth, pick and time-zero uncertainties")
     if written:

@@ -49,16 +49,26 @@ class LayeredEarth:
         Thickness of each layer but the last, m.
     velocity_se, thickness_se : ndarray
         Standard errors (0 if unknown).
+    covariance : ndarray, shape (2n − 1, 2n − 1), optional
+        Full covariance of (velocity..., thickness...) in SI, e.g. from a joint fit
+        (:func:`subsurf.interpretation.layered_cmp.fit_layered_cmp`); when given it is
+        used instead of the independent standard errors.
     """
 
     velocity: np.ndarray
     thickness: np.ndarray
     velocity_se: np.ndarray
     thickness_se: np.ndarray
+    covariance: np.ndarray | None = None
 
     @classmethod
-    def from_thicknesses(cls, velocity, thickness, *, velocity_se=0.0, thickness_se=0.0) -> LayeredEarth:
-        """Layers from interval velocities (n) and thicknesses of all but the last (n − 1)."""
+    def from_thicknesses(cls, velocity, thickness, *, velocity_se=0.0, thickness_se=0.0,
+                         covariance=None) -> LayeredEarth:
+        """Layers from interval velocities (n) and thicknesses of all but the last (n − 1).
+
+        ``covariance`` (optional): full covariance of (velocity..., thickness...), SI, shape
+        (2n − 1, 2n − 1), symmetric positive semi-definite; its diagonal sets the standard errors.
+        """
         v = np.atleast_1d(check_positive("velocity", velocity, unit="m/s")).astype(float)
         h = np.atleast_1d(check_positive("thickness", thickness, unit="m")).astype(float) if np.size(thickness) \
             else np.zeros(0)
@@ -69,7 +79,19 @@ class LayeredEarth:
             raise InputError(f"velocity must be <= c = {_C:.6g} m/s, got {float(v.max()):.6g}")
         vse = np.broadcast_to(check_nonnegative("velocity_se", velocity_se, unit="m/s"), v.shape).astype(float)
         hse = np.broadcast_to(check_nonnegative("thickness_se", thickness_se, unit="m"), h.shape).astype(float)
-        return cls(velocity=v, thickness=h, velocity_se=vse, thickness_se=hse)
+        cov = None
+        if covariance is not None:
+            cov = check_finite("covariance", covariance).astype(float)
+            m = v.size + h.size
+            if cov.shape != (m, m):
+                raise InputError(f"covariance must have shape ({m}, {m}) for {v.size} velocities and {h.size} "
+                                 f"thicknesses, got {cov.shape}")
+            if not np.allclose(cov, cov.T, rtol=1e-8, atol=0.0) or np.min(np.linalg.eigvalsh(cov)) < \
+                    -1e-9 * max(float(np.max(np.abs(np.diag(cov)))), 1e-300):
+                raise InputError("covariance must be symmetric positive semi-definite")
+            se = np.sqrt(np.clip(np.diag(cov), 0.0, None))
+            vse, hse = se[: v.size], se[v.size:]
+        return cls(velocity=v, thickness=h, velocity_se=vse, thickness_se=hse, covariance=cov)
 
     @classmethod
     def from_interfaces(cls, velocity, interface_depth, *, velocity_se=0.0, interface_se=0.0) -> LayeredEarth:
@@ -187,13 +209,16 @@ def layered_depth_first_order(twt_s, earth: LayeredEarth, *, offset_m=0.0, time_
 
     Partial derivatives of depth with respect to each velocity, thickness, the pick and
     time zero are taken by central differences of :func:`layered_depth_from_time`;
-    inputs are independent: σ_d² = Σ (∂d/∂qᵢ · σᵢ)².
+    inputs are independent: σ_d² = Σ (∂d/∂qᵢ · σᵢ)², or with the earth's full covariance C
+    of the layer parameters σ_d² = gᵀCg + (∂d/∂t)²(σ_t² + σ_tz²), g = ∂d/∂(v, h).
     """
     d = layered_depth_from_time(twt_s, earth, offset_m=offset_m, time_zero_s=time_zero_s)
     st = check_nonnegative("twt_sd_s", twt_sd_s, unit="s")
     stz = check_nonnegative("time_zero_sd_s", time_zero_sd_s, unit="s")
     var_v = np.zeros(d.shape)
-    for i in range(earth.velocity.size):
+    if earth.covariance is not None:
+        var_v = _model_variance_full(twt_s, earth, offset_m=offset_m, time_zero_s=time_zero_s)
+    for i in range(earth.velocity.size if earth.covariance is None else 0):
         if earth.velocity_se[i] == 0:
             continue
         step = 1e-6 * earth.velocity[i]
@@ -205,7 +230,7 @@ def layered_depth_first_order(twt_s, earth: LayeredEarth, *, offset_m=0.0, time_
         dd = layered_depth_from_time(twt_s, LayeredEarth(dn, earth.thickness, earth.velocity_se, earth.thickness_se),
                                      offset_m=offset_m, time_zero_s=time_zero_s)
         var_v += ((du - dd) / (2 * step) * earth.velocity_se[i]) ** 2
-    for i in range(earth.thickness.size):
+    for i in range(earth.thickness.size if earth.covariance is None else 0):
         if earth.thickness_se[i] == 0:
             continue
         step = 1e-6 * earth.thickness[i]
@@ -231,6 +256,25 @@ def layered_depth_first_order(twt_s, earth: LayeredEarth, *, offset_m=0.0, time_
                          sd_from_pick=sd_pick, sd_from_time_zero=sd_tz)
 
 
+def _model_variance_full(twt_s, earth: LayeredEarth, *, offset_m, time_zero_s):
+    """gᵀCg per pick, g the central-difference gradient of depth in (velocity..., thickness...)."""
+    params = np.concatenate([earth.velocity, earth.thickness])
+    nv = earth.velocity.size
+    grads = []
+    for i in range(params.size):
+        step = 1e-6 * params[i]
+        out = []
+        for sign in (1.0, -1.0):
+            q = params.copy()
+            q[i] += sign * step
+            e = LayeredEarth(q[:nv], q[nv:], earth.velocity_se, earth.thickness_se)
+            out.append(layered_depth_from_time(twt_s, e, offset_m=offset_m, time_zero_s=time_zero_s))
+        grads.append((out[0] - out[1]) / (2 * step))
+    g = np.stack([np.ravel(a) for a in grads], axis=-1)  # (n_picks, n_params)
+    var = np.einsum("ki,ij,kj->k", g, earth.covariance, g)
+    return np.clip(var, 0.0, None).reshape(np.shape(grads[0]))
+
+
 @dataclass(frozen=True)
 class MonteCarloDepth:
     """Monte Carlo depth statistics (m) with the draw count and seed used."""
@@ -250,7 +294,7 @@ def layered_depth_monte_carlo(twt_s, earth: LayeredEarth, *, offset_m=0.0, time_
     """Depth uncertainty in a layered earth by Monte Carlo.
 
     Each draw takes every velocity and thickness from a normal distribution about its
-    value with its standard error, one time zero for all picks (it is common to the
+    value with its standard error (jointly normal with the earth's covariance when it has one), one time zero for all picks (it is common to the
     record) and an independent pick error per pick; the depth of each pick is computed
     for every draw.  Draws with a non-physical layer (velocity ≤ 0 or > c, thickness
     ≤ 0) or no real depth are rejected and counted.
@@ -271,8 +315,13 @@ def layered_depth_monte_carlo(twt_s, earth: LayeredEarth, *, offset_m=0.0, time_
     stz = float(check_nonnegative("time_zero_sd_s", time_zero_sd_s, unit="s"))
     tz = float(check_finite("time_zero_s", time_zero_s))
     rng = np.random.default_rng(seed)
-    v = rng.normal(earth.velocity, earth.velocity_se, (draws, earth.velocity.size))
-    h = rng.normal(earth.thickness, earth.thickness_se, (draws, earth.thickness.size))
+    if earth.covariance is None:
+        v = rng.normal(earth.velocity, earth.velocity_se, (draws, earth.velocity.size))
+        h = rng.normal(earth.thickness, earth.thickness_se, (draws, earth.thickness.size))
+    else:  # correlated layer parameters, e.g. from a joint CMP fit
+        both = rng.multivariate_normal(np.concatenate([earth.velocity, earth.thickness]), earth.covariance,
+                                       draws, method="eigh")
+        v, h = both[:, : earth.velocity.size], both[:, earth.velocity.size:]
     tzd = rng.normal(tz, stz, draws)
     td = rng.normal(t, st, (draws, t.size))
     ok = np.all((v > 0) & (v <= _C), axis=1) & np.all(h > 0, axis=1)

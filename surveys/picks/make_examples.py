@@ -8,7 +8,8 @@ from pathlib import Path
 
 import numpy as np
 
-from subsurf.interpretation.velocity import cmp_twt, hyperbola_twt
+from subsurf.interpretation.layers import LayeredEarth, layered_time_from_depth
+from subsurf.interpretation.velocity import hyperbola_twt
 
 HERE = Path(__file__).resolve().parent
 rng = np.random.default_rng(20240607)
@@ -35,15 +36,17 @@ def hyperbolas():
 def cmp():
     out = [NOTE, "# common-midpoint gather at L2 25.0 m; times corrected to time zero\n",
            "line,target,offset_m,twt_ns\n"]
-    # reflector R1: interval 0.11 m/ns over 0.60 m; R2: 0.08 m/ns over the next 1.00 m
+    # reflector R1: interval 0.11 m/ns over 0.60 m; R2: 0.08 m/ns over the next 1.00 m.  Times of
+    # R2 by ray tracing through both layers (Snell's law), not the hyperbola of an RMS velocity
     t1, t2 = 2 * 0.60 / 0.11e9, 2 * 1.00 / 0.08e9
-    v_rms2 = np.sqrt((0.11e9**2 * t1 + 0.08e9**2 * t2) / (t1 + t2))
     x = np.round(np.arange(0.2, 3.01, 0.2), 2)
-    for name, t0, v in (("R1", t1, 0.11e9), ("R2", t1 + t2, v_rms2)):
-        t = cmp_twt(x, v, t0) * 1e9 + rng.normal(0, 0.2, x.size)
+    earth = LayeredEarth.from_thicknesses([0.11e9, 0.08e9], [0.60])
+    for name, depth in (("R1", 0.60), ("R2", 1.60)):
+        t = layered_time_from_depth(np.full(x.shape, depth), earth, offset_m=x) * 1e9 + rng.normal(0, 0.2, x.size)
         out += [f"L2,{name},{xi:.2f},{ti:.2f}\n" for xi, ti in zip(x, t)]
     (HERE / "fictional_cmp.csv").write_text("".join(out))
-    print(f"cmp: R1 t0 {t1 * 1e9:.2f} ns v 0.110 m/ns; R2 t0 {(t1 + t2) * 1e9:.2f} ns v_rms {v_rms2 * 1e-9:.4f} m/ns")
+    print(f"cmp: R1 t0 {t1 * 1e9:.2f} ns, 0.110 m/ns over 0.60 m; R2 t0 {(t1 + t2) * 1e9:.2f} ns, "
+          "0.080 m/ns over the next 1.00 m (bottom at 1.60 m)")
 
 
 def utility():

@@ -146,3 +146,65 @@ def test_velocity_radius_typo_mentions_fit():
     assert p.returncode == 1
     assert len(p.stderr.strip().splitlines()) == 1
     assert "--radius" in p.stderr and "'fit'" in p.stderr
+
+
+def _two_layer_cmp_csv(path):
+    """A CMP gather over 4.5 m at 0.13 m/ns on 3 m at 0.065 m/ns (invented), times by exact Snell ray tracing."""
+    import numpy as np
+
+    sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "interpretation"))
+    from snell import snell_twt
+
+    rng = np.random.default_rng(13)
+    x = np.linspace(0.5, 10.0, 20)
+    lines = ["# invented two-layer CMP gather (exact ray tracing, 0.2 ns scatter)", "line,target,offset_m,twt_ns"]
+    for name, v, h in (("top", [0.13e9], [4.5]), ("bedrock", [0.13e9, 0.065e9], [4.5, 3.0])):
+        t = snell_twt(x, v, h) + rng.normal(0, 0.2e-9, x.size)
+        lines += [f"L1,{name},{xi:.2f},{ti * 1e9:.3f}" for xi, ti in zip(x, t)]
+    path.write_text("\n".join(lines) + "\n")
+    return 2 * (4.5 / 0.13e9 + 3.0 / 0.065e9)  # zero-offset time of the bedrock, s
+
+
+def test_cmp_layered_model_feeds_depth(tmp_path):
+    """velocity writes the interval model; depth --velocity-from uses it: bedrock within 3 % of 7.5 m, bar covers it."""
+    t0 = _two_layer_cmp_csv(tmp_path / "cmp.csv")
+    r = _run("velocity", "--picks", "cmp.csv", "--out-json", "fit.json", cwd=tmp_path)
+    assert r.returncode == 0, r.stderr
+    assert "WARNING: bedrock: spread/depth = 1.3" in r.stdout and "Yilmaz 2001" in r.stdout
+    fit = json.loads((tmp_path / "fit.json").read_text())
+    model = fit["layered_model"]
+    assert model["reflectors"] == ["top", "bedrock"] and len(model["covariance"]) == 4
+    bed = [f for f in fit["fits"] if f["target"] == "bedrock"][0]
+    assert abs(bed["depth_m"] - 7.5) < 0.03 * 7.5 and abs(bed["depth_m"] - 7.5) < 3 * bed["depth_se_m"]
+    d = _run("depth", "--velocity-from", "fit.json", "--twt", f"{t0 * 1e9:.4f}", "--json", cwd=tmp_path)
+    assert d.returncode == 0, d.stderr
+    out = json.loads(d.stdout)
+    pick = out["picks"][0]
+    assert abs(pick["depth_m"] - 7.5) < 0.03 * 7.5
+    assert abs(pick["depth_m"] - 7.5) < 3 * pick["depth_sd_m"]  # one seeded draw: 3-sd bar
+    assert "layered model of 2 layers" in out["inputs"]["velocity"] and "covariance" in out["inputs"]["uncertainty"]
+
+
+def test_velocity_from_multi_cmp_without_model_refused(tmp_path):
+    """A CMP result with several reflectors but no layered_model is refused in one line (exit 1)."""
+    (tmp_path / "old.json").write_text(json.dumps({"method": "cmp", "fits": [
+        {"target": "a", "velocity_m_per_ns": 0.1, "velocity_se_m_per_ns": 0.001},
+        {"target": "b", "velocity_m_per_ns": 0.09, "velocity_se_m_per_ns": 0.001}]}))
+    r = _run("depth", "--velocity-from", "old.json", "--twt", "30", cwd=tmp_path)
+    assert r.returncode == 1 and r.stderr.count("\n") == 1
+    assert "no 'layered_model'" in r.stderr and "old.json" in r.stderr
+
+
+def test_fitted_radius_flag_shown(tmp_path):
+    """velocity --radius fit on point-like picks prints that the radius is poorly constrained."""
+    import numpy as np
+
+    rng = np.random.default_rng(7)
+    x = np.linspace(-1.0, 1.0, 21) + 5.0
+    t = 2 * np.hypot(x - 5.0, 0.8) / 0.1 + rng.normal(0, 0.2, x.size)  # ns, m/ns
+    rows = ["line,target,distance_m,twt_ns"] + [f"L1,P1,{a:.3f},{b:.3f}" for a, b in zip(x, t)]
+    (tmp_path / "h.csv").write_text("\n".join(rows) + "\n")
+    r = _run("velocity", "--picks", "h.csv", "--radius", "fit", "--json", cwd=tmp_path)
+    assert r.returncode == 0, r.stderr
+    flags = json.loads(r.stdout)["fits"][0]["flags"]
+    assert any(f.startswith("radius poorly constrained") for f in flags)
