@@ -14,7 +14,7 @@ from scipy.optimize import brentq
 
 from subsurf import SubsurfError
 from subsurf.errors import LowLossApproximationWarning
-from subsurf.waves.propagation import (
+from subsurf.propagation import (
     NP_TO_DB,
     depth_from_time,
     low_loss_attenuation,
