@@ -5,8 +5,8 @@ Run:  python benchmarks/bench_map.py [--cells 40000] [--loop-cells 150]
 The vectorised path is subsurf.feasibility.evaluate (the whole chain: soil -> eps,
 sigma -> wave properties -> maximum depth, margin, resolution) on a random soil grid.
 The reference is the straightforward loop a first version would write: for every cell
-and antenna, build a scalar Soil, get (eps, sigma), and solve L(d) = P for the maximum
-depth with scipy.optimize.brentq.  The loop runs on a subset of cells and its rate is
+and antenna, build a scalar Soil, get (eps, sigma) at the antenna's band frequencies, build
+the band loss terms and solve L(d) = P for the maximum depth with scipy.optimize.brentq.  The loop runs on a subset of cells and its rate is
 extrapolated (it is linear in the number of cells).  Both sides are checked to agree.
 """
 
@@ -20,7 +20,7 @@ import time
 import numpy as np
 from scipy.optimize import brentq
 
-from subsurf.detection import budget as detection
+import subsurf.detection as detection
 from subsurf.ground import Soil
 from subsurf.planning.antennas import get_antenna, make_target
 from subsurf.site.feasibility import evaluate
@@ -55,11 +55,12 @@ def main():
         soil = Soil(moisture=float(flat["moisture"][i]), pore_water_ec25=float(flat["pore_water_ec"][i]),
                     temp_c=float(flat["temperature"][i]), texture="loamy_sand")
         for k, a in enumerate(ants):
-            eps, sig = soil.electrical(a.centre_freq_hz)
+            fb, wb = detection.band_nodes(a.centre_freq_hz, a.bandwidth_hz)
+            eps, sig = soil.electrical(fb)
+            terms = detection.loss_terms(eps, sig, fb, target, weights=wb, separation_m=a.separation_m)
 
-            def f(d, eps=eps, sig=sig, a=a):
-                return float(detection.two_way_loss_db(d, eps, sig, a.centre_freq_hz, target, gain=a.gain)) \
-                    - a.effective_performance_db
+            def f(d, terms=terms, a=a):
+                return float(detection.two_way_loss_db(d, terms=terms)) - a.effective_performance_db
 
             d = brentq(f, 1e-4, 200.0, xtol=1e-9) if f(1e-4) < 0 else 0.0
             worst = max(worst, abs(d - out["max_depth"][k].ravel()[i]) / max(d, 1e-9))

@@ -21,14 +21,25 @@ def add_target_arguments(parser, *, depth_required: bool) -> None:
                         "concrete, rock, water_table (default: metal for point/line, water_table for planar)")
     g.add_argument("--target-eps", metavar="EPS", help="target relative permittivity instead of --material")
     g.add_argument("--target-sigma", metavar="Q", help="target conductivity with --target-eps (bare number: mS/m)")
+    g.add_argument("--orientation", metavar="WORD",
+                   help="line target: antenna dipoles parallel to the pipe (default; lines cross it at right "
+                        "angles), perpendicular to it, or unknown (the weaker return of the two)")
+    ground = parser.add_argument_group("surface layers")
+    ground.add_argument("--over", action="append", metavar="LAYER",
+                        help="a surface layer over the ground, top first, repeatable: 'THICKNESS MATERIAL' "
+                             "(e.g. '0.08 m asphalt', '0.2 m fill', '15 cm topsoil') or 'THICKNESS eps=E sigma=S' "
+                             "(S in mS/m); the ground flags describe the ground below the layers")
     parser.add_argument("--catalogue", metavar="FILE", help="antenna catalogue TOML (default: the bundled "
                         "illustrative configs/antennas.toml)")
-    parser.add_argument("--surface-loss", metavar="DB", help="two-way air-ground transmission loss in dB "
-                        "(default: from the air-ground contrast; 0 leaves it out)")
+    parser.add_argument("--surface-loss", metavar="DB", help="extra two-way loss at the surface in dB, e.g. for "
+                        "an air gap or a rough surface (default 0; the antenna-ground coupling is computed from "
+                        "the ground)")
 
 
 def target_from_args(args, *, depth_m):
     """Build the Target of the flags (None when --target is not given)."""
+    from dataclasses import replace
+
     from ..errors import InputError
     from ..planning.antennas import make_target
     from ..units import parse_quantity
@@ -48,6 +59,7 @@ def target_from_args(args, *, depth_m):
             raise InputError(f"--size must be > 0 m, got {args.size!r}")
     elif args.target != "planar":
         raise InputError(f"a {args.target} target needs --size (its diameter, e.g. '20 cm')")
+    orientation = parse_orientation(getattr(args, "orientation", None), kind=args.target)
     if args.target_eps is not None:
         if args.material:
             raise InputError("give either --material or --target-eps, not both")
@@ -57,9 +69,32 @@ def target_from_args(args, *, depth_m):
             raise InputError(f"--target-eps: cannot read {args.target_eps!r} as a number") from None
         sigma = 0.0 if args.target_sigma is None else parse_quantity(
             args.target_sigma, "conductivity", default_unit="mS/m", name="--target-sigma")
-        return make_target(args.target, depth_m=depth_m, size_m=size, eps=eps, sigma=sigma)
+        return replace(make_target(args.target, depth_m=depth_m, size_m=size, eps=eps, sigma=sigma),
+                       orientation=orientation)
     material = args.material or ("water_table" if args.target == "planar" else "metal")
-    return make_target(args.target, depth_m=depth_m, size_m=size, material=material)
+    return replace(make_target(args.target, depth_m=depth_m, size_m=size, material=material), orientation=orientation)
+
+
+def parse_orientation(text, *, kind):
+    """--orientation word → Target.orientation (exit-1 error naming the allowed words)."""
+    from ..detection.targets import ORIENTATIONS
+    from ..errors import InputError
+
+    if text is None:
+        return "parallel"
+    word = str(text).strip().lower()
+    if word not in ORIENTATIONS:
+        raise InputError(f"--orientation must be one of {', '.join(ORIENTATIONS)}, got {text!r}")
+    if kind != "line":
+        raise InputError("--orientation applies to line targets (--target line)")
+    return word
+
+
+def layers_from_args(args):
+    """The --over layers (top first) as detection Layers."""
+    from ..planning.overburden import parse_layer
+
+    return tuple(parse_layer(t) for t in (getattr(args, "over", None) or ()))
 
 
 def parse_depth(text, name="--depth"):
@@ -102,6 +137,7 @@ COLUMNS_SPEC = [
     ("name", "antenna", "", ""),
     ("freq_mhz", "f", "MHz", ".4g"),
     ("performance_db", "perf", "dB", ".0f"),
+    ("min_depth_m", "min depth", "m", ".2g"),
     ("max_depth_m", "max depth", "m", ".3g"),
     ("margin_db", "margin", "dB", ".1f"),
     ("verdict", "verdict", "", ""),
@@ -112,16 +148,17 @@ COLUMNS_SPEC = [
 ]
 
 
-def compute(medium, target, antennas, *, surface_loss_db=None) -> dict:
-    """Rows (human units) and recommendation for ``target`` in ``medium``."""
-    from ..detection.budget import REACHES_MARGIN_DB
-    from ..io.outputs import CAUTION
+def compute(medium, target, antennas, *, surface_loss_db=None, layers=()) -> dict:
+    """Rows (human units) and recommendation for ``target`` in ``medium`` (under ``layers``)."""
+    from ..detection.blindzone import NEAR_FIELD_WAVELENGTHS
+    from ..detection.verdicts import REACHES_MARGIN_DB, reach_definition
     from ..planning.antennas import rank_antennas, recommend, target_summary
+    from ..safety import CAUTION
 
-    rows_si = rank_antennas(medium.electrical, antennas, target, surface_loss_db=surface_loss_db)
+    rows_si = rank_antennas(medium.electrical, antennas, target, surface_loss_db=surface_loss_db, layers=layers)
     rows = []
     for r in rows_si:
-        rows.append({
+        row = {
             "name": r["name"],
             "freq_mhz": r["centre_freq_hz"] / 1e6,
             "performance_db": r["performance_db"],
@@ -130,22 +167,32 @@ def compute(medium, target, antennas, *, surface_loss_db=None) -> dict:
             "sigma_eff_ms_per_m": r["sigma"] * 1e3,
             "velocity_m_per_ns": r["velocity_m_per_s"] / 1e9,
             "attenuation_db_per_m": r["attenuation_db_per_m"],
+            "coupling_gain_dbi": r["coupling_gain_dbi"],
+            "min_depth_m": r["min_depth_m"],
             "max_depth_m": r["max_depth_m"],
             "margin_db": r["margin_db"],
             "verdict": r["verdict"],
+            "near_field": r["near_field"],
             "received_freq_mhz": r["received_freq_hz"] / 1e6,
             "vertical_resolution_m": r["vertical_resolution_m"],
             "fresnel_radius_m": r["fresnel_radius_m"],
             "footprint_radius_m": r["footprint_radius_m"],
             "smallest_separable_m": r["smallest_separable_m"],
             "illustrative": r["illustrative"],
-        })
+        }
+        if "orientation_penalty_db" in r:
+            row["orientation_penalty_db"] = r["orientation_penalty_db"]
+        rows.append(row)
     name, reason = recommend(rows_si)
     return {
         "ground": medium.label,
         "facts": medium.facts,
+        "layers": [{"thickness_m": lay.thickness_m, "material": lay.label, "eps_real": complex(lay.eps).real,
+                    "sigma_ms_per_m": lay.sigma * 1e3} for lay in layers],
         "target": target_summary(target),
-        "thresholds": {"reaches_margin_db": REACHES_MARGIN_DB, "marginal_margin_db": 0.0},
+        "thresholds": {"reaches_margin_db": REACHES_MARGIN_DB, "marginal_margin_db": 0.0,
+                       "near_field_wavelengths": NEAR_FIELD_WAVELENGTHS},
+        "reach_definition": reach_definition(),
         "rows": rows,
         "recommendation": {"antenna": name, "reason": reason},
         "caution": CAUTION,
@@ -153,7 +200,7 @@ def compute(medium, target, antennas, *, surface_loss_db=None) -> dict:
 
 
 def run(args) -> int:
-    from ..io.outputs import CAUTION, Column, collect_warnings, format_table, print_notes, print_result
+    from ..io.outputs import Column, collect_warnings, format_table, print_notes, print_result
     from ..planning.antennas import get_antenna, load_catalogue
     from ._medium_args import medium_from_args
 
@@ -168,31 +215,48 @@ def run(args) -> int:
 
             raise InputError("give the target kind with --target planar|point|line")
         target = target_from_args(args, depth_m=depth)
+        layers = layers_from_args(args)
         from ._calibration import add_model_columns, replan_inputs
 
         ground, used, calibration = replan_inputs(args, medium, antennas)
-        result = compute(ground, target, used, surface_loss_db=surface)
+        result = compute(ground, target, used, surface_loss_db=surface, layers=layers)
         if calibration and medium is not None:  # predicted (soil model, catalogue) beside observed
-            add_model_columns(result["rows"], compute(medium, target, antennas, surface_loss_db=surface)["rows"])
+            add_model_columns(result["rows"], compute(medium, target, antennas, surface_loss_db=surface,
+                                                      layers=layers)["rows"])
         medium = ground
     result["warnings"] = notes
     result["calibration"] = calibration
     t = result["target"]
     what = f"{t['kind']} target, {t['material']}" + (f", {t['size_m']:g} m across" if t["size_m"] else "")
-    title = f"Ground: {medium.label}\nTarget: {what}, at {t['depth_m']:g} m"
+    title = f"Ground: {medium.label}"
+    if result["layers"]:
+        title += "\nUnder: " + ", ".join(f"{lay['thickness_m']:g} m {lay['material']}" for lay in result["layers"])
+    title += f"\nTarget: {what}, at {t['depth_m']:g} m"
+    if t["kind"] == "line":
+        title += f" (antenna dipoles {t.get('orientation', 'parallel')} to it)"
     spec = list(COLUMNS_SPEC)
     if calibration:
         title += "\n" + calibration["note"]
         if "model_max_depth_m" in result["rows"][0]:
-            spec[4:4] = [("model_max_depth_m", "model depth", "m", ".3g")]
+            spec[5:5] = [("model_max_depth_m", "model depth", "m", ".3g")]
     text = format_table(result["rows"], [Column(*c) for c in spec], title=title)
-    text += (f"\nverdict: reaches = margin >= {result['thresholds']['reaches_margin_db']:g} dB; "
-             "marginal = 0 to that; perf includes stacking gain 10·log10(N).")
-    text += "\nvert res = λ/4 at the frequency received from the target depth; footprint = semi-axis at depth."
+    text += f"\nverdict: {result['reach_definition']}."
+    text += ("\nperf includes the clutter-limited stacking gain; min depth = blind zone (pulse length, separation, "
+             "direct wave); f at depth and vert res (λ/4) from the spectrum received from the target depth.")
+    near = [r["name"] for r in result["rows"] if r["near_field"]]
+    if near:
+        text += (f"\nNear field: the target is within {result['thresholds']['near_field_wavelengths']:g} wavelength "
+                 f"of {', '.join(near)}; the far-field budget is approximate there.")
+    pen = [r for r in result["rows"] if r.get("orientation_penalty_db") is not None]
+    if pen and t.get("orientation", "parallel") == "parallel":
+        worst = max(pen, key=lambda r: r["orientation_penalty_db"])
+        text += (f"\nOrientation: assumes the antenna dipoles parallel to the pipe; across it the return is up to "
+                 f"{worst['orientation_penalty_db']:.1f} dB weaker ({worst['name']}); use --orientation unknown "
+                 "if the pipe direction is not known.")
     if any(r["illustrative"] for r in result["rows"]):
         text += "\nCatalogue figures are ILLUSTRATIVE demo values; use your instrument's measured figures."
     text += f"\nRecommendation: {result['recommendation']['reason']}."
-    text += f"\nCaution: {CAUTION}"
+    text += f"\nCaution: {result['caution']}"
     print_result(result, text, as_json=args.json)
     print_notes(notes, quiet=args.quiet or args.json)
     return 0

@@ -157,7 +157,7 @@ def run(args) -> int:
 
 def summary_text(payload: dict, args) -> str:
     """The readable lines printed after a regional run."""
-    from ..detection.budget import REACHES_MARGIN_DB
+    from ..detection.verdicts import REACHES_MARGIN_DB
     from ..io.outputs import CAUTION, Column, format_table
 
     nx, ny = payload["shape"]["x"], payload["shape"]["y"]

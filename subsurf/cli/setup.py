@@ -22,7 +22,7 @@ def add_arguments(parser) -> None:
     a.add_argument("--speed", metavar="Q", help="towing speed (bare number: m/s; default: the trace-rate "
                    "limit or a 1 m/s walking pace, whichever is lower)")
     a.add_argument("--stacks", type=int, metavar="N", help="traces stacked (default: the catalogue's, raised "
-                   "to reach a 6 dB margin when a target is given)")
+                   "to reach the 'reaches' margin when a target is given, never beyond the clutter limit)")
     a.add_argument("--grid-3d", action="store_true", help="plan 3D imaging (λ/4 line spacing) instead of 2D "
                    "detection lines for the survey time")
     from ._calibration import add_calibration_argument
@@ -32,11 +32,11 @@ def add_arguments(parser) -> None:
 
 def run(args) -> int:
     from ..errors import InputError
-    from ..io.outputs import CAUTION, Column, collect_warnings, format_table, print_notes, print_result
+    from ..io.outputs import Column, collect_warnings, format_table, print_notes, print_result
     from ..planning.antennas import get_antenna, load_catalogue
     from ..units import parse_quantity
     from ._medium_args import medium_from_args
-    from .choose import parse_depth, parse_surface_loss, target_from_args
+    from .choose import layers_from_args, parse_depth, parse_surface_loss, target_from_args
 
     depth = parse_depth(args.depth) if args.depth is not None else None
     surface = parse_surface_loss(args.surface_loss)
@@ -62,8 +62,8 @@ def run(args) -> int:
         medium, (antenna,), calibration = replan_inputs(args, medium, [antenna])
         target = target_from_args(args, depth_m=depth)
         result = acquisition_for_antenna(medium, antenna, target=target, depth_m=depth, surface_loss_db=surface,
-                         stacks=args.stacks, area_m2=area, line_length_m=line_length, speed_m_per_s=speed,
-                         imaging=args.grid_3d)
+                                         stacks=args.stacks, area_m2=area, line_length_m=line_length,
+                                         speed_m_per_s=speed, imaging=args.grid_3d, layers=layers_from_args(args))
     result["warnings"] = warns
     result["calibration"] = calibration
     rows = [{"setting": label, "value": result["settings"][k], "unit": unit, "rule": rule, "_fmt": fmt}
@@ -80,12 +80,18 @@ def run(args) -> int:
         t = result["target"]
         title += f"\nTarget: {t['kind']}, {t['material']}" + (f", {t['size_m']:g} m across" if t["size_m"] else "")
     cols = [Column("setting", "setting"), Column("value", "value"), Column("unit", "unit"), Column("rule", "rule")]
-    text = format_table(rows, cols, title=title)
+    if result["reachable"]:
+        text = format_table(rows, cols, title=title)
+    else:
+        # say so instead of planning an impossible survey: the verdict first, only the facts behind it
+        keep = {"depth of interest", "blind zone (min depth)", "stacks", "margin at depth"}
+        text = format_table([r for r in rows if r["setting"] in keep], cols, title=title)
+        text = f"{result['verdict'].upper()}: no survey planned.\n" + text
     for n in result["notes"]:
         text += f"\nNote: {n}."
     if antenna.illustrative:
         text += "\nCatalogue figures are ILLUSTRATIVE demo values; use your instrument's measured figures."
-    text += f"\nCaution: {CAUTION}"
+    text += f"\nCaution: {result['caution']}"
     print_result(result, text, as_json=args.json)
     print_notes(warns, quiet=args.quiet or args.json)
     return 0

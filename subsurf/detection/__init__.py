@@ -7,16 +7,17 @@ fixed frequencies), :mod:`.budget` (the loss terms), :mod:`.solver` (the depth s
 definition of "reaches").
 """
 
-from . import band, blindzone, budget, coupling, layers, resolution, solver, targets, verdicts  # noqa: F401
+from . import band, blindzone, budget, coupling, evaluate, layers, resolution, solver, targets, verdicts  # noqa: F401
 from .band import *  # noqa: F403
 from .blindzone import *  # noqa: F403
 from .budget import *  # noqa: F403
 from .coupling import *  # noqa: F403
+from .evaluate import *  # noqa: F403
 from .layers import *  # noqa: F403
 from .resolution import *  # noqa: F403
 from .solver import *  # noqa: F403
 from .targets import *  # noqa: F403
 from .verdicts import *  # noqa: F403
 
-__all__ = [*band.__all__, *blindzone.__all__, *budget.__all__, *coupling.__all__, *layers.__all__,
+__all__ = [*band.__all__, *blindzone.__all__, *budget.__all__, *coupling.__all__, *evaluate.__all__, *layers.__all__,
            *resolution.__all__, *solver.__all__, *targets.__all__, *verdicts.__all__]

@@ -8,9 +8,9 @@ surface layers) the received-to-transmitted energy ratio at the band frequencies
 where (term by term, each a function of its own module):
 
 - wᵢ: energy weights of the transmitted spectrum (:mod:`.band`);
-- G: one-way in-ground gain of a dipole on the surface, from ε' of the top medium
+- G: one-way in-ground gain of a dipole on the surface, from ε' of the host
   (:mod:`.coupling`, Engheta et al. 1982), times the antenna's extra gain; or a fixed gain;
-- λ₁: wavelength in the medium the antenna sits on;
+- λ₁: wavelength in the host (the receiving aperture Gλ²/4π);
 - X and C_p, p per target kind (:mod:`.targets`):
     planar, image source at 2r:               X = |R|²·F_rough,   C = (4π)²·4,  p = 2
     point, radar cross-section σ_RCS:         X = σ_RCS,          C = (4π)³,    p = 4
@@ -21,6 +21,14 @@ where (term by term, each a function of its own module):
 - α: attenuation of the host plus any extra attenuation (volume scattering) along r;
 - T_layers: absorption in and transmission through the surface layers;
 - F: a user surface loss (dB) if given.
+
+Surface layers are treated in the host's frame: the antenna couples through them into the
+host (G and λ of the host), the range is the host-equivalent r of :mod:`.layers`, and each
+layer adds its absorption and interface transmissions.  This is exact as the layers become
+thin (t ≪ λ, the usual asphalt or concrete over a street at utility frequencies: the layer
+then only absorbs and reflects) and continuous in t; for layers many wavelengths thick the
+ray-tube spreading of an antenna standing on the layer (Newman 1973) differs from it by
+the ratio of G·λ² in the layer to that in the host, which is not modelled.
 
 The depth where the loss equals the system performance P is found by the one solver
 (:mod:`.solver`); with one frequency and no layers or separation it is the closed form
@@ -60,8 +68,6 @@ __all__ = [
     "orientation_penalty_db",
 ]
 
-#: q of the (v_host/v_top)^q spreading factor through layers, per kind (D⁻² planar, D⁻⁴ point and line).
-_LAYER_SPREADING = {"planar": 2.0, "point": 4.0, "line": 4.0}
 _SPREADING_CONSTANT = {"planar": (4.0 * np.pi) ** 2 * 4.0, "point": (4.0 * np.pi) ** 3, "line": (4.0 * np.pi) ** 3}
 
 
@@ -97,19 +103,19 @@ class LossTerms:
 
 
 def _strength(target: Target, alpha, beta, eps_c, sigma, freq, omega, roughness_factor):
-    """X of the module notes (|R|²·F, σ_RCS or σ₂) at every node."""
+    """X of the module notes (|R|²·F, σ_RCS or σ₂) at every node; |R|² from the propagation constants."""
+    if target.conductor:
+        r2 = np.ones_like(alpha)
+    elif target.reflection is not None:
+        r2 = np.full_like(alpha, abs(complex(target.reflection)) ** 2)
+    else:
+        et = complex(target.eps)
+        r2 = _reflection_power_from_gamma(alpha, beta, *_alpha_beta(et.real, -et.imag, target.sigma, omega))
     if target.kind == "planar":
-        if target.conductor:
-            r2 = np.ones_like(alpha)
-        elif target.reflection is not None:
-            r2 = np.full_like(alpha, abs(complex(target.reflection)) ** 2)
-        else:
-            et = complex(target.eps)
-            r2 = _reflection_power_from_gamma(alpha, beta, *_alpha_beta(et.real, -et.imag, target.sigma, omega))
         return r2 * np.square(roughness_factor)
     if target.kind == "point":
-        return radar_cross_section(eps_c, sigma, freq, target)
-    return echo_width(eps_c, sigma, freq, target)
+        return radar_cross_section(eps_c, sigma, freq, target, k=beta, r2=r2)
+    return echo_width(eps_c, sigma, freq, target, k=beta, r2=r2)
 
 
 def loss_terms(eps, sigma, freq_hz, target: Target, *, weights=None, gain=None, extra_gain=1.0,
@@ -155,7 +161,8 @@ def loss_terms(eps, sigma, freq_hz, target: Target, *, weights=None, gain=None, 
         if np.any((rough < 0) | (rough > 1)):
             raise InputError(f"roughness_factor must be between 0 and 1, got {rough.ravel()[0]:g}")
         if gain is not None:
-            gain = check_positive("gain", gain)
+            gain = np.asarray(gain, dtype=float)
+            check_positive("gain", np.where(np.isnan(gain), 1.0, gain))  # NaN: the coupling model
     else:
         freq = np.asarray(freq_hz, dtype=float)
     layers = check_layers(layers)
@@ -164,18 +171,27 @@ def loss_terms(eps, sigma, freq_hz, target: Target, *, weights=None, gain=None, 
     omega = 2.0 * np.pi * freq
     alpha_h, beta_h = _alpha_beta(eps_real, eps_imag, sigma, omega)
     over = overburden_terms(layers, alpha_h, beta_h, eps_real, omega)
-    lam1 = 2.0 * np.pi / over.top_beta
-    g = coupling_gain(over.top_eps_real) * np.asarray(extra_gain, dtype=float) if gain is None else \
-        np.broadcast_to(np.asarray(gain, dtype=float), np.shape(lam1)) * 1.0
-    eps_c = eps_real - 1j * eps_imag
+    lam1 = 2.0 * np.pi / beta_h  # aperture of the host (see the layers note in the module docstring)
+    # coupling from ε' of the top medium at the band's strongest frequency (ε' varies little across a band;
+    # one table look-up per ground instead of one per frequency)
+    top = np.asarray(eps_real, dtype=float)
+    if top.ndim and np.shape(top)[-1] > 1 and weights is not None:
+        j = int(np.argmax(np.asarray(weights, dtype=float).reshape(-1, np.shape(top)[-1])[0]))
+        top = top[..., j:j + 1]
+    g = coupling_gain(top) * np.asarray(extra_gain, dtype=float)
+    if gain is not None:
+        fixed = np.asarray(gain, dtype=float)
+        g = np.where(np.isnan(fixed), g, fixed)
+    # the complex host ε is needed only by a dielectric compact target's Rayleigh branch
+    needs_eps = target.kind != "planar" and target.eps is not None and not target.conductor
+    eps_c = eps_real - 1j * eps_imag if needs_eps else None
     x = _strength(target, alpha_h, beta_h, eps_c, sigma, freq, omega, roughness_factor)
     alpha = alpha_h + np.asarray(extra_attenuation_np_per_m, dtype=float)
     factor = np.square(g) * lam1**2 * x / _SPREADING_CONSTANT[target.kind]
     with np.errstate(divide="ignore"):
         k0 = -10.0 * np.log10(factor)
     if layers:
-        k0 = (k0 + over.loss_db + 10.0 * _LAYER_SPREADING[target.kind] * np.log10(1.0 / over.velocity_ratio)
-              - 2.0 * NP_TO_DB * alpha * (over.shift_m + over.thickness_m))
+        k0 = k0 + over.loss_db - 2.0 * NP_TO_DB * alpha * (over.shift_m + over.thickness_m)
     k0 = k0 + np.asarray(surface_loss_db, dtype=float)
     n = np.shape(k0)[-1] if np.ndim(k0) else 1
     if weights is None:
@@ -185,7 +201,8 @@ def loss_terms(eps, sigma, freq_hz, target: Target, *, weights=None, gain=None, 
     w = np.asarray(weights, dtype=float)
     if over.shift_m.ndim:
         # one shift per ground: the transmitted-energy mean over the band (dispersion within the band is small)
-        shift = np.sum(np.broadcast_to(w, np.shape(over.shift_m)) * over.shift_m, axis=-1)
+        wn = np.broadcast_to(w, np.shape(over.shift_m))
+        shift = np.sum(wn * over.shift_m, axis=-1) / np.sum(wn, axis=-1)
     else:
         shift = over.shift_m
     return LossTerms(k0_db=np.atleast_1d(k0), alpha=np.atleast_1d(alpha), weights=w,

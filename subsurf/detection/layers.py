@@ -8,10 +8,9 @@ the host below:
   (normal-incidence power transmission squared; R from
   :func:`subsurf.propagation.reflection_coefficient`'s impedance form);
 - geometric spreading through layers of different velocity: the paraxial spreading
-  distance of a layered earth is D = Σ vₖ·hₖ/v₁ for the antenna in layer 1 (Newman 1973),
-  i.e. D = (v_h/v₁)·(d + s) with the host-equivalent shift s = Σₖ tₖ·(vₖ/v_h − 1), so the
-  depth solver works on r = d + s and the factor (v_h/v₁)^q goes into K₀;
-- the antenna couples into (and its wavelength is that of) the top layer.
+  distance of a layered earth is D = Σ vₖ·hₖ/v_ref (Newman 1973); referred to the host,
+  r = d + s with the host-equivalent shift s = Σₖ tₖ·(vₖ/v_h − 1), and the depth solver
+  works on r (the budget's note on thin and thick layers says where this holds).
 
 References
 ----------

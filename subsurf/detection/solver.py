@@ -258,7 +258,7 @@ def band_range_from_loss_terms(k0_db, p, alpha, weights, performance_db, *, iter
         hi = np.where(g >= 0, u, hi)
         dg = 10.0 * p / _LN10 + (40.0 / _LN10) * mean_alpha * r
         step = u - g / dg
-        bad = ~((step > lo) & (step < hi)) | ~np.isfinite(step)
+        bad = ~((step >= lo) & (step <= hi)) | ~np.isfinite(step)
         new = np.where(bad, 0.5 * (lo + hi), step)
         done = np.max(np.abs(new - u), initial=0.0) < rtol
         u = new

@@ -165,7 +165,7 @@ def _relative_contrast(eps_host, sigma_host, freq_hz, target: Target):
     return et / eh
 
 
-def radar_cross_section(eps_host, sigma_host, freq_hz, target: Target):
+def radar_cross_section(eps_host, sigma_host, freq_hz, target: Target, *, k=None, r2=None):
     """Backscatter radar cross-section (m²) of a compact target modelled as a sphere.
 
     Parameters
@@ -202,8 +202,10 @@ def radar_cross_section(eps_host, sigma_host, freq_hz, target: Target):
     if target.kind != "point":
         raise InputError(f"radar_cross_section is for point targets, got kind {target.kind!r}")
     a = target.radius_m
-    k = wave_properties(eps_host, sigma_host, freq_hz).beta
-    r2 = np.abs(target_reflection(eps_host, sigma_host, freq_hz, target)) ** 2
+    if k is None:
+        k = wave_properties(eps_host, sigma_host, freq_hz).beta
+    if r2 is None:
+        r2 = np.abs(target_reflection(eps_host, sigma_host, freq_hz, target)) ** 2
     optical = np.pi * a**2 * r2
     if target.conductor:
         rayleigh = 9.0 * np.pi * k**4 * a**6
@@ -216,7 +218,7 @@ def radar_cross_section(eps_host, sigma_host, freq_hz, target: Target):
 
 
 def echo_width(eps_host, sigma_host, freq_hz, target: Target, *, polarisation: Literal["parallel", "perpendicular"]
-               | None = None):
+               | None = None, k=None, r2=None):
     """Backscatter echo width (2-D radar cross-section per unit length, m) of a long cylinder.
 
     Parameters
@@ -228,6 +230,8 @@ def echo_width(eps_host, sigma_host, freq_hz, target: Target, *, polarisation: L
     polarisation : {"parallel", "perpendicular"} or None
         Electric field along the axis (TM) or across it (TE); None follows
         ``target.orientation`` ("unknown" takes the smaller of the two).
+    k, r2 : array_like, optional
+        Host wavenumber β (rad/m) and |R|² when the caller has them (the loss budget).
 
     Notes
     -----
@@ -256,13 +260,15 @@ def echo_width(eps_host, sigma_host, freq_hz, target: Target, *, polarisation: L
         raise InputError(f"echo_width is for line targets, got kind {target.kind!r}")
     pol = target.orientation if polarisation is None else polarisation
     if pol == "unknown":
-        return np.minimum(echo_width(eps_host, sigma_host, freq_hz, target, polarisation="parallel"),
-                          echo_width(eps_host, sigma_host, freq_hz, target, polarisation="perpendicular"))
+        return np.minimum(echo_width(eps_host, sigma_host, freq_hz, target, polarisation="parallel", k=k, r2=r2),
+                          echo_width(eps_host, sigma_host, freq_hz, target, polarisation="perpendicular", k=k, r2=r2))
     if pol not in ("parallel", "perpendicular"):
         raise InputError(f"polarisation must be parallel or perpendicular, got {pol!r}")
     a = target.radius_m
-    k = wave_properties(eps_host, sigma_host, freq_hz).beta
-    r2 = np.abs(target_reflection(eps_host, sigma_host, freq_hz, target)) ** 2
+    if k is None:
+        k = wave_properties(eps_host, sigma_host, freq_hz).beta
+    if r2 is None:
+        r2 = np.abs(target_reflection(eps_host, sigma_host, freq_hz, target)) ** 2
     optical = np.pi * a * r2
     if target.conductor:
         if pol == "parallel":

@@ -44,7 +44,7 @@ def write_region(result, path, *, force: bool = False, batch: int = 4, dtype: st
     subsurf.site.regional.RegionSummary
         Reach fractions, mean depth and recommendation counts over the cells with data.
     """
-    from ..detection.budget import REACHES_MARGIN_DB
+    from ..detection.verdicts import REACHES_MARGIN_DB
     from ..errors import InputError
     from ..site.regional import REC_FILL, RegionSummary
     from .netcdf import write_netcdf
@@ -111,7 +111,7 @@ def map_region(soil, antennas, out, *, target, target_depth_m: float, texture: s
         reach threshold, ``mean_max_depth_m``, ``recommended_percent``) and
         ``no_antenna_reaches_percent``, percentages of the cells with soil data.
     """
-    from ..detection.budget import REACHES_MARGIN_DB
+    from ..detection.verdicts import REACHES_MARGIN_DB
     from ..planning.antennas import target_summary
     from ..site import regional
     from .outputs import CAUTION

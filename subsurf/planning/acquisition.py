@@ -26,6 +26,8 @@ __all__ = [
     "optimum_separation",
     "line_spacing_2d",
     "line_spacing_3d",
+    "MIN_DOUBLING_GAIN_DB",
+    "clutter_stack_limit",
     "stacks_for_margin",
     "max_speed",
     "survey_time",
@@ -136,17 +138,49 @@ def line_spacing_3d(wavelength_m):
     return trace_spacing(wavelength_m)
 
 
-def stacks_for_margin(margin_db, *, wanted_db: float = 6.0, max_stacks: int = 1024):
-    """Stack count N (power of two) that lifts a margin to ``wanted_db``: 10·log10(N) ≥ wanted − margin.
+#: Stacking stops where one more doubling adds less than this (dB): beyond it the clutter
+#: floor, not noise, limits the signal (our rule, stated; see clutter_stack_limit).
+MIN_DOUBLING_GAIN_DB = 1.0
 
-    Returns 1 where the margin already suffices and 0 where even ``max_stacks`` would not
-    (stacking gain assumes incoherent noise; Annan 2009).
+
+def clutter_stack_limit(clutter_limit_db, *, min_doubling_gain_db: float = MIN_DOUBLING_GAIN_DB) -> int:
+    """Largest useful stack count: the last power of two whose doubling still added ≥ ``min_doubling_gain_db``.
+
+    With the clutter-limited gain G(N) = 10·log10((1 + c)/(1/N + c)), c = 10^(−C/10)
+    (:func:`subsurf.planning.antennas.clutter_limited_stacking_gain_db`); C = 15 dB gives 64.
     """
-    m = np.asarray(margin_db, dtype=float)
-    need = np.maximum(wanted_db - m, 0.0)
-    n = np.power(2.0, np.ceil(np.log2(np.maximum(10.0 ** (need / 10.0), 1.0)) - 1e-12))
-    n = np.where(n > max_stacks, 0, n).astype(int)
-    return n if n.ndim else int(n)
+    from .antennas import clutter_limited_stacking_gain_db as gain
+
+    n = 1
+    while n < 2**20 and gain(2 * n, clutter_limit_db) - gain(n, clutter_limit_db) >= min_doubling_gain_db:
+        n *= 2
+    return n
+
+
+def stacks_for_margin(margin_db, *, wanted_db: float = 6.0, current_stacks: int = 1,
+                      clutter_limit_db: float = 15.0):
+    """Stack count N (a power of two, ≥ ``current_stacks``) that lifts a margin to ``wanted_db``, or 0.
+
+    ``margin_db`` is the margin with ``current_stacks``.  The gain of going from N₀ to N is
+    G(N) − G(N₀) with the clutter-limited G; N never exceeds :func:`clutter_stack_limit`
+    (stacking beats random noise, not clutter; Annan 2009).  Returns ``current_stacks``
+    where the margin already suffices and 0 where no useful stack count would.
+    """
+    from .antennas import clutter_limited_stacking_gain_db as gain
+
+    m = float(margin_db)
+    n0 = int(current_stacks)
+    if m >= wanted_db:
+        return n0
+    limit = max(clutter_stack_limit(clutter_limit_db), n0)
+    n = 1
+    while n < n0:
+        n *= 2
+    while n <= limit:
+        if m + gain(n, clutter_limit_db) - gain(n0, clutter_limit_db) >= wanted_db:
+            return n
+        n *= 2
+    return 0
 
 
 def max_speed(trace_spacing_m, trace_rate_hz, stacks=1):

@@ -16,19 +16,19 @@ from pathlib import Path
 
 import numpy as np
 
-from ..detection.budget import (
-    REACHES_MARGIN_DB,
-    Target,
-    band_spectrum,
-    margin_db,
-    max_depth,
-    resolution_at_depth,
-    verdict,
-)
+from ..detection.band import band_nodes
+from ..detection.blindzone import default_pulse_length
+from ..detection.coupling import coupling_gain
+from ..detection.evaluate import antenna_budget
+from ..detection.targets import Target
+from ..detection.verdicts import MARGINAL, REACHES, REACHES_MARGIN_DB, verdict
 from ..errors import FileInputError, InputError
+from .targets import MATERIAL_ALIASES, make_target, material_names, target_summary  # noqa: F401  (public here too)
 
 __all__ = [
     "Antenna",
+    "CLUTTER_LIMIT_DB",
+    "clutter_limited_stacking_gain_db",
     "load_catalogue",
     "get_antenna",
     "MATERIAL_ALIASES",
@@ -39,6 +39,34 @@ __all__ = [
 ]
 
 
+#: Default signal-to-clutter ceiling (dB) of stacking: the clutter (ringing, ground and
+#: surface scattering) that repeats from trace to trace sits this far below the single-trace
+#: random-noise floor, so averaging N traces lowers the interference from n to n/N + c and
+#: the gain 10·log10(1/(1/N + 10^(−C/10))) never exceeds C.  15 dB is our engineering
+#: judgement for ground-coupled antennas on open ground (stacking beats random noise, not
+#: clutter: Annan 2009, ch. 1); give your own per antenna as ``clutter_limit_db``.
+CLUTTER_LIMIT_DB = 15.0
+
+
+def clutter_limited_stacking_gain_db(stacks, clutter_limit_db=CLUTTER_LIMIT_DB):
+    """Stacking gain (dB) of N traces against noise plus clutter: −10·log10(1/N + 10^(−C/10)).
+
+    N = 1 gives 10·log10(1/(1 + c)) < 0 relative to no clutter at all; the single-trace
+    performance of the catalogue already includes that clutter, so the gain is counted
+    relative to N = 1: G(N) = 10·log10((1 + c)/(1/N + c)), with c = 10^(−C/10).  G → C as
+    N → ∞ (more exactly 10·log10(1 + 1/c)); for N ≪ 1/c it is the familiar 10·log10(N).
+
+    References
+    ----------
+    Annan, A. P. (2009). Electromagnetic principles of ground penetrating radar. In Jol, H. M.
+    (ed.), *Ground Penetrating Radar: Theory and Applications*, Elsevier, ch. 1 (stacking
+    improves random noise by √N in amplitude; coherent noise is not reduced).
+    """
+    n = np.asarray(stacks, dtype=float)
+    c = 10.0 ** (-np.asarray(clutter_limit_db, dtype=float) / 10.0)
+    return 10.0 * np.log10((1.0 + c) / (1.0 / n + c))
+
+
 @dataclass(frozen=True)
 class Antenna:
     """One antenna (with its control unit) as the loss budget needs it, SI units.
@@ -47,19 +75,24 @@ class Antenna:
     ----------
     name : str
     centre_freq_hz : float
-        Centre frequency of the transmitted spectrum (Hz).
+        Centre frequency (peak) of the transmitted spectrum (Hz).
     bandwidth_hz : float
         Full width at half power of the spectrum (Hz).
     performance_db : float
         System performance for a single trace (dB).
     separation_m : float
         Transmitter–receiver separation (m).
-    gain : float
-        One-way antenna gain in the ground (linear; the catalogue gives dBi).
+    gain : float or None
+        Fixed one-way gain in the ground (linear); None (the default) uses the in-ground
+        gain of a dipole on the surface (:func:`subsurf.detection.coupling.coupling_gain`).
     trace_rate_hz : float
         Raw traces per second.
     stacks : int
         Traces averaged per recorded trace.
+    pulse_length_s : float or None
+        Pulse length (s) for the blind zone; None: 1.5 periods of the centre frequency.
+    clutter_limit_db : float
+        Ceiling of the stacking gain (:func:`clutter_limited_stacking_gain_db`).
     notes : str
     illustrative : bool
         True for invented demo figures.
@@ -70,31 +103,45 @@ class Antenna:
     bandwidth_hz: float
     performance_db: float
     separation_m: float
-    gain: float
     trace_rate_hz: float
+    gain: float | None = None
     stacks: int = 1
+    pulse_length_s: float | None = None
+    clutter_limit_db: float = CLUTTER_LIMIT_DB
     notes: str = ""
     illustrative: bool = False
 
     def __post_init__(self):
-        for field_name in ("centre_freq_hz", "bandwidth_hz", "performance_db", "gain", "trace_rate_hz"):
+        for field_name in ("centre_freq_hz", "bandwidth_hz", "performance_db", "trace_rate_hz", "clutter_limit_db"):
             v = getattr(self, field_name)
-            if not (isinstance(v, (int, float)) and math.isfinite(v) and v > 0):
+            if isinstance(v, bool) or not (isinstance(v, (int, float)) and math.isfinite(v) and v > 0):
                 raise InputError(f"antenna {self.name!r}: {field_name} must be a number > 0, got {v!r}")
-        if not (math.isfinite(self.separation_m) and self.separation_m >= 0):
+        for field_name in ("gain", "pulse_length_s"):
+            v = getattr(self, field_name)
+            if v is not None and (isinstance(v, bool) or not (isinstance(v, (int, float)) and math.isfinite(v)
+                                                              and v > 0)):
+                raise InputError(f"antenna {self.name!r}: {field_name} must be a number > 0, got {v!r}")
+        if not (isinstance(self.separation_m, (int, float)) and math.isfinite(self.separation_m)
+                and self.separation_m >= 0):
             raise InputError(f"antenna {self.name!r}: separation_m must be >= 0, got {self.separation_m!r}")
         if not (isinstance(self.stacks, int) and self.stacks >= 1):
             raise InputError(f"antenna {self.name!r}: stacks must be an integer >= 1, got {self.stacks!r}")
 
     @property
     def stacking_gain_db(self) -> float:
-        """Signal-to-noise gain of stacking, 10·log10(N) dB (incoherent noise)."""
-        return 10.0 * math.log10(self.stacks)
+        """Clutter-limited signal-to-interference gain of stacking (dB), see :func:`clutter_limited_stacking_gain_db`."""
+        return float(clutter_limited_stacking_gain_db(self.stacks, self.clutter_limit_db))
 
     @property
     def effective_performance_db(self) -> float:
         """System performance including the stacking gain, dB."""
         return self.performance_db + self.stacking_gain_db
+
+    @property
+    def pulse_length(self) -> float:
+        """Pulse length (s): the catalogue's, or 1.5 periods of the centre frequency."""
+        return self.pulse_length_s if self.pulse_length_s is not None else float(default_pulse_length(
+            self.centre_freq_hz))
 
     @property
     def band_top_hz(self) -> float:
@@ -115,6 +162,12 @@ _FIELDS = {
     "system_performance_db": ("performance_db", 1.0, 1e-9, 400.0),
     "separation_m": ("separation_m", 1.0, 0.0, 100.0),
     "trace_rate_hz": ("trace_rate_hz", 1.0, 1e-9, 1e7),
+}
+_OPTIONAL = {
+    # toml key: (Antenna field, scale to SI, low (exclusive), high, unit)
+    "pulse_length_ns": ("pulse_length_s", 1e-9, 0.0, 1e4, "ns"),
+    "clutter_limit_db": ("clutter_limit_db", 1.0, 0.0, 60.0, "dB"),
+    "gain_dbi": ("gain", 1.0, -20.0, 40.0, "dBi"),
 }
 
 
@@ -162,16 +215,20 @@ def load_catalogue(path=None) -> dict[str, Antenna]:
             if not lo <= v <= hi:
                 raise FileInputError(path, f"{where}: must be between {lo:g} and {hi:g}, got {v!r}", field=key)
             kw[fld] = float(v) * scale
-        gain_dbi = entry.get("gain_dbi", 0.0)
-        if isinstance(gain_dbi, bool) or not isinstance(gain_dbi, (int, float)) or not -20 <= gain_dbi <= 40:
-            raise FileInputError(path, f"{where}: must be a number between -20 and 40 dBi, got {gain_dbi!r}",
-                                 field="gain_dbi")
+        opt = {}
+        for key, (fld, scale, lo, hi, unit) in _OPTIONAL.items():
+            if key not in entry:
+                continue
+            v = entry[key]
+            if isinstance(v, bool) or not isinstance(v, (int, float)) or not math.isfinite(v) or not lo < v <= hi:
+                raise FileInputError(path, f"{where}: must be a number > {lo:g} and <= {hi:g} {unit}, got {v!r}",
+                                     field=key)
+            opt[fld] = float(v) * scale if key != "gain_dbi" else 10.0 ** (float(v) / 10.0)
         stacks = entry.get("stacks", 1)
         if isinstance(stacks, bool) or not isinstance(stacks, int) or stacks < 1:
             raise FileInputError(path, f"{where}: must be an integer >= 1, got {stacks!r}", field="stacks")
-        out.append(Antenna(name=str(name), gain=10.0 ** (gain_dbi / 10.0), stacks=stacks,
-                           notes=str(entry.get("notes", "")),
-                           illustrative=bool(entry.get("illustrative", False)), **kw))
+        out.append(Antenna(name=str(name), stacks=stacks, notes=str(entry.get("notes", "")),
+                           illustrative=bool(entry.get("illustrative", False)), **kw, **opt))
     out.sort(key=lambda a: (a.centre_freq_hz, a.name))
     return {a.name: a for a in out}
 
@@ -184,108 +241,39 @@ def get_antenna(name: str, catalogue: dict[str, Antenna] | None = None) -> Anten
     return cat[name]
 
 
-#: Target-material words accepted besides the keys of configs/materials.toml.
-MATERIAL_ALIASES = {
-    "void": "air",                # air-filled void or cavity
-    "plastic_pipe": "air",        # empty plastic pipe: the air inside dominates the contrast
-    "water": "fresh_water",       # water-filled pipe or cavity
-    "water_table": "saturated_sand",
-    "concrete": "concrete_dry",
-    "rock": "granite",
-    "bedrock": "granite",
-    "steel": "metal",
-    "iron": "metal",
-}
+def antenna_budget_for(electrical, antenna: Antenna, target: Target, *, depth_m: float, stacks: int | None = None,
+                       surface_loss_db=None, layers=(), extra_attenuation=None, roughness_factor=1.0) -> dict:
+    """:func:`subsurf.detection.evaluate.antenna_budget` of a catalogue antenna in a ground.
 
-
-def _canonical(name: str) -> str:
-    key = str(name).strip().lower().replace(" ", "_").replace("-", "_")
-    return MATERIAL_ALIASES.get(key, key)
-
-
-def material_names() -> list[str]:
-    """Material names accepted by :func:`make_target` (table keys and aliases)."""
-    from ..ground.presets import load_materials
-
-    return sorted(set(load_materials()) | set(MATERIAL_ALIASES))
-
-
-def make_target(kind: str, *, depth_m=None, size_m=None, material: str | None = None,
-                eps: complex | None = None, sigma: float = 0.0, reflection: complex | None = None) -> Target:
-    """Build a :class:`~subsurf.detection.Target` from a material name or explicit values.
-
-    Parameters
-    ----------
-    kind : {"planar", "point", "line"}
-    depth_m, size_m : float, optional
-        Depth to the top (m) and diameter (m) of the target.
-    material : str, optional
-        A key of ``configs/materials.toml`` (e.g. ``metal``, ``air``, ``fresh_water``,
-        ``concrete_dry``, ``granite``, ``saturated_sand``) or an alias of
-        :data:`MATERIAL_ALIASES` (``void``, ``plastic_pipe``, ``water``, ``water_table``,
-        ``concrete``, ``rock``).
-    eps, sigma : explicit relative permittivity and conductivity (S/m) instead of a material.
-    reflection : explicit amplitude reflection coefficient instead of a material.
-
-    Notes
-    -----
-    A material's representative value is the middle of its permittivity range and
-    the geometric mean of its conductivity range (conductivity spans decades; the
-    arithmetic mean when the low end is 0).  ``perfect_conductor`` materials become
-    ``conductor=True`` (|R| = 1).
+    ``electrical(freq_hz) -> (eps, sigma)`` is evaluated at the antenna's band frequencies;
+    ``extra_attenuation(freq_hz) -> Np/m`` (optional) adds e.g. volume scattering.
     """
-    given = sum(x is not None for x in (material, eps, reflection))
-    if given != 1:
-        raise InputError("give the target as exactly one of a material name, eps (with sigma) or a reflection")
-    if material is None:
-        return Target(kind=kind, depth_m=depth_m, size_m=size_m, eps=eps, sigma=sigma, reflection=reflection,
-                      material="custom")
-    from ..ground.presets import load_materials
-
-    table = load_materials()
-    key = _canonical(material)
-    if key not in table:
-        raise InputError(f"unknown target material {material!r}; available: {', '.join(material_names())}")
-    rec = table[key]
-    asked = str(material).strip().lower().replace(" ", "_").replace("-", "_")
-    label = key if asked == key else f"{asked} (as {key})"  # show what an alias stands for
-    if rec["perfect_conductor"]:
-        return Target(kind=kind, depth_m=depth_m, size_m=size_m, conductor=True, material=label)
-    e_lo, e_hi = rec["relative_permittivity"]
-    s_lo, s_hi = rec["conductivity"]
-    s = math.sqrt(s_lo * s_hi) if s_lo > 0 else 0.5 * (s_lo + s_hi)
-    return Target(kind=kind, depth_m=depth_m, size_m=size_m, eps=complex(0.5 * (e_lo + e_hi)), sigma=s,
-                  material=label)
+    a = antenna if stacks is None else antenna.with_stacks(stacks)
+    f, w = band_nodes(a.centre_freq_hz, a.bandwidth_hz)
+    eps, sig = electrical(f)
+    extra = 0.0 if extra_attenuation is None else extra_attenuation(f)
+    return antenna_budget(eps, sig, f, w, target, depth_m=depth_m, performance_db=a.effective_performance_db,
+                          pulse_length_s=a.pulse_length, separation_m=a.separation_m, gain=a.gain,
+                          layers=layers, surface_loss_db=0.0 if surface_loss_db is None else surface_loss_db,
+                          extra_attenuation_np_per_m=extra, roughness_factor=roughness_factor)
 
 
-def target_summary(target) -> dict:
-    """The target as plain JSON-able facts (SI units, keys with units)."""
-    out = {"kind": target.kind, "depth_m": target.depth_m, "size_m": target.size_m,
-           "material": target.material}
-    if target.conductor:
-        out["perfect_conductor"] = True
-    elif target.eps is not None:
-        out["eps_real"] = complex(target.eps).real
-        out["sigma_ms_per_m"] = target.sigma * 1e3
-    else:
-        out["reflection"] = target.reflection
-    return out
-
-
-def rank_antennas(electrical, antennas: list[Antenna], target: Target, *, surface_loss_db=None,
-                  reaches_db: float = REACHES_MARGIN_DB, n_band: int = 193) -> list[dict]:
-    """Evaluate every antenna against a target in one vectorised pass.
+def rank_antennas(electrical, antennas: list[Antenna], target: Target, *, surface_loss_db=None, layers=(),
+                  reaches_db: float = REACHES_MARGIN_DB) -> list[dict]:
+    """Evaluate every antenna against a target with the full budget (band, coupling, separation, layers).
 
     Parameters
     ----------
     electrical : callable
-        ``electrical(freq_hz) -> (eps, sigma)`` for the ground, broadcasting over an
+        ``electrical(freq_hz) -> (eps, sigma)`` for the host ground, broadcasting over an
         array of frequencies (e.g. ``Medium.electrical`` or ``Soil.electrical``).
     antennas : list of Antenna
     target : Target
         With ``depth_m`` set (the depth of interest).
     surface_loss_db : float or None
-        Passed to :func:`subsurf.detection.max_depth`.
+        A user-supplied extra two-way surface loss (dB).
+    layers : sequence of subsurf.detection.layers.Layer
+        Surface layers over the host, top first.
     reaches_db : float
         Margin for the verdict "reaches".
 
@@ -293,50 +281,52 @@ def rank_antennas(electrical, antennas: list[Antenna], target: Target, *, surfac
     -------
     list of dict (SI units)
         One row per antenna: name, centre_freq_hz, performance_db (with stacking),
-        max_depth_m, margin_db, verdict, received_freq_hz, vertical_resolution_m,
-        fresnel_radius_m, footprint_radius_m, smallest_separable_m, eps_real, sigma,
-        velocity_m_per_s, attenuation_db_per_m.
+        max_depth_m, min_depth_m, margin_db, verdict, near_field, received_freq_hz,
+        vertical_resolution_m, fresnel_radius_m, footprint_radius_m, smallest_separable_m,
+        eps_real, sigma, velocity_m_per_s, attenuation_db_per_m, coupling_gain_dbi and,
+        for line targets, orientation_penalty_db.
     """
+    from ..detection.budget import orientation_penalty_db
     from ..waves.propagation import wave_properties
 
     if target.depth_m is None:
         raise InputError("the target needs a depth to rank antennas (depth_m)")
     if not antennas:
         raise InputError("no antennas to rank")
-    fc = np.array([a.centre_freq_hz for a in antennas])
-    perf = np.array([a.effective_performance_db for a in antennas])
-    gain = np.array([a.gain for a in antennas])
-    eps_c, sig_c = electrical(fc)
-    w = wave_properties(eps_c, sig_c, fc)
-    dmax = max_depth(eps_c, sig_c, fc, perf, target=target, gain=gain, surface_loss_db=surface_loss_db)
-    marg = margin_db(target.depth_m, eps_c, sig_c, fc, perf, target=target, gain=gain,
-                     surface_loss_db=surface_loss_db)
-    # band of every antenna on its own grid: shape (n_antennas, n_band)
-    grids = [band_spectrum(a.centre_freq_hz, a.bandwidth_hz, n=n_band) for a in antennas]
     rows = []
-    for i, a in enumerate(antennas):
-        f, amp = grids[i]
-        eps_b, sig_b = electrical(f)
-        res = resolution_at_depth(eps_b, sig_b, f, amp, target.depth_m)
-        rows.append({
+    for a in antennas:
+        fc = np.array([a.centre_freq_hz])
+        eps_c, sig_c = electrical(fc)
+        wc = wave_properties(eps_c, sig_c, fc)
+        b = antenna_budget_for(electrical, a, target, depth_m=target.depth_m, surface_loss_db=surface_loss_db,
+                               layers=layers)
+        margin = float(b["margin_db"])
+        row = {
             "name": a.name,
             "centre_freq_hz": a.centre_freq_hz,
             "performance_db": a.effective_performance_db,
             "stacks": a.stacks,
-            "eps_real": float(w.eps_real[i]),
-            "sigma": float(w.effective_conductivity[i]),
-            "velocity_m_per_s": float(w.velocity[i]),
-            "attenuation_db_per_m": float(w.attenuation_db_per_m[i]),
-            "max_depth_m": float(np.asarray(dmax)[i]),
-            "margin_db": float(np.asarray(marg)[i]),
-            "verdict": str(verdict(np.asarray(marg)[i], reaches_db=reaches_db)),
-            "received_freq_hz": float(res.received_freq_hz),
-            "vertical_resolution_m": float(res.vertical_m),
-            "fresnel_radius_m": float(res.fresnel_radius_m),
-            "footprint_radius_m": float(res.footprint_radius_m),
-            "smallest_separable_m": float(res.smallest_separable_m),
+            "eps_real": float(wc.eps_real[0]),
+            "sigma": float(wc.effective_conductivity[0]),
+            "velocity_m_per_s": float(wc.velocity[0]),
+            "attenuation_db_per_m": float(wc.attenuation_db_per_m[0]),
+            "max_depth_m": float(b["max_depth"]),
+            "min_depth_m": float(b["min_depth"]),
+            "margin_db": margin,
+            "verdict": str(verdict(margin, too_shallow=bool(b["too_shallow"]), reaches_db=reaches_db)),
+            "near_field": bool(b["near_field"]),
+            "received_freq_hz": float(b["received_freq_hz"]),
+            "vertical_resolution_m": float(b["vertical_resolution"]),
+            "fresnel_radius_m": float(b["fresnel_radius"]),
+            "footprint_radius_m": float(b["footprint_radius"]),
+            "smallest_separable_m": float(max(b["vertical_resolution"], b["fresnel_radius"])),
+            "coupling_gain_dbi": float(10.0 * np.log10(a.gain if a.gain is not None else coupling_gain(
+                wc.eps_real[0]))),
             "illustrative": a.illustrative,
-        })
+        }
+        if target.kind == "line":
+            row["orientation_penalty_db"] = float(orientation_penalty_db(eps_c, sig_c, fc, target)[0])
+        rows.append(row)
     narrow = [r["name"] for r in rows if target.kind != "planar" and target.size_m > 2 * r["footprint_radius_m"]]
     if narrow:
         import warnings
@@ -351,29 +341,37 @@ def rank_antennas(electrical, antennas: list[Antenna], target: Target, *, surfac
     return rows
 
 
-def recommend(rows: list[dict]) -> tuple[str | None, str]:
+def recommend(rows: list[dict], *, reaches_db: float = REACHES_MARGIN_DB) -> tuple[str | None, str]:
     """Pick an antenna from :func:`rank_antennas` rows: (name or None, reason).
 
     Rule: among antennas whose verdict is "reaches", the one with the finest vertical
     resolution at the target depth (ties: larger margin).  If none reaches with margin,
     the marginal one with the largest margin, flagged as marginal; if none reaches at
-    all, no recommendation, and the antenna that comes closest is named.
+    all, no recommendation, and the antenna that comes closest is named.  Antennas for
+    which the target is "too shallow" (inside their blind zone) are never recommended.
     """
-    reach = [r for r in rows if r["verdict"] == "reaches"]
+    reach = [r for r in rows if r["verdict"] == REACHES]
     if reach:
         best = min(reach, key=lambda r: (r["vertical_resolution_m"], -r["margin_db"]))
         return best["name"], (
             f"{best['name']}: the finest vertical resolution ({best['vertical_resolution_m']:.3g} m) "
-            f"among the antennas that reach the target with at least {REACHES_MARGIN_DB:g} dB margin "
+            f"among the antennas that reach the target with at least {reaches_db:g} dB margin "
             f"(margin {best['margin_db']:.1f} dB, maximum depth {best['max_depth_m']:.3g} m)")
-    marginal = [r for r in rows if r["verdict"] == "marginal"]
+    marginal = [r for r in rows if r["verdict"] == MARGINAL]
     if marginal:
         best = max(marginal, key=lambda r: r["margin_db"])
         return best["name"], (
-            f"{best['name']}: no antenna reaches the target with {REACHES_MARGIN_DB:g} dB margin; this one has "
-            f"the largest margin ({best['margin_db']:.1f} dB), so detection is marginal; consider more "
-            "stacking or a lower frequency")
-    best = max(rows, key=lambda r: r["margin_db"])
+            f"{best['name']}: no antenna reaches the target with {reaches_db:g} dB margin; this one has "
+            f"the largest margin ({best['margin_db']:.1f} dB), so detection is marginal; consider a lower "
+            "frequency (stacking is limited by clutter)")
+    shallow = [r for r in rows if r["verdict"] == "too shallow"]
+    if len(shallow) == len(rows):
+        best = min(rows, key=lambda r: r["min_depth_m"])
+        return None, (
+            f"the target is too shallow for every antenna: it lies inside each one's blind zone (the "
+            f"shallowest is {best['min_depth_m']:.2g} m, {best['name']}); use a higher frequency or a shorter "
+            "separation")
+    best = max((r for r in rows if r["verdict"] != "too shallow"), key=lambda r: r["margin_db"])
     return None, (
         f"no antenna in the catalogue reaches the target; the closest is {best['name']} "
         f"({-best['margin_db']:.1f} dB short of detection, maximum depth {best['max_depth_m']:.3g} m)")

@@ -22,7 +22,8 @@ ROWS_SPEC = [
     ("line_spacing_3d_m", "line spacing, 3D imaging", "m", ".3g", "≤ λ/4 (Grasmueck et al. 2005)"),
     ("optimum_separation_m", "optimum antenna separation", "m", ".3g", "2d/√(ε'−1) (Annan & Cosway 1992)"),
     ("antenna_separation_m", "this antenna's separation", "m", ".3g", "catalogue"),
-    ("stacks", "stacks", "", "d", "10·log10(N) dB gain"),
+    ("min_depth_m", "blind zone (min depth)", "m", ".2g", "½√(vτ(2x + vτ)): echo after the direct wave"),
+    ("stacks", "stacks", "", "d", "10·log10((1+c)/(1/N+c)) dB, clutter-limited"),
     ("margin_db", "margin at depth", "dB", ".1f", "performance with stacking − two-way loss"),
     ("max_speed_m_per_s", "highest towing speed", "m/s", ".3g", "trace spacing × trace rate / stacks"),
     ("speed_m_per_s", "towing speed used", "m/s", ".3g", "given, or min(limit, 1 m/s)"),
@@ -30,68 +31,95 @@ ROWS_SPEC = [
 ]
 
 
-def acquisition_for_antenna(medium, antenna, *, target=None, depth_m=None, surface_loss_db=None, stacks=None, area_m2=None,
-            line_length_m=None, speed_m_per_s=None, imaging=False) -> dict:
-    """Acquisition settings (human units) for ``antenna`` in ``medium``, with notes and the rules used."""
+def acquisition_for_antenna(medium, antenna, *, target=None, depth_m=None, surface_loss_db=None, stacks=None,
+                            area_m2=None, line_length_m=None, speed_m_per_s=None, imaging=False, layers=()) -> dict:
+    """Acquisition settings (human units) for ``antenna`` in ``medium``, with notes and the rules used.
+
+    With a target the full budget decides: the stack count is raised (powers of two) only
+    up to the clutter limit (:func:`subsurf.planning.acquisition.clutter_stack_limit`); a
+    target that does not reach with the margin even there, or that lies inside the blind
+    zone, gets ``reachable = False``, the verdict, no survey time and a note saying why,
+    instead of an impossible survey.
+    """
     import numpy as np
 
-    from ..detection.budget import (
-        REACHES_MARGIN_DB,
-        band_spectrum,
-        margin_db,
-        max_depth,
-        resolution_at_depth,
-    )
+    from ..detection.verdicts import REACHES, REACHES_MARGIN_DB, verdict
     from ..errors import InputError
     from ..safety import CAUTION
     from ..waves.propagation import wave_properties
-    from .acquisition import plan_acquisition, stacks_for_margin
+    from .acquisition import clutter_stack_limit, plan_acquisition, stacks_for_margin
+    from .antennas import antenna_budget_for, target_summary
 
     fc = antenna.centre_freq_hz
     eps, sig = medium.electrical(np.array([fc]))
     w = wave_properties(eps, sig, np.array([fc]))
     notes = []
+    reachable = True
+    verdict_word = None
+    if stacks is not None and stacks < 1:
+        raise InputError(f"--stacks must be >= 1, got {stacks}")
     if depth_m is None:
         if target is None:
             raise InputError("give a --depth of interest, or a target (--target ...) whose maximum depth is used")
-        depth_m = float(max_depth(eps, sig, fc, antenna.effective_performance_db, target=target,
-                                  gain=antenna.gain, surface_loss_db=surface_loss_db)[0])
-        if depth_m <= 0:
-            raise InputError(f"antenna {antenna.name} cannot detect this target at any depth in this ground")
+        probe = antenna_budget_for(medium.electrical, antenna, target, depth_m=1.0, stacks=stacks,
+                                   surface_loss_db=surface_loss_db, layers=layers)
+        depth_m = float(probe["max_depth"])
+        if depth_m <= max(float(probe["min_depth"]), probe["terms"].layer_thickness_m):
+            raise InputError(f"antenna {antenna.name} cannot detect this target at any depth below its blind zone "
+                             f"({float(probe['min_depth']):.2g} m) in this ground")
         target = target.at_depth(depth_m)
         notes.append(f"depth of interest = maximum detectable depth of the target with {antenna.name}")
     margin = None
+    budget = None
     if target is not None:
-        def margin_for(n):
-            a = antenna.with_stacks(int(n))
-            return float(margin_db(depth_m, eps, sig, fc, a.effective_performance_db, target=target,
-                                   gain=a.gain, surface_loss_db=surface_loss_db)[0])
+        budget = antenna_budget_for(medium.electrical, antenna, target, depth_m=depth_m, stacks=stacks,
+                                    surface_loss_db=surface_loss_db, layers=layers)
+        margin0 = float(budget["margin_db"])
+        too_shallow = bool(budget["too_shallow"])
+        limit = clutter_stack_limit(antenna.clutter_limit_db)
         if stacks is None:
-            margin0 = margin_for(antenna.stacks)
-            extra = int(stacks_for_margin(margin0, wanted_db=REACHES_MARGIN_DB))
-            if extra == 0:
-                notes.append(f"even 1024× more stacking would not give a {REACHES_MARGIN_DB:g} dB margin")
+            n = stacks_for_margin(margin0, wanted_db=REACHES_MARGIN_DB, current_stacks=antenna.stacks,
+                                  clutter_limit_db=antenna.clutter_limit_db)
+            if n == 0:
                 stacks = antenna.stacks
             else:
-                stacks = antenna.stacks * extra
-                if extra > 1:
-                    notes.append(f"stacking raised from {antenna.stacks} to {stacks} for a "
-                                 f"{REACHES_MARGIN_DB:g} dB margin")
-        margin = margin_for(stacks)
+                stacks = n
+                if n > antenna.stacks:
+                    notes.append(f"stacking raised from {antenna.stacks} to {stacks} for a {REACHES_MARGIN_DB:g} dB "
+                                 f"margin (clutter limit {antenna.clutter_limit_db:g} dB: at most {limit} stacks help)")
+            if stacks != antenna.stacks:
+                budget = antenna_budget_for(medium.electrical, antenna, target, depth_m=depth_m, stacks=stacks,
+                                            surface_loss_db=surface_loss_db, layers=layers)
+        margin = float(budget["margin_db"])
+        verdict_word = str(verdict(margin, too_shallow=too_shallow))
+        if too_shallow:
+            reachable = False
+            notes.insert(0, f"too shallow: at {depth_m:g} m the echo arrives within the direct wave; this antenna's "
+                            f"blind zone reaches {float(budget['min_depth']):.2g} m (pulse "
+                            f"{antenna.pulse_length * 1e9:.3g} ns, separation {antenna.separation_m:g} m); no survey "
+                            "planned: use a higher-frequency antenna")
+        elif verdict_word != REACHES:
+            reachable = False
+            notes.insert(0, f"out of reach: margin {margin:.1f} dB at {depth_m:g} m with {stacks} stacks, short of "
+                            f"the {REACHES_MARGIN_DB:g} dB needed, and stacking beyond {limit} adds under 1 dB per "
+                            f"doubling (clutter limit {antenna.clutter_limit_db:g} dB); maximum depth "
+                            f"{float(budget['max_depth']):.3g} m; no survey planned: use a lower-frequency antenna "
+                            "or accept a shallower target")
     if stacks is None:
         stacks = antenna.stacks
-    if stacks < 1:
-        raise InputError(f"--stacks must be >= 1, got {stacks}")
-    f, amp = band_spectrum(fc, antenna.bandwidth_hz)
-    eb, sb = medium.electrical(f)
-    res = resolution_at_depth(eb, sb, f, amp, depth_m)
+    if budget is None:
+        from ..detection.targets import Target
+
+        budget = antenna_budget_for(medium.electrical, antenna, Target("planar", reflection=1.0), depth_m=depth_m,
+                                    stacks=stacks, surface_loss_db=surface_loss_db, layers=layers)
     plan = plan_acquisition(
         centre_freq_hz=fc, band_top_hz=antenna.band_top_hz, velocity=float(w.velocity[0]),
         wavelength_m=float(w.wavelength[0]), eps_real=float(w.eps_real[0]), depth_m=depth_m,
-        footprint_radius_m=float(res.footprint_radius_m),
+        footprint_radius_m=float(budget["footprint_radius"]),
         target_size_m=float(target.size_m or 0.0) if target is not None else 0.0,
         antenna_separation_m=antenna.separation_m, trace_rate_hz=antenna.trace_rate_hz, stacks=stacks,
-        speed_m_per_s=speed_m_per_s, area_m2=area_m2, imaging=imaging, line_length_m=line_length_m)
+        speed_m_per_s=speed_m_per_s, area_m2=area_m2 if reachable else None, imaging=imaging,
+        line_length_m=line_length_m)
     settings = {
         "depth_m": plan.depth_m,
         "window_ns": plan.window_s * 1e9,
@@ -103,6 +131,7 @@ def acquisition_for_antenna(medium, antenna, *, target=None, depth_m=None, surfa
         "line_spacing_3d_m": plan.line_spacing_3d_m,
         "optimum_separation_m": plan.optimum_separation_m,
         "antenna_separation_m": plan.antenna_separation_m,
+        "min_depth_m": float(budget["min_depth"]),
         "stacks": plan.stacks,
         "margin_db": margin,
         "max_speed_m_per_s": plan.max_speed_m_per_s,
@@ -115,18 +144,22 @@ def acquisition_for_antenna(medium, antenna, *, target=None, depth_m=None, surfa
     if ratio < 0.5 or ratio > 2.0:
         notes.append(f"this antenna's fixed separation ({plan.antenna_separation_m:.3g} m) differs from the "
                      f"optimum for {plan.depth_m:.3g} m ({plan.optimum_separation_m:.3g} m) by more than ×2")
-    from .antennas import target_summary
-
+    if bool(budget["near_field"]):
+        notes.append(f"near field: {plan.depth_m:.3g} m is within about a wavelength ({float(budget['wavelength_m']):.2g} m) "
+                     "of the antenna; the far-field budget is approximate there")
     return {
         "antenna": antenna.name,
         "illustrative": antenna.illustrative,
         "ground": medium.label,
         "facts": medium.facts,
         "target": None if target is None else target_summary(target),
+        "verdict": verdict_word,
+        "reachable": reachable,
         "ground_at_centre": {"freq_mhz": fc / 1e6, "eps_real": float(w.eps_real[0]),
                              "velocity_m_per_ns": float(w.velocity[0]) / 1e9,
                              "wavelength_m": float(w.wavelength[0]),
                              "attenuation_db_per_m": float(w.attenuation_db_per_m[0])},
+        "received_freq_mhz": float(budget["received_freq_hz"]) / 1e6,
         "settings": settings,
         "rules": {k: rule for k, _, _, _, rule in ROWS_SPEC},
         "area_m2": area_m2,

@@ -72,8 +72,10 @@ class AntennaParameters:
     name: str
     centre_freq_hz: float
     performance_db: float
-    gain: float = 1.0
+    gain: float | None = None  # None: the in-ground coupling model (subsurf.detection.coupling)
     bandwidth_hz: float | None = None
+    separation_m: float = 0.0
+    pulse_length_s: float | None = None  # None: 1.5 periods of the centre frequency
 
 
 def _soil_porosity_limit(texture, bulk_density):
@@ -87,27 +89,32 @@ def _soil_porosity_limit(texture, bulk_density):
     return None if rb is None else 1.0 - np.asarray(rb, dtype=float) / rs
 
 
-def feasibility_chain(moisture, *, freq_hz, performance_db, target, target_depth_m, gain=1.0,
-                      bandwidth_hz=None, sand=None, clay=None, bulk_density=None, temp_c=20.0,
-                      pore_water_ec25=None, pore_water_salinity_psu=None, texture=None,
-                      model="crim", band_points: int = 97, surface_loss_db=None, margin_only: bool = False):
+def feasibility_chain(moisture, *, freq_hz, performance_db, target, target_depth_m, gain=None,
+                      bandwidth_hz=None, separation_m=0.0, pulse_length_s=None, sand=None, clay=None,
+                      bulk_density=None, temp_c=20.0, pore_water_ec25=None, pore_water_salinity_psu=None,
+                      texture=None, model="crim", surface_loss_db=None, margin_only: bool = False):
     """Per-cell chain: soil facts → ε, σ, velocity, attenuation, maximum depth, margin, resolution.
 
     Parameters
     ----------
     moisture : array_like
         Volumetric water content (m³/m³).  NaN marks a cell without data (outputs NaN).
-    freq_hz, performance_db, gain : array_like
-        Antenna centre frequency (Hz), system performance (dB) and one-way gain in the
-        ground; broadcast against the soil fields (e.g. shape (n_antennas, 1) against
-        fields of shape (n_cells,)).
+    freq_hz, performance_db : array_like
+        Antenna centre frequency (Hz) and system performance with stacking (dB); broadcast
+        against the soil fields (e.g. shape (n_antennas, 1) against fields of shape (n_cells,)).
+    gain : array_like or None
+        Fixed one-way gain in the ground (linear; NaN entries and None use the coupling
+        model of :mod:`subsurf.detection.coupling`).
+    separation_m, pulse_length_s : array_like
+        Transmitter–receiver separation (m) and pulse length (s; None: 1.5/f_c) per antenna.
     target : subsurf.detection.Target
         Kind, size and material of the target.
     target_depth_m : float
         Depth of the target's top (m).
     bandwidth_hz : array_like, optional
-        Antenna bandwidth; when given the vertical resolution uses the centroid of the
-        spectrum received from the target depth, otherwise the centre frequency.
+        Antenna bandwidth (Hz): the budget is integrated over the band at the antenna's fixed
+        frequencies (:func:`subsurf.detection.band.band_nodes`), as ``choose`` does; None
+        evaluates it at the centre frequency only.
     sand, clay, bulk_density, temp_c, pore_water_ec25, pore_water_salinity_psu : array_like, optional
         Soil fields in SI as for :class:`subsurf.soil.Soil` (fractions, kg/m³, °C, S/m, PSU).
     texture : str, optional
@@ -121,19 +128,20 @@ def feasibility_chain(moisture, *, freq_hz, performance_db, target, target_depth
     -------
     dict of ndarray
         ``eps_real``, ``eps_imag``, ``sigma`` (S/m), ``velocity`` (m/s),
-        ``attenuation_db_per_m``, ``max_depth`` (m), ``margin_db`` and
-        ``vertical_resolution`` (m), each broadcast over all inputs.
+        ``attenuation_db_per_m`` (at the centre frequency), ``max_depth`` (m), ``margin_db``,
+        ``min_depth`` (m, blind zone), ``too_shallow`` (bool), ``received_freq`` (Hz) and
+        ``vertical_resolution`` (m, λ/4 at the received frequency), broadcast over all inputs.
+        ``margin_only``: ``margin_db`` and ``too_shallow``.
 
     Notes
     -----
-    ε(f), σ from :meth:`subsurf.soil.Soil.electrical`; γ = α + jβ, v = ω/β as in
-    :func:`subsurf.propagation.wave_properties` (the same helper, computed once per block); L(d) = K₀ + 10·p·log10 d + 2·8.686·α·d
-    and the depth where L = P from :func:`subsurf.detection.max_depth` (Lambert W);
-    margin = P − L(d_target); vertical resolution λ_R/4 (Widess 1973).
+    ε(f), σ from :meth:`subsurf.soil.Soil.electrical` at the centre and band frequencies;
+    the budget, depth, blind zone and resolution from
+    :func:`subsurf.detection.evaluate.antenna_budget`, the function ``choose`` uses.
     """
-    from ..detection import budget as detection
+    from ..detection.evaluate import antenna_budget
     from ..ground import Soil
-    from ..waves.propagation import NP_TO_DB
+    from ..waves.propagation import NP_TO_DB, _alpha_beta
 
     fields = {"moisture": moisture, "sand": sand, "clay": clay, "bulk_density": bulk_density,
               "temp_c": temp_c, "pore_water_ec25": pore_water_ec25,
@@ -152,43 +160,66 @@ def feasibility_chain(moisture, *, freq_hz, performance_db, target, target_depth
         b = np.broadcast_to(a, shape)
         filled[k] = np.where(valid, b, b[valid].ravel()[0]) if not np.all(valid) else a
     soil = Soil(texture=texture, model=model, **filled)
-    eps, sigma = soil.electrical(freq_hz)
-    if margin_only:
-        # ε, σ from the Soil just validated: not re-checked (as the full path below)
-        margin = detection._grid_margin(target_depth_m, eps, sigma, freq_hz, performance_db, target=target,
-                                        gain=gain, surface_loss_db=surface_loss_db)
-        return {"margin_db": np.where(np.broadcast_to(valid, np.shape(margin)), margin, np.nan)}
-    # ε, σ come from the Soil just validated: the loss budget skips re-checking them (one α, β evaluation
-    # serves velocity, attenuation, both reflection coefficients, the maximum depth and the margin)
-    dmax, margin, alpha, beta = detection._grid_depth_and_margin(
-        target_depth_m, eps, sigma, freq_hz, performance_db, target=target, gain=gain,
-        surface_loss_db=surface_loss_db)
-    omega = 2.0 * np.pi * np.asarray(freq_hz, dtype=float)
+    freq = np.asarray(freq_hz, dtype=float)
+    pulse = _pulse_lengths(freq, pulse_length_s)
     if bandwidth_hz is None:
-        vres = detection.vertical_resolution(2.0 * np.pi / beta)
+        f_nodes, w_nodes = freq[..., None], np.ones(1)
     else:
-        fc = np.asarray(freq_hz, dtype=float)
-        bw = np.asarray(bandwidth_hz, dtype=float)
-        # one band per antenna: fc, bw of shape (n_ant, 1...) -> spectra on a trailing axis
-        fcs, bws = np.broadcast_arrays(fc, bw)
-        vres = np.empty(np.broadcast_shapes(fcs.shape, np.shape(eps)))
-        band_soil = Soil(texture=texture, model=model, **{k: np.asarray(v)[..., None] for k, v in filled.items()})
-        for idx in np.ndindex(fcs.shape[:1] if fcs.ndim else ()):  # loop over antennas only
-            f, amp = detection.band_spectrum(float(fcs[idx].ravel()[0]), float(bws[idx].ravel()[0]),
-                                             n=band_points)
-            e_b, s_b = band_soil.electrical(f)
-            res = detection.resolution_at_depth(e_b, s_b, f, amp, target_depth_m)
-            vres[idx] = np.broadcast_to(res.vertical_m, vres[idx].shape)
+        f_nodes, w_nodes = _band_axes(freq, np.asarray(bandwidth_hz, dtype=float))
+    band_soil = Soil(texture=texture, model=model, **{k: np.asarray(v)[..., None] for k, v in filled.items()})
+    eps_b, sig_b = band_soil.electrical(f_nodes)
+    fixed_gain = None if gain is None or np.all(np.isnan(np.asarray(gain, dtype=float))) else gain
+    # ε, σ from the Soil just validated: the budget does not re-check them
+    res = antenna_budget(eps_b, sig_b, f_nodes, w_nodes, target, depth_m=target_depth_m,
+                         performance_db=performance_db, pulse_length_s=pulse, separation_m=separation_m,
+                         gain=fixed_gain, surface_loss_db=0.0 if surface_loss_db is None else surface_loss_db,
+                         validate=False, margin_only=margin_only)
+    if margin_only:
+        vm = np.broadcast_to(valid, np.shape(res["margin_db"]))
+        return {"margin_db": np.where(vm, res["margin_db"], np.nan), "too_shallow": res["too_shallow"] & vm}
+    eps, sigma = soil.electrical(freq_hz)
+    omega = 2.0 * np.pi * freq
+    eps_arr = np.asarray(eps)
+    alpha, beta = _alpha_beta(eps_arr.real, -eps_arr.imag, sigma, omega)
     out = {
-        "eps_real": eps.real, "eps_imag": -eps.imag, "sigma": sigma, "velocity": omega / beta,
-        "attenuation_db_per_m": alpha * NP_TO_DB, "max_depth": dmax, "margin_db": margin,
-        "vertical_resolution": vres,
+        "eps_real": eps_arr.real, "eps_imag": -eps_arr.imag, "sigma": sigma, "velocity": omega / beta,
+        "attenuation_db_per_m": alpha * NP_TO_DB, "max_depth": res["max_depth"], "margin_db": res["margin_db"],
+        "min_depth": res["min_depth"], "received_freq": res["received_freq_hz"],
+        "vertical_resolution": res["vertical_resolution"],
     }
+    too_shallow = res["too_shallow"]
     full = np.broadcast_shapes(*(np.shape(v) for v in out.values()))
     if np.all(valid):  # no gaps to blank: skip the masking pass (same values)
-        return {k: v if np.shape(v) == full else np.array(np.broadcast_to(v, full)) for k, v in out.items()}
+        out = {k: v if np.shape(v) == full else np.array(np.broadcast_to(v, full)) for k, v in out.items()}
+        out["too_shallow"] = np.array(np.broadcast_to(too_shallow, full))
+        return out
     vmask = np.broadcast_to(valid, full)
-    return {k: np.where(vmask, np.broadcast_to(v, full), np.nan) for k, v in out.items()}
+    out = {k: np.where(vmask, np.broadcast_to(v, full), np.nan) for k, v in out.items()}
+    out["too_shallow"] = np.broadcast_to(too_shallow, full) & vmask
+    return out
+
+
+def _pulse_lengths(freq, pulse_length_s):
+    """Pulse length per antenna: given, or 1.5 periods of the centre frequency where None/NaN."""
+    from ..detection.blindzone import default_pulse_length
+
+    if pulse_length_s is None:
+        return default_pulse_length(freq)
+    p = np.asarray(pulse_length_s, dtype=float)
+    return np.where(np.isnan(p), default_pulse_length(freq), p)
+
+
+def _band_axes(freq, bandwidth):
+    """Band frequencies and weights with a trailing node axis, one band per antenna (leading axis)."""
+    from ..detection.band import band_nodes
+
+    fc, bw = np.broadcast_arrays(freq, bandwidth)
+    flat_f, flat_b = fc.reshape(fc.shape[0] if fc.ndim else 1, -1)[:, 0], bw.reshape(bw.shape[0] if bw.ndim else 1,
+                                                                                       -1)[:, 0]
+    nodes = [band_nodes(float(f), float(b)) for f, b in zip(flat_f, flat_b)]  # per antenna, not per cell
+    f_nodes = np.stack([n[0] for n in nodes]).reshape(fc.shape + (-1,))
+    w_nodes = np.stack([n[1] for n in nodes]).reshape(fc.shape + (-1,))
+    return f_nodes, w_nodes
 
 
 def apply_scenario(values: dict, scenario) -> dict:
@@ -221,14 +252,28 @@ def _chain_kwargs(values: dict) -> dict:
 
 
 def _antenna_axes(antennas, ndim: int):
+    """(freq, perf, gain, bandwidth) on a leading antenna axis; gain NaN where the coupling model applies."""
+    kw = _antenna_chain_kwargs(antennas, ndim)
+    return kw["freq_hz"], kw["performance_db"], kw["gain"], kw["bandwidth_hz"]
+
+
+def _antenna_chain_kwargs(antennas, ndim: int) -> dict:
+    """Every per-antenna input of :func:`feasibility_chain`, on a leading antenna axis."""
     shape = (-1,) + (1,) * ndim
-    freq = np.array([a.centre_freq_hz for a in antennas], dtype=float).reshape(shape)
+
+    def col(name, default):
+        vals = [getattr(a, name, default) for a in antennas]
+        return np.array([np.nan if v is None else v for v in vals], dtype=float).reshape(shape)
+
+    freq = col("centre_freq_hz", None)
     perf = np.array([getattr(a, "effective_performance_db", a.performance_db) for a in antennas],
                     dtype=float).reshape(shape)
-    gain = np.array([getattr(a, "gain", 1.0) or 1.0 for a in antennas], dtype=float).reshape(shape)
     bws = [getattr(a, "bandwidth_hz", None) for a in antennas]
     bw = None if any(b is None for b in bws) else np.array(bws, dtype=float).reshape(shape)
-    return freq, perf, gain, bw
+    pulses = [getattr(a, "pulse_length", None) or getattr(a, "pulse_length_s", None) for a in antennas]
+    return {"freq_hz": freq, "performance_db": perf, "gain": col("gain", None), "bandwidth_hz": bw,
+            "separation_m": col("separation_m", 0.0), "pulse_length_s": np.array(
+                [np.nan if p is None else p for p in pulses], dtype=float).reshape(shape)}
 
 
 def _clip_moisture(values: dict, *, texture, margin: float = 0.995):
@@ -258,19 +303,16 @@ def evaluate(values: dict, antennas, *, target, target_depth_m, texture=None, mo
         Layers of :func:`feasibility_chain` with a leading antenna axis.
     """
     ndim = np.ndim(next(iter(values.values())))
-    freq, perf, gain, _ = _antenna_axes(antennas, ndim)
     values = _clip_moisture(values, texture=texture)
     try:
-        # Maps use lambda/4 at the centre frequency (bandwidth_hz=None): the received-band centroid of
-        # detection.resolution_at_depth needs a fine frequency grid in lossy ground and costs ~100x more.
-        return feasibility_chain(freq_hz=freq, performance_db=perf, gain=gain, bandwidth_hz=None, target=target,
-                                 target_depth_m=target_depth_m, texture=texture, model=model,
-                                 **_chain_kwargs(values))
+        # the band-integrated budget of `choose` (fixed band frequencies per antenna, no per-cell loop)
+        return feasibility_chain(target=target, target_depth_m=target_depth_m, texture=texture, model=model,
+                                 **_antenna_chain_kwargs(antennas, ndim), **_chain_kwargs(values))
     except SubsurfError as exc:
         raise InputError(f"soil inputs on the grid are not physically possible: {exc}") from None
 
 
-def recommend_antenna(margin_db, freq_hz, *, reaches_db=None):
+def recommend_antenna(margin_db, freq_hz, *, reaches_db=None, too_shallow=None):
     """Index of the recommended antenna per cell (−1 where none reaches the target).
 
     Parameters
@@ -285,10 +327,12 @@ def recommend_antenna(margin_db, freq_hz, *, reaches_db=None):
     resolution) is chosen; where none has that headroom, the antenna with the largest
     non-negative margin; where every margin is negative, −1.
     """
-    from ..detection.budget import REACHES_MARGIN_DB
+    from ..detection.verdicts import REACHES_MARGIN_DB
 
     reaches = REACHES_MARGIN_DB if reaches_db is None else reaches_db
     m = np.asarray(margin_db, dtype=float)
+    if too_shallow is not None:  # inside an antenna's blind zone it does not see the target, whatever the margin
+        m = np.where(np.asarray(too_shallow, dtype=bool), -np.inf, m)
     f = np.asarray(freq_hz, dtype=float).reshape((-1,) + (1,) * (m.ndim - 1))
     good = m >= reaches
     score_f = np.where(good, f, -np.inf)
@@ -332,7 +376,7 @@ def area_fractions(margin_db, mask, *, probability=None, reaches_db=None):
         ``probability`` is given, ``expected_reach`` (mean probability over the site) and
         ``reach_p90`` (probability ≥ 0.9).
     """
-    from ..detection.budget import REACHES_MARGIN_DB
+    from ..detection.verdicts import REACHES_MARGIN_DB
 
     reaches = REACHES_MARGIN_DB if reaches_db is None else reaches_db
     m = np.asarray(margin_db, dtype=float)

@@ -27,8 +27,9 @@ def test_choose_soil_json():
             "--size", "0.6", "--material", "void", "--json")
     assert p.returncode == 0, p.stderr
     out = json.loads(p.stdout)
-    assert len(out["rows"]) == 6 and out["caution"] == CAUTION
-    assert {r["verdict"] for r in out["rows"]} <= {"reaches", "marginal", "does not reach"}
+    assert len(out["rows"]) == 7 and out["caution"] == CAUTION
+    assert {r["verdict"] for r in out["rows"]} <= {"reaches", "marginal", "does not reach", "too shallow"}
+    assert "6 dB" in out["reach_definition"] and out["thresholds"]["reaches_margin_db"] == 6.0
     assert "reason" in out["recommendation"]
 
 
@@ -96,3 +97,51 @@ def test_choose_nan_depth_names_flag():
     """--depth nan: one-line error naming --depth (not an internal parameter or a numpy repr)."""
     p = run("choose", "--eps", "9", "--target", "line", "--depth", "nan", "--size", "0.1")
     assert p.returncode == 1 and "--depth" in p.stderr and "np.float64" not in p.stderr
+
+
+def test_blind_zone_case_no_longer_reaches():
+    """A 2 cm pipe at 5 cm in ε' 9: no antenna 'reaches' (inside every blind zone: d_min = ½√(vτ(2x + vτ)))."""
+    p = run("choose", "--eps", "9", "--sigma", "5", "--target", "line", "--depth", "0.05", "--size", "0.02", "--json")
+    assert p.returncode == 0, p.stderr
+    out = json.loads(p.stdout)
+    low = next(r for r in out["rows"] if r["name"] == "lowband-50")
+    # hand calculation: v = c/3 = 0.0999 m/ns, τ = 30 ns, x = 2 m -> d_min = ½√(3.0·(4 + 3.0)) = 2.29 m
+    assert low["verdict"] == "too shallow" and low["min_depth_m"] == pytest.approx(2.29, abs=0.02)
+    assert all(r["verdict"] != "reaches" for r in out["rows"]) and out["recommendation"]["antenna"] is None
+
+
+def test_setup_never_exceeds_clutter_limit_and_says_out_of_reach():
+    """setup raises stacks only up to the clutter limit (64 at 15 dB) and plans no survey when out of reach."""
+    for depth in ("1.0", "1.2", "1.4", "1.6", "2.5"):
+        p = run("setup", "--antenna", "midband-250", "--texture", "loam", "--moisture", "20 %", "--target", "line",
+                "--depth", depth, "--size", "0.1", "--material", "metal", "--area", "2000 m^2", "--json")
+        assert p.returncode == 0, p.stderr
+        out = json.loads(p.stdout)
+        assert out["settings"]["stacks"] <= 64
+        if not out["reachable"]:
+            assert out["settings"]["survey_time_h"] is None and "no survey planned" in out["notes"][0]
+    p = run("setup", "--antenna", "midband-250", "--texture", "loam", "--moisture", "20 %", "--target", "line",
+            "--depth", "2.5", "--size", "0.1", "--material", "metal", "--area", "2000 m^2")
+    assert p.returncode == 0 and "no survey planned" in p.stdout and "survey time" not in p.stdout
+
+
+@pytest.mark.parametrize("args,flag", [
+    (("--over", "0 m asphalt"), "--over"),
+    (("--over", "-0.1 m asphalt"), "--over"),
+    (("--over", "0.1 m cheese"), "--over"),
+    (("--orientation", "sideways"), "--orientation"),
+])
+def test_bad_layer_and_orientation_one_line(args, flag):
+    """Bad layer thickness/material or orientation word: exit 1, one line naming the flag and what is allowed."""
+    p = run("choose", "--eps", "9", "--target", "line", "--depth", "1", "--size", "0.1", *args)
+    assert p.returncode == 1 and flag in p.stderr and len(p.stderr.strip().splitlines()) == 1
+    assert "allowed" in p.stderr or "must be" in p.stderr
+
+
+def test_layers_cost_depth_and_are_shown():
+    """An asphalt and fill layer over the ground is named in the output and lowers the 400 MHz margin."""
+    base = ("choose", "--eps", "9", "--sigma", "5", "--target", "line", "--depth", "1", "--size", "0.1", "--json",
+            "--antenna", "midband-400")
+    bare = json.loads(run(*base).stdout)["rows"][0]
+    out = json.loads(run(*base, "--over", "0.08 m asphalt", "--over", "0.2 m concrete_wet").stdout)
+    assert out["layers"][0]["material"] == "asphalt" and out["rows"][0]["margin_db"] < bare["margin_db"]

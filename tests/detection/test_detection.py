@@ -7,7 +7,7 @@ from hypothesis import strategies as st
 from scipy import constants, special
 from scipy.optimize import brentq
 
-from subsurf.detection import budget as D
+import subsurf.detection as D
 from subsurf.errors import InputError, ModelRangeWarning
 from subsurf.waves import propagation as P
 
@@ -27,22 +27,13 @@ def test_max_depth_matches_brentq_root(target):
     assert d == pytest.approx(root, rel=1e-9)
 
 
-@pytest.mark.parametrize("target", KINDS, ids=lambda t: t.kind)
-def test_lossless_limit_closed_form(target):
-    """With α = 0 the depth is 10^((P − K₀)/(10p)) exactly (closed form of the lossless budget)."""
-    eps, f, perf = 4.0, 100e6, 80.0
-    k0, p, alpha = D.loss_constant_db(eps, 0.0, f, target, surface_loss_db=0.0)
-    assert float(alpha) == 0.0
-    expected = 10 ** ((perf - float(k0)) / (10 * p))
-    assert float(D.max_depth(eps, 0.0, f, perf, target=target, surface_loss_db=0.0)) == pytest.approx(
-        expected, rel=1e-12)
-
-
 def test_planar_budget_agrees_with_propagation_module():
-    """With no surface loss the planar budget reproduces DESIGN.md's fixed propagation.max_detectable_depth."""
+    """With a fixed gain, one frequency, no layers or separation the budget is DESIGN.md's max_detectable_depth."""
+    from subsurf.propagation import max_detectable_depth
+
     t = D.Target("planar", reflection=0.4)
-    mine = D.max_depth(9.0, 0.005, 200e6, 100.0, target=t, gain=3.0, surface_loss_db=0.0)
-    theirs = P.max_detectable_depth(9.0, 0.005, 200e6, 100.0, target="planar", reflection=0.4, gain=3.0)
+    mine = D.max_depth(9.0, 0.005, 200e6, 100.0, target=t, gain=3.0)
+    theirs = max_detectable_depth(9.0, 0.005, 200e6, 100.0, target="planar", reflection=0.4, gain=3.0)
     assert float(mine) == pytest.approx(float(theirs), rel=1e-12)
 
 
@@ -69,18 +60,14 @@ def test_textbook_dielectric_reflection(eps_host, eps_target, expected):
     assert complex(D.target_reflection(eps_host, 0.0, 100e6, t)) == pytest.approx(expected, abs=1e-12)
 
 
-def test_surface_loss_for_eps_nine():
-    """Two-way plane-wave air–ground loss for ε' = 9 is −20·log10(0.75) = 2.50 dB (hand calculation)."""
-    assert float(D.surface_transmission_loss_db(9.0, 0.0, 100e6)) == pytest.approx(-20 * np.log10(0.75))
-
-
 @pytest.mark.parametrize("target", [METAL_LINE, VOID], ids=lambda t: t.kind)
 def test_point_and_line_loss_match_radar_equation_written_here(target):
     """L(d) of point and line targets equals the radar range equation written independently here.
 
     Point: P_r/P_t = G²λ²σ/((4π)³d⁴) (Daniels 2004, ch. 4).  Line: the same equation with the
-    finite-cylinder cross-section σ = 2σ₂L²/λ (Knott et al. 2004) over the first Fresnel zone
-    L² = 2λd; surface loss −20·log10(1 − |R|²) with the lossless air–ground R = (1 − √ε)/(1 + √ε).
+    finite-cylinder cross-section σ = 2σ₂L²/λ (Knott et al. 2004) over the stationary-phase length
+    L² = λd/2 (checked against a physical-optics integral in test_budget_physics), i.e. σ = σ₂·d.
+    Fixed gain, one frequency, no surface loss (the coupling model is checked separately).
     """
     eps, sigma, f, d, gain = 9.0, 0.004, 250e6, 1.7, 2.0
     omega = 2 * np.pi * f
@@ -89,13 +76,10 @@ def test_point_and_line_loss_match_radar_equation_written_here(target):
     if target.kind == "point":
         cross = float(D.radar_cross_section(eps, sigma, f, target))
     else:
-        cross = float(D.echo_width(eps, sigma, f, target)) * 2 * (2 * lam * d) / lam
+        cross = float(D.echo_width(eps, sigma, f, target)) * 2 * (lam * d / 2) / lam
     ratio = gain**2 * lam**2 * cross / ((4 * np.pi) ** 3 * d**4) * np.exp(-4 * alpha * d)
-    # small σ: the air–ground R of the lossy ground differs from the lossless one by < 1e-4 dB here
-    r_surface = (1 - np.sqrt(eps)) / (1 + np.sqrt(eps))
-    expected = -10 * np.log10(ratio) - 20 * np.log10(1 - r_surface**2)
     got = float(D.two_way_loss_db(d, eps, sigma, f, target, gain=gain))
-    assert got == pytest.approx(expected, abs=2e-3)
+    assert got == pytest.approx(-10 * np.log10(ratio), abs=1e-9)
 
 
 def _exact_echo_width_pec(ka, k):
@@ -156,31 +140,6 @@ def test_line_depth_between_planar_and_point():
         L = D.two_way_loss_db(d, 9.0, 0.0, 100e6, t)
         slopes.append(L[1] - L[0])
     assert slopes == pytest.approx([20.0, 30.0, 40.0])
-
-
-def test_downshift_vanishes_without_loss():
-    """In a lossless ground the received centroid equals the transmitted one (no downshift)."""
-    f, amp = D.band_spectrum(250e6, 250e6)
-    w = P.wave_properties(9.0, 0.0, f)
-    assert float(D.received_centroid_frequency(f, amp, w.alpha, 3.0)) == pytest.approx(250e6, rel=1e-9)
-
-
-def test_downshift_grows_with_conductivity():
-    """The downshift grows with conductivity in a ground whose ε'' rises with frequency."""
-    f, amp = D.band_spectrum(500e6, 500e6)
-    eps = 9.0 - 1j * 0.5 * (f / 500e6)  # dielectric loss rising with frequency
-    shifts = [500e6 - float(D.received_centroid_frequency(f, amp, P.wave_properties(eps, s, f).alpha, 1.0))
-              for s in (0.0, 0.02, 0.1)]
-    assert 0 < shifts[0] < shifts[1] < shifts[2]
-
-
-def test_downshift_quan_harris_closed_form():
-    """Gaussian spectrum, α = α₁f: shift = 2α₁·d·s² (Quan & Harris 1997); 0.3 % for the ±4s band cut."""
-    fc, bw, d, a1 = 300e6, 100e6, 0.8, 2e-9
-    f, amp = D.band_spectrum(fc, bw, n=4001)
-    s = bw / (2 * np.sqrt(np.log(2)))
-    got = float(D.received_centroid_frequency(f, amp, a1 * f, d))
-    assert fc - got == pytest.approx(2 * a1 * d * s**2, rel=3e-3)
 
 
 def test_fresnel_radius_textbook_value():
@@ -266,31 +225,3 @@ def test_target_wider_than_footprint_warns():
     t = D.Target("point", depth_m=0.2, size_m=3.0, conductor=True)
     with pytest.warns(ModelRangeWarning, match="footprint"):
         D.check_target_footprint(t, 0.3)
-
-
-def test_received_centroid_matches_quadrature_in_lossy_ground():
-    """Received centroid on the default grid within 0.5 % of scipy quad of the continuous integral."""
-    import cmath
-
-    from scipy import constants
-    from scipy.integrate import quad
-
-    from subsurf.detection.budget import band_spectrum, received_centroid_frequency
-    from subsurf.waves.propagation import wave_properties
-
-    eps, sig, fc, bw, d = 12.0, 0.04, 250e6, 250e6, 1.5  # lossy: the band's low edge dominates
-    f, amp = band_spectrum(fc, bw)
-    fr = received_centroid_frequency(f, amp, wave_properties(eps, sig, f).alpha, d)
-    s = bw / (2 * np.sqrt(np.log(2)))
-    lo, hi = f[0], f[-1]
-
-    def alpha(x):  # independent complex square root of jωμ(σ + jωε₀ε)
-        om = 2 * np.pi * x
-        return cmath.sqrt(1j * om * constants.mu_0 * (sig + 1j * om * constants.epsilon_0 * eps)).real
-
-    def weight(x):
-        return np.exp(-((x - fc) ** 2) / (2 * s**2) - 2 * alpha(x) * d)
-
-    num = quad(lambda x: x * weight(x), lo, hi, limit=200)[0]
-    den = quad(weight, lo, hi, limit=200)[0]
-    assert fr == pytest.approx(num / den, rel=5e-3)

@@ -2,6 +2,7 @@
 
 import math
 
+import numpy as np
 import pytest
 from scipy import constants
 
@@ -42,8 +43,22 @@ def test_annan_separation_rule():
 
 
 def test_stacks_for_margin_powers_of_two():
-    """A 3 dB shortfall needs 2 stacks; 7 dB needs 8 (10·log10 N ≥ shortfall); enough margin needs 1."""
-    assert [Q.stacks_for_margin(m, wanted_db=6.0) for m in (3.0, -1.0, 10.0)] == [2, 8, 1]
+    """Without clutter (60 dB ceiling) a 3 dB shortfall needs 2 stacks, 7 dB needs 8 (10·log10 N, Annan 2009)."""
+    got = [Q.stacks_for_margin(m, wanted_db=6.0, clutter_limit_db=60.0) for m in (3.0, -1.0, 10.0)]
+    assert got == [2, 8, 1]
+
+
+def test_stacking_never_beyond_clutter_limit():
+    """Stacking stops where a doubling adds < 1 dB: 64 stacks for a 15 dB clutter ceiling; beyond it, 0 (out of reach).
+
+    Hand calculation: G(N) = 10·log10((1 + c)/(1/N + c)), c = 10^-1.5 = 0.0316: G(64) − G(32) = 1.24 dB,
+    G(128) − G(64) = 0.78 dB.
+    """
+    assert Q.clutter_stack_limit(15.0) == 64
+    for shortfall in np.linspace(0.0, 30.0, 61):
+        n = Q.stacks_for_margin(6.0 - shortfall, wanted_db=6.0, clutter_limit_db=15.0)
+        assert n <= 64
+    assert Q.stacks_for_margin(6.0 - 14.0, wanted_db=6.0, clutter_limit_db=15.0) == 0  # 14 dB > G(64) = 13.3 dB
 
 
 def test_max_speed():

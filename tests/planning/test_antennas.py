@@ -5,7 +5,7 @@ import math
 import numpy as np
 import pytest
 
-from subsurf.detection import budget as D
+from subsurf.detection.targets import Target, target_reflection
 from subsurf.errors import FileInputError, InputError
 from subsurf.planning import antennas as A
 
@@ -22,10 +22,19 @@ def test_catalogue_spans_50_mhz_to_2_ghz_and_is_marked_illustrative():
     assert all(a.illustrative for a in cat.values())
 
 
-def test_stacking_gain():
-    """Stacking N traces adds 10·log10(N) dB (incoherent noise; Annan 2009)."""
+def test_stacking_gain_is_clutter_limited():
+    """Stacking adds 10·log10(N) dB while noise dominates (Annan 2009) and never more than the clutter ceiling.
+
+    G(N) = 10·log10((1 + c)/(1/N + c)), c = 10^(−C/10): for N ≪ 1/c within 0.2 dB of 10·log10 N; the limit
+    N → ∞ is 10·log10(1 + 1/c) (closed form), i.e. the ceiling C to 0.14 dB for C = 15 dB.
+    """
     a = A.get_antenna("lowband-50")
-    assert a.effective_performance_db - a.performance_db == pytest.approx(10 * math.log10(a.stacks))
+    assert a.effective_performance_db - a.performance_db == pytest.approx(
+        float(A.clutter_limited_stacking_gain_db(a.stacks, a.clutter_limit_db)))
+    assert float(A.clutter_limited_stacking_gain_db(2, 40.0)) == pytest.approx(10 * math.log10(2), abs=2e-3)
+    assert float(A.clutter_limited_stacking_gain_db(4, 15.0)) == pytest.approx(10 * math.log10(4), abs=0.5)
+    big = float(A.clutter_limited_stacking_gain_db(2**40, 15.0))
+    assert big == pytest.approx(10 * math.log10(1 + 10**1.5), abs=1e-6) and big < 15.2
 
 
 def test_unknown_antenna_lists_available():
@@ -46,7 +55,7 @@ def test_catalogue_bad_field_names_file_and_field(tmp_path):
 def test_metal_material_is_perfect_conductor():
     """The 'metal' material becomes a perfect-conductor target (|R| = 1)."""
     t = A.make_target("line", depth_m=1.0, size_m=0.1, material="metal")
-    assert t.conductor and abs(complex(D.target_reflection(9.0, 0.0, 1e8, t))) == 1.0
+    assert t.conductor and abs(complex(target_reflection(9.0, 0.0, 1e8, t))) == 1.0
 
 
 def test_unknown_material_lists_available():
@@ -65,10 +74,12 @@ def test_empirical_35_over_sigma_rule():
     """Planar reflector (|R| = 0.3) depths agree with 35/σ[mS/m] m (Annan 2009, common rule of thumb).
 
     Agreement range: for 10-100 mS/m and ε' 5-25 every bundled antenna predicts between
-    0.33 and 2.5 times the rule (antennas up to 250 MHz: 0.7 to 2.1 times); the rule ignores
-    ε' and frequency, so exact agreement is not expected.
+    0.33 and 2.5 times the rule (antennas up to 250 MHz: 0.6 to 2.4 times; measured 0.36-2.33 and
+    0.63-2.33 with the band-integrated, coupled, bistatic budget and the noise-bandwidth catalogue);
+    the rule ignores ε' and frequency, so exact agreement is not expected.  The catalogue is not
+    fitted to this rule.
     """
-    t = D.Target("planar", depth_m=0.1, reflection=0.3)
+    t = Target("planar", depth_m=0.1, reflection=0.3)
     ratios, low_ratios = [], []
     for eps in (5, 9, 16, 25):
         for s_ms in (10, 20, 50, 100):
@@ -78,7 +89,7 @@ def test_empirical_35_over_sigma_rule():
                 if r["centre_freq_hz"] <= 250e6:
                     low_ratios.append(q)
     assert 1 / 3 < min(ratios) and max(ratios) < 2.5
-    assert 0.7 < min(low_ratios) and max(low_ratios) < 2.2
+    assert 0.6 < min(low_ratios) and max(low_ratios) < 2.4
 
 
 def test_recommendation_is_finest_resolution_that_reaches():
@@ -98,14 +109,24 @@ def test_no_antenna_reaches_gives_no_recommendation():
     assert name is None and "no antenna" in reason
 
 
-def test_rows_agree_with_direct_budget():
-    """Ranking rows reproduce detection.max_depth for each antenna (stacking and gain included)."""
-    t = A.make_target("planar", depth_m=2.0, material="water_table")
-    a = A.get_antenna("lowband-100")
-    row = _rows(9.0, 0.004, t, ["lowband-100"])[0]
-    direct = D.max_depth(9.0, 0.004, a.centre_freq_hz, a.performance_db + 10 * math.log10(a.stacks),
-                         target=t, gain=a.gain)
-    assert row["max_depth_m"] == pytest.approx(float(direct), rel=1e-12)
+def test_catalogue_performance_follows_noise_bandwidth():
+    """Illustrative single-trace figures fall 10 dB per decade of bandwidth (kTB noise; Skolnik 2001, ch. 2)."""
+    for a in A.load_catalogue().values():
+        assert a.performance_db == pytest.approx(80.0 - 10 * math.log10(a.bandwidth_hz / 100e6), abs=0.05)
+    assert "midband-400" in A.load_catalogue()  # the common utility band
+
+
+def test_catalogue_pulse_length_and_bad_values(tmp_path):
+    """Each antenna has a pulse length; a pulse length <= 0 or a negative separation names the field."""
+    assert all(a.pulse_length > 0 for a in A.load_catalogue().values())
+    base = "[antenna.x]\ncentre_frequency_mhz = 100\nbandwidth_mhz = 100\nsystem_performance_db = 80\ntrace_rate_hz = 10\n"
+    p = tmp_path / "c.toml"
+    p.write_text(base + "separation_m = 1\npulse_length_ns = 0\n")
+    with pytest.raises(FileInputError, match="pulse_length_ns"):
+        A.load_catalogue(p)
+    p.write_text(base + "separation_m = -1\n")
+    with pytest.raises(FileInputError, match="separation_m"):
+        A.load_catalogue(p)
 
 
 def test_material_alias_is_shown_with_what_it_stands_for():

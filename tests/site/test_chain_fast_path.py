@@ -1,5 +1,5 @@
 """The grid chain's lean formulation: real-valued Lambert W, α and β in real arithmetic,
-|R|² from propagation constants, and the whole chain against a straightforward evaluation."""
+|R|² from propagation constants, and the whole chain against the per-antenna budget of `choose`."""
 
 from __future__ import annotations
 
@@ -7,12 +7,12 @@ import numpy as np
 import pytest
 from scipy import constants, special
 
-from subsurf.detection import budget as detection
+from subsurf.detection.solver import lambertw_of_exp
 from subsurf.ground import Soil
 from subsurf.ground.mixing import _sqrt_passive, crim_permittivity
-from subsurf.planning.antennas import load_catalogue, make_target
+from subsurf.planning.antennas import antenna_budget_for, load_catalogue, make_target
 from subsurf.site.feasibility import evaluate
-from subsurf.waves.propagation import _alpha_beta, _reflection_power_from_gamma, lambertw_of_exp
+from subsurf.waves.propagation import _alpha_beta, _reflection_power_from_gamma
 
 EPS0, MU0 = constants.epsilon_0, constants.mu_0
 NP_TO_DB = 20.0 / np.log(10.0)
@@ -117,37 +117,22 @@ def test_crim_equals_refractive_index_average():
     np.testing.assert_allclose(crim_permittivity(theta, phi, 4.7, ew), want, rtol=1e-14)
 
 
-# --- the whole chain against a straightforward evaluation ---------------------------------------
+# --- the whole chain against the per-antenna budget that `choose` uses -------------------------
 
-def _straightforward(soil_kw, antennas, target, depth_m):
-    """Per antenna: Soil.electrical, complex γ and impedances, K₀, scipy's Lambert W; no shared helpers."""
-    out = {k: [] for k in ("velocity", "attenuation_db_per_m", "max_depth", "margin_db", "vertical_resolution")}
-    et = complex(target.eps)
+def _per_antenna(soil_kw, antennas, target, depth_m):
+    """Per antenna: the planning path of `choose` (antenna_budget_for) on a Soil with a band axis."""
+    out = {k: [] for k in ("max_depth", "margin_db", "min_depth", "vertical_resolution", "received_freq")}
+    kw = {k: np.asarray(v)[..., None] for k, v in soil_kw.items()}
     for a in antennas:
-        f = a.centre_freq_hz
-        eps, sigma = Soil(texture="loam", **soil_kw).electrical(f)
-        omega = 2 * np.pi * f
-        g = _gamma_reference(eps, sigma, f)
-        z = 1j * omega * MU0 / g
-        z_t = 1j * omega * MU0 / _gamma_reference(et, target.sigma, f)
-        z_air = 1j * omega * MU0 / _gamma_reference(1.0, 0.0, f)
-        r2 = np.abs((z_t - z) / (z_t + z)) ** 2
-        surface = -20 * np.log10(1 - np.abs((z - z_air) / (z + z_air)) ** 2)
-        lam = 2 * np.pi / g.imag
-        k0 = -10 * np.log10(a.gain**2 * lam**2 * r2 / ((4 * np.pi) ** 2 * 4.0)) + surface
-        perf = a.effective_performance_db
-        kappa = (perf - k0) * np.log(10) / 20.0  # p = 2 (planar)
-        b = 2.0 * g.real
-        out["max_depth"].append(special.lambertw(b * np.exp(kappa), 0).real / b)
-        out["margin_db"].append(perf - (k0 + 20 * np.log10(depth_m) + 2 * NP_TO_DB * g.real * depth_m))
-        out["velocity"].append(omega / g.imag)
-        out["attenuation_db_per_m"].append(g.real * NP_TO_DB)
-        out["vertical_resolution"].append(lam / 4.0)
+        b = antenna_budget_for(Soil(texture="loam", **kw).electrical, a, target, depth_m=depth_m)
+        for k, src in (("max_depth", "max_depth"), ("margin_db", "margin_db"), ("min_depth", "min_depth"),
+                       ("vertical_resolution", "vertical_resolution"), ("received_freq", "received_freq_hz")):
+            out[k].append(np.broadcast_to(b[src], np.shape(soil_kw["moisture"])))
     return {k: np.array(v) for k, v in out.items()}
 
 
-def test_chain_equals_straightforward_evaluation():
-    """evaluate() on a seeded random grid equals Soil → complex γ → impedances → scipy Lambert W per antenna."""
+def test_chain_equals_choose_budget_per_antenna():
+    """evaluate() on a seeded random grid equals, cell by cell, the budget `choose` evaluates per antenna."""
     rng = np.random.default_rng(15)
     shape = (12, 17)
     values = {"moisture": rng.uniform(0.03, 0.4, shape), "pore_water_ec": 10 ** rng.uniform(-3, 0, shape),
@@ -156,26 +141,22 @@ def test_chain_equals_straightforward_evaluation():
     target = make_target("planar", depth_m=1.5, material="water_table")
     got = evaluate(values, antennas, target=target, target_depth_m=1.5, texture="loam")
     soil_kw = {"moisture": values["moisture"], "pore_water_ec25": values["pore_water_ec"], "clay": values["clay"]}
-    want = _straightforward(soil_kw, antennas, target, 1.5)
-    for key in ("velocity", "attenuation_db_per_m", "max_depth", "vertical_resolution"):
+    want = _per_antenna(soil_kw, antennas, target, 1.5)
+    for key in ("max_depth", "min_depth", "vertical_resolution", "received_freq"):
         np.testing.assert_allclose(got[key], want[key], rtol=1e-10, atol=0, err_msg=key)
-    # margins pass through 0 dB: relative 1e-10, or 1e-9 dB absolute (losses of ~100 dB cancel)
     np.testing.assert_allclose(got["margin_db"], want["margin_db"], rtol=1e-10, atol=1e-9)
 
 
 @pytest.mark.parametrize("target", [make_target("point", depth_m=1.0, size_m=0.3, material="air"),
                                     make_target("line", depth_m=1.0, size_m=0.1, material="metal"),
                                     make_target("planar", depth_m=1.0, reflection=0.3)])
-def test_chain_other_targets_equal_public_max_depth(target):
-    """For point, line and explicit-R targets the grid path equals detection.max_depth / margin_db per cell."""
+def test_chain_other_targets_equal_choose_budget(target):
+    """For point, line and explicit-R targets the grid path equals the per-antenna budget per cell."""
     rng = np.random.default_rng(16)
     m = rng.uniform(0.05, 0.35, (4, 5))
     ants = list(load_catalogue().values())[:3]
     got = evaluate({"moisture": m, "pore_water_ec": np.full_like(m, 0.02)}, ants, target=target,
                    target_depth_m=1.0, texture="loam")
-    for i, a in enumerate(ants):
-        eps, sig = Soil(moisture=m, pore_water_ec25=0.02, texture="loam").electrical(a.centre_freq_hz)
-        want = detection.max_depth(eps, sig, a.centre_freq_hz, a.effective_performance_db, target=target, gain=a.gain)
-        marg = detection.margin_db(1.0, eps, sig, a.centre_freq_hz, a.effective_performance_db, target=target, gain=a.gain)
-        np.testing.assert_allclose(got["max_depth"][i], want, rtol=1e-12)
-        np.testing.assert_allclose(got["margin_db"][i], marg, rtol=1e-12, atol=1e-10)
+    want = _per_antenna({"moisture": m, "pore_water_ec25": np.full_like(m, 0.02)}, ants, target, 1.0)
+    np.testing.assert_allclose(got["max_depth"], want["max_depth"], rtol=1e-12)
+    np.testing.assert_allclose(got["margin_db"], want["margin_db"], rtol=1e-12, atol=1e-10)

@@ -200,10 +200,11 @@ def collect(survey_path, *, map_result: dict | None = None, bar=None) -> dict:
         step("maximum depth")
         eps_f, sig_f = site.soil.electrical(REPORT_FREQS_HZ)
         perf = sorted({round(a.effective_performance_db, 1) for a in antennas})
-        gains = [a.gain for a in antennas]
-        g_med = float(np.median(gains))
+        gains = [a.gain for a in antennas if a.gain is not None]  # None: the in-ground coupling model
+        g_med = float(np.median(gains)) if gains else None
         levels = [perf[0]] if len(perf) == 1 else [perf[-1], perf[0]]
-        curves = [(f"system performance {p:g} dB, gain {10 * math.log10(g_med):.0f} dBi",
+        g_text = f"gain {10 * math.log10(g_med):.0f} dBi" if g_med else "in-ground coupling gain"
+        curves = [(f"system performance {p:g} dB, {g_text}",
                    np.asarray(max_depth(eps_f, sig_f, REPORT_FREQS_HZ, p, target=target, gain=g_med), float))
                   for p in levels]
 

@@ -49,7 +49,7 @@ def environment():
 def render_html(data: dict) -> str:
     """The complete, self-contained HTML page for the content of :func:`.content.collect`."""
     from ... import __version__
-    from ...detection.budget import REACHES_MARGIN_DB
+    from ...detection.verdicts import REACHES_MARGIN_DB
 
     titles = dict(SECTIONS)
     sections = [(sid, titles[sid], build(data)) for sid, build in SECTION_BUILDERS.items()]
