@@ -303,7 +303,7 @@ def _q_star(amplitude, t, dt, t0, t_start, t_pen, curve, noise, fc, n_traces) ->
 
 
 def effective_performance(penetration_m: float, attenuation_db_per_m: float, velocity: float, freq_hz: float, *,
-                          penetration_se_m: float = 0.0, attenuation_se_db_per_m: float = 0.0, gain: float = 1.0,
+                          penetration_se_m: float = 0.0, attenuation_se_db_per_m: float = 0.0, gain: float | None = 1.0,
                           reference_reflection: float = 0.1) -> tuple[float, float]:
     """System performance (dB) that puts the maximum detectable depth at the observed penetration.
 
@@ -313,8 +313,8 @@ def effective_performance(penetration_m: float, attenuation_db_per_m: float, vel
         Observed penetration (m).
     attenuation_db_per_m, velocity, freq_hz : float
         Site attenuation (dB/m), velocity (m/s) and the frequency they hold at (Hz).
-    gain : float
-        One-way antenna gain (linear), as in the catalogue.
+    gain : float or None
+        One-way antenna gain (linear), as in the catalogue; None: the in-ground coupling model.
     reference_reflection : float
         |R| of the faintest reflectors that were still seen (planar); 0.1 is the order of
         a soil-stratigraphy contrast, e.g. ε' 9 over 13 (common practice).

@@ -45,7 +45,7 @@ def calibration_record(cal, *, profile, fmt: str, antenna, stacks: int, performa
 
     q = cal.q_star
     fit = cal.attenuation_fit
-    single = performance_db - 10.0 * math.log10(stacks)
+    single = performance_db - antenna.with_stacks(stacks).stacking_gain_db  # the clutter-limited stacking gain
     return {
         "schema": SCHEMA,
         "schema_version": SCHEMA_VERSION,
@@ -59,7 +59,7 @@ def calibration_record(cal, *, profile, fmt: str, antenna, stacks: int, performa
                     "dropped_traces": dict(profile.dropped)},
         "antenna": {"name": antenna.name, "centre_freq_mhz": _num(antenna.centre_freq_hz / 1e6),
                     "bandwidth_mhz": _num(antenna.bandwidth_hz / 1e6), "separation_m": _num(cal.separation_m),
-                    "gain_dbi": _num(10.0 * math.log10(antenna.gain)),
+                    "gain_dbi": None if antenna.gain is None else _num(10.0 * math.log10(antenna.gain)),
                     "catalogue_performance_db": _num(antenna.performance_db), "illustrative": antenna.illustrative},
         "time_zero": {"ns": _num(cal.time_zero.time_s * 1e9), "se_ns": _num(cal.time_zero.se_s * 1e9),
                       "method": cal.time_zero.method},

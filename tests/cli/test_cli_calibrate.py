@@ -82,8 +82,11 @@ def test_choose_with_calibration_says_so(calibration):
     rec = json.loads(path.read_text())
     row = next(r for r in out["rows"] if r["name"] == "midband-250")
     stacks = rec["effective_performance"]["stacks"]
+    from subsurf.planning.antennas import CLUTTER_LIMIT_DB, clutter_limited_stacking_gain_db
+
     assert row["performance_db"] == pytest.approx(rec["effective_performance"]["single_trace_db"]
-                                                  + 10 * np.log10(stacks), abs=0.01)
+                                                  + float(clutter_limited_stacking_gain_db(stacks, CLUTTER_LIMIT_DB)),
+                                                  abs=0.01)
     assert row["model_max_depth_m"] is not None
 
 
