@@ -13,6 +13,8 @@ from __future__ import annotations
 
 from pathlib import Path
 
+from ..detection.budget import REACHES_MARGIN_DB
+
 __all__ = ["NETCDF_NAME", "SUMMARY_COLUMNS", "GEOTIFF_LAYERS", "output_paths", "write_map_outputs", "run_map"]
 
 NETCDF_NAME = "feasibility.nc"
@@ -24,7 +26,7 @@ GEOTIFF_LAYERS = ("max_depth", "margin_db", "reach_probability")
 SUMMARY_COLUMNS = (
     ("scenario", "scenario", "", "s"), ("antenna", "antenna", "", "s"),
     ("centre_frequency_mhz", "f_c", "MHz", ".0f"), ("reach_pct", "reaches", "% area", ".0f"),
-    ("reach_headroom_pct", "reaches +6 dB", "% area", ".0f"),
+    ("reach_headroom_pct", f"reaches +{REACHES_MARGIN_DB:g} dB", "% area", ".0f"),
     ("expected_reach_pct", "mean P(reach)", "%", ".0f"), ("reach_p90_pct", "P(reach)>=0.9", "% area", ".0f"),
     ("median_max_depth_m", "median max depth", "m", ".2f"), ("recommended_pct", "recommended", "% area", ".0f"),
 )

@@ -96,6 +96,7 @@ def compute_maps(survey, *, quiet: bool = True) -> FeasibilityMaps:
     """
     import xarray as xr
 
+    from ..detection.budget import REACHES_MARGIN_DB
     from ..io.progress import steps
     from . import feasibility as fz
     from .grid import build_grid, soil_on_grid
@@ -141,7 +142,8 @@ def compute_maps(survey, *, quiet: bool = True) -> FeasibilityMaps:
         ds[k] = (dims, np.stack(arrs).astype(np.float32), dict(fz.LAYER_ATTRS[k], grid_mapping="crs"))
     names = " ".join(["outside_site", "none_reaches"] + [a.name.replace(" ", "_") for a in antennas])
     ds["recommended_antenna"] = (("scenario", "y", "x"), np.stack(rec_all), {
-        "long_name": "recommended antenna (highest frequency with >= 6 dB margin, else largest margin >= 0)",
+        "long_name": f"recommended antenna (highest frequency with >= {REACHES_MARGIN_DB:g} dB margin, else largest "
+                     "margin >= 0)",
         "flag_values": np.arange(-2, n_ant, dtype=np.int16), "flag_meanings": names, "grid_mapping": "crs"})
     for q in soil.data_vars:
         ds["soil_" + q if q not in ("distance_to_sample", "extrapolated") else q] = soil[q]
@@ -171,7 +173,7 @@ def summary_rows(maps: FeasibilityMaps) -> list[dict]:
     """Area fractions per scenario and antenna, in percent of the cells inside the site.
 
     Keys: ``scenario``, ``antenna``, ``centre_frequency_mhz``, ``reach_pct`` (margin ≥ 0),
-    ``reach_headroom_pct`` (margin ≥ the reach threshold, 6 dB), ``expected_reach_pct``
+    ``reach_headroom_pct`` (margin ≥ the reach threshold, :data:`subsurf.detection.budget.REACHES_MARGIN_DB`), ``expected_reach_pct``
     (mean reach probability), ``reach_p90_pct`` (probability ≥ 0.9), ``median_max_depth_m``
     and ``recommended_pct`` (area where the antenna is the recommended one).
     """

@@ -15,6 +15,7 @@ from pathlib import Path
 
 import numpy as np
 
+from ...detection.budget import REACHES_MARGIN_DB
 from .content import REPORT_FREQS_HZ, ground_table, site_geometry
 from .texts import (
     ASSUMPTIONS,
@@ -97,14 +98,14 @@ def summary(data) -> dict:
     across = ""
     maps = data.get("maps") or {}
     if maps.get("summary"):
-        # "reaches" means >= 6 dB to spare everywhere else in the report; margin >= 0 is only "marginal"
+        # "reaches" means >= REACHES_MARGIN_DB to spare everywhere else in the report; margin >= 0 is only "marginal"
         best = {}
         for r in maps["summary"]:
             key = (r["reach_headroom_pct"], r["reach_pct"])
             if r["scenario"] not in best or key > (best[r["scenario"]]["reach_headroom_pct"],
                                                    best[r["scenario"]]["reach_pct"]):
                 best[r["scenario"]] = r
-        across = "; ".join(f"{sc}: {r['antenna']} reaches the target with 6 dB to spare over "
+        across = "; ".join(f"{sc}: {r['antenna']} reaches the target with {REACHES_MARGIN_DB:g} dB to spare over "
                            f"{r['reach_headroom_pct']:.0f} % of the area (at least marginally over "
                            f"{r['reach_pct']:.0f} %)" for sc, r in best.items())
     return {"description": data["survey"].get("description") or "",

@@ -6,6 +6,8 @@ them out, so the wording can be reviewed in one place.
 
 from __future__ import annotations
 
+from ...detection.budget import REACHES_MARGIN_DB
+
 #: survey quantity -> (label, unit shown, factor from SI, format)
 HUMAN = {
     "moisture": ("volumetric water content θ", "%", 100.0, ".3g"),
@@ -84,7 +86,7 @@ MAP_CAPTIONS = {
 #: map summary columns shown in the scenario comparison: key, header, format
 MAP_COLUMNS = (
     ("scenario", "scenario", "s"), ("antenna", "antenna", "s"),
-    ("reach_pct", "area reached (%)", ".0f"), ("reach_headroom_pct", "reached with 6 dB to spare (%)", ".0f"),
+    ("reach_pct", "area reached (%)", ".0f"), ("reach_headroom_pct", f"reached with {REACHES_MARGIN_DB:g} dB to spare (%)", ".0f"),
     ("expected_reach_pct", "mean probability of reaching (%)", ".0f"),
     ("median_max_depth_m", "median max depth (m)", ".2f"), ("recommended_pct", "area where recommended (%)", ".0f"),
 )
