@@ -93,26 +93,6 @@ def _velocity(args, q, medium, fc):
             f"soil model ({medium.label}) at {fc / 1e6:g} MHz")
 
 
-def _model(medium, antenna, reference_reflection):
-    """The soil model's predictions for the same quantities (None without ground facts)."""
-    import numpy as np
-
-    from ..detection import Target, max_depth
-    from ..waves.propagation import wave_properties
-
-    fc = antenna.centre_freq_hz
-    f = np.array([0.9 * fc, fc, 1.1 * fc])
-    eps, sig = medium.electrical(f)
-    w = wave_properties(eps, sig, f)
-    slope = (w.alpha[2] - w.alpha[0]) / (f[2] - f[0])
-    d = max_depth(eps[1], sig[1], fc, antenna.effective_performance_db,
-                  target=Target("planar", reflection=reference_reflection), gain=antenna.gain)
-    return {"ground": medium.label, "attenuation_db_per_m": float(w.attenuation_db_per_m[1]),
-            "velocity_m_per_ns": float(w.velocity[1]) * 1e-9,
-            "q_equivalent": float(np.pi / (w.velocity[1] * slope)) if slope > 0 else None,
-            "penetration_m": float(d), "performance_db": antenna.effective_performance_db}
-
-
 def run(args) -> int:
     from ..errors import FileInputError, InputError
     from ..io.calibration_file import calibration_record, write_calibration
@@ -167,13 +147,15 @@ def run(args) -> int:
             cal.penetration_m, cal.attenuation_db_per_m, v, cal.reference_freq_hz,
             penetration_se_m=cal.penetration_se_m, attenuation_se_db_per_m=cal.attenuation_se_db_per_m,
             gain=antenna.gain, reference_reflection=refl)
-        from ..detection import Target, max_depth
-        from ..interpretation.calibrated_ground import effective_medium
+        from ..interpretation.calibrated_ground import model_predictions, solver_depth
 
-        eps, sig = effective_medium(max(cal.attenuation_np_per_m, 0.0), v, cal.reference_freq_hz)
-        check = float(max_depth(eps, sig, cal.reference_freq_hz, perf, target=Target("planar", reflection=refl),
-                                gain=antenna.gain))
-        model = _model(medium, antenna.with_stacks(stacks), refl) if medium is not None else None
+        check = solver_depth(cal.attenuation_db_per_m, v, cal.reference_freq_hz, perf, gain=antenna.gain,
+                             reference_reflection=refl)
+        model = None
+        if medium is not None:
+            model = {"ground": medium.label, **model_predictions(
+                medium.electrical, centre_freq_hz=fc, performance_db=antenna.with_stacks(stacks).effective_performance_db,
+                gain=antenna.gain, reference_reflection=refl)}
     record = calibration_record(cal, profile=profile, fmt=args.format, antenna=antenna, stacks=stacks,
                                 performance_db=perf, performance_se_db=perf_se, reference_reflection=refl,
                                 velocity_source=v_source, check_depth_m=check, model=model)

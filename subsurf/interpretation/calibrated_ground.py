@@ -18,7 +18,7 @@ from scipy import constants
 from ..errors import InputError, ModelRangeWarning, check_nonnegative, check_positive
 from ..waves.propagation import NP_TO_DB
 
-__all__ = ["effective_medium", "CalibratedGround"]
+__all__ = ["effective_medium", "CalibratedGround", "model_predictions", "solver_depth"]
 
 
 def effective_medium(alpha_np_per_m, velocity, freq_hz):
@@ -126,3 +126,50 @@ class CalibratedGround:
         facts = {"calibration_file": source, "attenuation_db_per_m": att, "reference_freq_mhz": f_ref / 1e6,
                  "q_star": q, "velocity_m_per_ns": v * 1e-9, "band_mhz": [lo / 1e6, hi / 1e6]}
         return cls(max(att, 0.0), f_ref, slope, v, (lo, hi), label, facts)
+
+
+def model_predictions(electrical, *, centre_freq_hz: float, performance_db: float, gain: float,
+                      reference_reflection: float) -> dict:
+    """What a ground model predicts for the quantities a calibration measures (for side-by-side output).
+
+    Parameters
+    ----------
+    electrical : callable
+        ``electrical(freq_hz) -> (eps, sigma)`` of the ground model (e.g. ``Medium.electrical``).
+    centre_freq_hz, performance_db, gain : float
+        The antenna's centre frequency, catalogue performance with the record's stacking, gain.
+    reference_reflection : float
+        |R| of the planar reference reflector (as for the effective performance).
+
+    Returns
+    -------
+    dict
+        ``attenuation_db_per_m`` and ``velocity_m_per_ns`` at the centre frequency,
+        ``q_equivalent`` = π/(v·dα/df) from α at 0.9 and 1.1 × f_c (None when α does not
+        rise with frequency), ``penetration_m`` the budget's maximum depth of the reference
+        reflector with ``performance_db``, and ``performance_db``.
+    """
+    from ..detection import Target, max_depth
+    from ..waves.propagation import wave_properties
+
+    fc = float(check_positive("centre_freq_hz", centre_freq_hz, unit="Hz"))
+    f = np.array([0.9 * fc, fc, 1.1 * fc])
+    eps, sig = electrical(f)
+    w = wave_properties(eps, sig, f)
+    slope = (w.alpha[2] - w.alpha[0]) / (f[2] - f[0])
+    d = max_depth(eps[1], sig[1], fc, performance_db, target=Target("planar", reflection=reference_reflection),
+                  gain=gain)
+    return {"attenuation_db_per_m": float(w.attenuation_db_per_m[1]), "velocity_m_per_ns": float(w.velocity[1]) * 1e-9,
+            "q_equivalent": float(np.pi / (w.velocity[1] * slope)) if slope > 0 else None,
+            "penetration_m": float(d), "performance_db": float(performance_db)}
+
+
+def solver_depth(attenuation_db_per_m: float, velocity: float, freq_hz: float, performance_db: float, *,
+                 gain: float, reference_reflection: float) -> float:
+    """Maximum depth (m) of the planar reference reflector in the calibrated ground with ``performance_db``:
+    the detection budget's one solver, as choose/setup will use it (equals the observed penetration)."""
+    from ..detection import Target, max_depth
+
+    eps, sig = effective_medium(max(attenuation_db_per_m, 0.0) / NP_TO_DB, velocity, freq_hz)
+    return float(max_depth(eps, sig, freq_hz, performance_db, target=Target("planar", reflection=reference_reflection),
+                           gain=gain))

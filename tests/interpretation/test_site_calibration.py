@@ -159,3 +159,30 @@ def test_all_zero_trace_is_refused():
     a[3] = 0
     with pytest.raises(InputError, match="trace 4"):
         TraceProfile(a, 1e-10)
+
+
+def test_no_downshift_gives_a_q_lower_bound():
+    """Without loss (Q = 10⁶) no Q* is claimed, only a lower bound; the signal outlasts the record (warned)."""
+    from subsurf.errors import ModelRangeWarning
+
+    tr, dt = constant_q_profile(q=1e6, noise=3e-5)
+    with pytest.warns(ModelRangeWarning, match="still holds signal"):
+        cal = calibrate_profile(TraceProfile(tr, dt), centre_freq_hz=250e6, separation_m=0.0, velocity=0.1e9,
+                                time_zero_s=8e-9)
+    assert cal.q_star is not None and cal.q_star.value is None
+    assert cal.q_star.lower_bound is None or cal.q_star.lower_bound > 100.0
+    assert cal.penetration_lower_bound
+
+
+def test_model_predictions_attenuation_matches_textbook():
+    """The side-by-side model attenuation is the textbook α of the model's ε, σ at the centre frequency."""
+    from subsurf.interpretation.calibrated_ground import model_predictions
+
+    def electrical(f):
+        f = np.asarray(f, dtype=float)
+        return np.full(f.shape, 9.0 + 0j), np.full(f.shape, 0.01)
+
+    out = model_predictions(electrical, centre_freq_hz=250e6, performance_db=80.0, gain=2.0, reference_reflection=0.1)
+    a, b = textbook_alpha_beta(9.0, 0.01, 250e6)
+    assert out["attenuation_db_per_m"] == pytest.approx(a * NP_TO_DB, rel=1e-9)
+    assert out["velocity_m_per_ns"] == pytest.approx(2 * np.pi * 250e6 / b * 1e-9, rel=1e-9)
