@@ -37,7 +37,12 @@ def soil_kwargs_from_mapping(mapping, allowed, *, source: str = "<input>") -> di
             near = fact.field if fact is not None and fact.field in allowed else closest(key, allowed)
             hint = f"; did you mean '{near}'?" if near else ""
             raise InputError(f"{source}: unknown soil field {key!r}{hint} (allowed: {', '.join(allowed)})")
-        if key in ("texture", "model"):
+        if key == "interface_relaxation":
+            if not isinstance(value, bool):
+                raise InputError(f"{source}: field 'interface_relaxation' must be true or false, got {value!r}")
+            kwargs[key] = value
+            continue
+        if key in ("texture", "model", "clay_mineral"):
             if not isinstance(value, str):
                 raise InputError(f"{source}: field '{key}' must be a string, got {value!r}")
             kwargs[key] = value

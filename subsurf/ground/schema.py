@@ -63,6 +63,17 @@ SOIL_FACTS: dict[str, SoilFact] = {
     "archie_m": SoilFact("dimensionless", "dimensionless", 1.0, 5.0, "Archie cementation exponent"),
     "archie_n": SoilFact("dimensionless", "dimensionless", 1.0, 5.0, "Archie saturation exponent"),
     "clay_cec": SoilFact("dimensionless", "dimensionless", 0.0, 2.0, "CEC of the clay fraction (eq/kg)"),
+    "interface_n": SoilFact("dimensionless", "dimensionless", 0.0, 1.0,
+                            "Jonscher exponent of the bound-water / clay-water interface loss (0-1)"),
+    "interface_chi_per_bound_water": SoilFact("dimensionless", "dimensionless", 0.0, 1000.0,
+                                              "Jonscher susceptibility at 100 MHz per unit bound water"),
+    "stone_fraction": SoilFact("fraction", "dimensionless", 0.0, 1.0,
+                               "volume fraction of stones / gravel / rubble (at most 1 - porosity)"),
+    "stone_size": SoilFact("length", "m", 0.0, 10.0, "median stone diameter (m)"),
+    "eps_stone": SoilFact("dimensionless", "dimensionless", 1.0, 100.0, "relative permittivity of the stones"),
+    "stone_size_sd_log": SoilFact("dimensionless", "dimensionless", 0.0, 2.0,
+                                  "standard deviation of ln(stone diameter), log-normal by volume"),
+    "surface_roughness": SoilFact("length", "m", 0.0, 1.0, "rms height of the ground surface (m)"),
     # flag-named keys: bare numbers in the command-line flags' units
     "temp": SoilFact("temperature", "degC", 0.0, 100.0, "ground temperature (as --temp)", field="temp_c"),
     "temperature": SoilFact("temperature", "degC", 0.0, 100.0, "ground temperature", field="temp_c"),
@@ -74,6 +85,7 @@ SOIL_FACTS: dict[str, SoilFact] = {
 }
 
 _MODELS = ("crim", "peplinski", "topp")
+_CLAY_MINERALS = ("kaolinite", "halloysite", "illite", "chlorite", "smectite", "vermiculite")
 
 
 def soil_fact(key: str) -> SoilFact:
@@ -117,6 +129,10 @@ SoilFacts = create_model(
     texture=(str | None, Field(None, description="texture preset of configs/textures.toml "
                                                  "(fills sand, clay and densities), e.g. 'loam'")),
     model=(Literal[_MODELS] | None, Field(None, description="soil permittivity model (default crim)")),
+    clay_mineral=(Literal[_CLAY_MINERALS] | None,
+                  Field(None, description="clay mineral whose CEC (Grim 1968 table) sets the surface conduction")),
+    interface_relaxation=(bool | None, Field(None, description="add the bound-water / clay-water interface loss "
+                                                               "(default true)")),
     **{key: (_field_type(f) | None, Field(None, description=f.doc)) for key, f in SOIL_FACTS.items()},
 )
 
