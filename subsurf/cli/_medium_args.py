@@ -38,7 +38,37 @@ def add_medium_arguments(parser: argparse.ArgumentParser) -> None:
     g.add_argument("--pore-water-ec", metavar="Q", help="pore-water EC at 25 degC (bare number: mS/m)")
     g.add_argument("--tds", metavar="Q", help="pore-water total dissolved solids (bare number: mg/L)")
     g.add_argument("--model", choices=["crim", "peplinski", "topp"], help="soil permittivity model (default crim)")
+    g.add_argument("--clay-cec", metavar="Q", help="cation-exchange capacity of the clay fraction (bare number: "
+                   "cmol(+)/kg = meq/100 g; or 'Q eq/kg'); default from --clay-mineral")
+    g.add_argument("--clay-mineral", choices=["kaolinite", "halloysite", "illite", "chlorite", "smectite",
+                                              "vermiculite"],
+                   help="clay mineral whose CEC (Grim 1968 table) sets the surface conduction (default illite)")
+    g.add_argument("--archie-m", metavar="M", help="Archie cementation exponent, 1-5 (default 1.5)")
+    g.add_argument("--archie-n", metavar="N", help="Archie saturation exponent, 1-5 (default 2)")
+    g.add_argument("--archie-a", metavar="A", help="Archie tortuosity factor, > 0 (default 1)")
+    g.add_argument("--stone-fraction", metavar="Q", help="volume fraction of stones/gravel/rubble (bare number: "
+                   "fraction; or '20 %%'), 0 to 1 - porosity; default 0")
+    g.add_argument("--stone-size", metavar="Q", help="median stone diameter (bare number: mm), > 0; default 20 mm")
+    g.add_argument("--stone-eps", metavar="EPS", help="relative permittivity of the stones, 1-100 (default 5)")
+    g.add_argument("--roughness", metavar="Q", help="rms height of the ground surface (bare number: cm), >= 0; "
+                   "default 1 cm")
+    g.add_argument("--no-interface-loss", action="store_true",
+                   help="leave out the bound-water / clay-water interface relaxation loss (on by default)")
+    d = parser.add_argument_group("loss slope of a direct --eps/--sigma ground (else: conduction only)")
+    d.add_argument("--q-star", metavar="Q", help="band-limited Q* of the ground (Turner & Siggins 1994), > 1")
+    d.add_argument("--attenuation-at", metavar="F=A", action="append",
+                   help="measured one-way attenuation at a frequency, e.g. '100 MHz=1.5' (bare numbers: MHz and "
+                        "dB/m); give it twice: sets σ and the loss slope together")
 
+
+# flags that are Soil fields but not soil facts for the --eps/--sigma check: see _LOSS_FLAGS
+_LOSS_FLAGS = {
+    # flag attribute: (Soil field, converter of the flag text, allowed text for the error)
+    "archie_m": "archie_m",
+    "archie_n": "archie_n",
+    "archie_a": "archie_a",
+    "stone_eps": "eps_stone",
+}
 
 _SOIL_FLAGS = {
     # flag attribute: (Soil field, quantity kind, default unit of a bare number)
@@ -51,6 +81,9 @@ _SOIL_FLAGS = {
     "salinity": ("pore_water_salinity_psu", "salinity", "dimensionless"),
     "pore_water_ec": ("pore_water_ec25", "conductivity", "mS/m"),
     "tds": ("pore_water_tds", "mass_concentration", "mg/L"),
+    "stone_fraction": ("stone_fraction", "fraction", "dimensionless"),
+    "stone_size": ("stone_size", "length", "mm"),
+    "roughness": ("surface_roughness", "length", "cm"),
 }
 
 
@@ -61,9 +94,21 @@ def medium_from_args(args, *, required: bool = True) -> Medium | None:
     from ..units import parse_quantity
 
     soil_given = any(getattr(args, k, None) is not None for k in _SOIL_FLAGS) or args.texture or args.soil
+    soil_only = [f"--{k.replace('_', '-')}" for k in (*_LOSS_FLAGS, "clay_cec", "clay_mineral")
+                 if getattr(args, k, None) is not None]
+    if getattr(args, "no_interface_loss", False):
+        soil_only.append("--no-interface-loss")
+    direct_only = [f for f, k in (("--q-star", "q_star"), ("--attenuation-at", "attenuation_at"))
+                   if getattr(args, k, None) is not None]
+    if args.eps is None and direct_only:
+        raise InputError(f"{direct_only[0]} describes the loss of a direct --eps/--sigma ground; a soil description "
+                         "gets its loss slope from its texture and moisture")
     if args.eps is not None:
         if soil_given:
             raise InputError("give either --eps/--sigma or soil facts (--texture, --moisture, --soil ...), not both")
+        if soil_only:
+            raise InputError(f"{soil_only[0]} applies to a soil description (--texture/--moisture or --soil), "
+                             "not to a direct --eps/--sigma ground")
         try:
             eps = complex(str(args.eps).replace(" ", ""))
         except ValueError:
@@ -74,9 +119,14 @@ def medium_from_args(args, *, required: bool = True) -> Medium | None:
                                                                 default_unit="mS/m", name="--sigma")
         if sigma < 0:
             raise InputError(f"--sigma must be >= 0 S/m, got {sigma:g}")
-        label = f"ε'={eps.real:g}" + (f", ε''={-eps.imag:g}" if eps.imag else "") + f", σ={sigma * 1e3:g} mS/m"
-        return Medium(label=label, facts={"eps_real": eps.real, "eps_imag": -eps.imag + 0.0, "sigma_s_per_m": sigma},
-                      eps_const=eps, sigma_const=sigma)
+        facts = {"eps_real": eps.real, "eps_imag": -eps.imag + 0.0, "sigma_s_per_m": sigma}
+        q, note = _direct_loss_slope(args, eps, facts)
+        if q is not None and "sigma_s_per_m" in facts:
+            sigma = facts["sigma_s_per_m"]
+        label = f"ε'={eps.real:g}" + (f", ε''={-eps.imag:g}" if eps.imag else "") + f", σ={sigma * 1e3:.4g} mS/m"
+        if q is not None:
+            label += f", Q*={facts['q_star']:.4g}"
+        return Medium(label=label, facts=facts, eps_const=eps, sigma_const=sigma, q=q, loss_note=note)
     if args.sigma is not None:
         raise InputError("--sigma goes with --eps; for a soil, give pore water as --pore-water-ec or --salinity")
     if not soil_given:
@@ -105,6 +155,16 @@ def medium_from_args(args, *, required: bool = True) -> Medium | None:
                 raise InputError(f"{flag} must be a fraction between 0 and 1, got {val!r}; "
                                  f"for a percentage write '{val} %'" if str(val).strip().replace(".", "").isdigit()
                                  else f"{flag} must be between 0 and 100 %, got {val!r}")
+    for attr, fld in _LOSS_FLAGS.items():
+        val = getattr(args, attr, None)
+        if val is not None:
+            mapping[fld] = _plain_number(val, "--" + attr.replace("_", "-"))
+    if getattr(args, "clay_cec", None) is not None:
+        mapping["clay_cec"] = _clay_cec(args.clay_cec)
+    if getattr(args, "clay_mineral", None) is not None:
+        mapping["clay_mineral"] = args.clay_mineral
+    if getattr(args, "no_interface_loss", False):
+        mapping["interface_relaxation"] = False
     if "moisture" not in mapping:
         raise InputError("soil description needs a moisture (--moisture, e.g. '20 %')")
     soil = Soil.from_mapping(mapping, source=source)
@@ -117,3 +177,71 @@ def medium_from_args(args, *, required: bool = True) -> Medium | None:
     parts.append(f"θ={float(theta) * 100:g} %" if theta.ndim == 0
                  else f"θ={theta.min() * 100:g}-{theta.max() * 100:g} %")
     return Medium(label=", ".join(parts), facts=dict(mapping), soil=soil)
+
+
+def _plain_number(text, flag: str) -> float:
+    from ..errors import InputError
+
+    try:
+        v = float(str(text).strip())
+    except ValueError:
+        raise InputError(f"{flag}: cannot read {text!r} as a number") from None
+    if not math.isfinite(v):
+        raise InputError(f"{flag} must be a finite number, got {text!r}")
+    return v
+
+
+def _clay_cec(text) -> float:
+    """--clay-cec in eq/kg: bare number cmol(+)/kg (= meq/100 g), or with 'eq/kg', 'cmol/kg', 'meq/100g'."""
+    from ..errors import InputError
+
+    t = str(text).strip().lower().replace(" ", "")
+    scale = 0.01
+    for suffix, sc in (("cmol(+)/kg", 0.01), ("cmol/kg", 0.01), ("meq/100g", 0.01), ("eq/kg", 1.0)):
+        if t.endswith(suffix):
+            t, scale = t[: -len(suffix)], sc
+            break
+    v = _plain_number(t, "--clay-cec") * scale
+    if not 0.0 <= v <= 2.0:
+        raise InputError(f"--clay-cec must be between 0 and 200 cmol(+)/kg (0-2 eq/kg), got {text!r}")
+    return v
+
+
+def _direct_loss_slope(args, eps, facts):
+    """(Q of the constant-Q ε or None, note) for a direct ground from --q-star or two --attenuation-at."""
+    from ..errors import InputError
+    from ..units import parse_quantity
+
+    q_star = getattr(args, "q_star", None)
+    pairs = getattr(args, "attenuation_at", None)
+    if q_star is not None and pairs:
+        raise InputError("give --q-star or two --attenuation-at, not both")
+    if q_star is None and not pairs:
+        return None, ("loss frequency dependence: conduction only (constant ε); give --q-star or two "
+                      "--attenuation-at for a loss that rises with frequency")
+    from ..ground.constant_q import loss_from_two_attenuations, q_from_q_star
+
+    if q_star is not None:
+        qs = _plain_number(q_star, "--q-star")
+        if not qs > 1.0:
+            raise InputError(f"--q-star must be > 1 (no passive constant-Q ground is lossier), got {q_star!r}")
+        facts["q_star"] = qs
+        return float(q_from_q_star(qs)), None
+    if len(pairs) != 2:
+        raise InputError(f"--attenuation-at must be given exactly twice (two frequencies), got {len(pairs)}")
+    if args.sigma is not None:
+        raise InputError("--attenuation-at sets the conductivity from the two attenuations; leave out --sigma")
+    pts = []
+    for text in pairs:
+        if "=" not in text:
+            raise InputError(f"--attenuation-at: write FREQUENCY=ATTENUATION, e.g. '100 MHz=1.5', got {text!r}")
+        fs, a_s = text.split("=", 1)
+        f = parse_quantity(fs, "frequency", default_unit="MHz", name="--attenuation-at frequency")
+        a = _plain_number(a_s.lower().replace("db/m", ""), "--attenuation-at attenuation (dB/m)")
+        if f <= 0 or a < 0:
+            raise InputError(f"--attenuation-at needs a frequency > 0 and an attenuation >= 0 dB/m, got {text!r}")
+        pts.append((f, a / (20.0 / math.log(10.0))))
+    fit = loss_from_two_attenuations(eps.real, pts[0][0], pts[0][1], pts[1][0], pts[1][1])
+    facts["sigma_s_per_m"] = fit.sigma
+    facts["q_star"] = fit.q_star
+    return fit.q, None

@@ -28,6 +28,7 @@ def compute(medium, freqs_hz) -> dict:
     f = np.asarray(freqs_hz, dtype=float)
     eps, sigma = medium.electrical(f)
     w = wave_properties(eps, sigma, f)
+    loss = medium.loss_by_mechanism(f)
     rows = []
     for i in range(f.size):
         rows.append({
@@ -41,9 +42,18 @@ def compute(medium, freqs_hz) -> dict:
             "wavelength_m": float(w.wavelength[i]),
             "attenuation_db_per_m": float(w.attenuation_db_per_m[i]),
             "skin_depth_m": float(w.skin_depth[i]),
+            "loss_db_per_m": {k: float(np.ravel(v)[i]) for k, v in loss.items()},
         })
-    return {"medium": medium.label, "facts": medium.facts, "rows": rows,
-            "conduction_in_eps": bool(getattr(medium.soil, "conduction_in_eps", False))}
+        rows[-1].update({f"loss_{k}_db_per_m": v for k, v in rows[-1]["loss_db_per_m"].items()})
+    return {"medium": medium.label, "facts": _json_facts(medium.facts), "rows": rows,
+            "conduction_in_eps": bool(getattr(medium.soil, "conduction_in_eps", False)),
+            "loss_note": medium.loss_note}
+
+
+def _json_facts(facts: dict) -> dict:
+    import math
+
+    return {k: (None if isinstance(v, float) and not math.isfinite(v) else v) for k, v in facts.items()}
 
 
 COLUMNS_SPEC = [
@@ -56,6 +66,16 @@ COLUMNS_SPEC = [
     ("wavelength_m", "λ", "m", ".3g"),
     ("attenuation_db_per_m", "α", "dB/m", ".3g"),
     ("skin_depth_m", "skin depth", "m", ".3g"),
+]
+
+#: the loss budget per mechanism (dB/m one way)
+LOSS_COLUMNS_SPEC = [
+    ("freq_mhz", "f", "MHz", ".4g"),
+    ("loss_conduction_db_per_m", "conduction", "dB/m", ".3g"),
+    ("loss_water_relaxation_db_per_m", "water relax.", "dB/m", ".3g"),
+    ("loss_interface_relaxation_db_per_m", "interface relax.", "dB/m", ".3g"),
+    ("loss_scattering_db_per_m", "scattering", "dB/m", ".3g"),
+    ("loss_total_db_per_m", "total", "dB/m", ".3g"),
 ]
 
 
@@ -81,7 +101,13 @@ def run(args) -> int:
     title = f"Ground: {medium.label}"
     text = format_table(result["rows"], cols, title=title)
     text += ("\nσ_eff = σ_DC + ωε₀ε''; tan δ = σ_eff/(ωε₀ε'); v = ω/β (phase velocity); "
-             "α in dB/m one way; skin depth = 1/α.")
+             "α in dB/m one way (without scattering); skin depth = 1/α.")
+    text += "\n\n" + format_table(result["rows"], [Column(*c) for c in LOSS_COLUMNS_SPEC],
+                                   title="Loss per mechanism (one way)")
+    text += ("\nconduction: σ_DC; water relax.: free-water Debye loss in ε''; interface relax.: bound-water / "
+             "clay-water term (or the dielectric loss of a direct ground); scattering: stones; total = sum.")
+    if result["loss_note"]:
+        text += "\n" + result["loss_note"]
     if result["conduction_in_eps"]:
         text += "\nThis soil model carries conduction inside ε'' (σ_DC counted there, not twice)."
     print_result(result, text, as_json=args.json)

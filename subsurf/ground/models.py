@@ -18,7 +18,6 @@ from ..errors import InputError, SubsurfError, check_positive, check_range
 from ._mapping import soil_kwargs_from_mapping
 from ._validity import BULK_DENSITY_RANGE, PARTICLE_DENSITY_RANGE, check_density
 from .conductivity import (
-    CLAY_CEC,
     cec_from_clay,
     ec25_from_tds,
     ec_from_ec25,
@@ -26,9 +25,11 @@ from .conductivity import (
     salinity_from_ec25,
     waxman_smits_conductivity,
 )
+from .losses import resolve_loss_facts
 from .mixing import crim_permittivity, topp_permittivity
 from .peplinski import peplinski_permittivity
 from .presets import texture_preset
+from .relaxation import JONSCHER_REFERENCE_FREQ_HZ, jonscher_susceptibility
 from .water import _temperature, water_conductivity, water_permittivity
 
 __all__ = ["Soil", "DEFAULT_PORE_WATER_EC25", "DEFAULT_PARTICLE_DENSITY", "DEFAULT_PEPLINSKI_BULK_DENSITY"]
@@ -42,6 +43,8 @@ DEFAULT_PARTICLE_DENSITY = 2660.0
 DEFAULT_PEPLINSKI_BULK_DENSITY = 1500.0
 
 _MODELS = ("crim", "peplinski", "topp")
+#: Frequency at which the interface term leaves the CRIM ε' unchanged, Hz (see Soil.interface_susceptibility).
+INTERFACE_PIN_FREQ_HZ = 500e6
 _POROSITY_TOLERANCE = 0.02
 
 
@@ -92,9 +95,23 @@ class Soil:
     archie_a, archie_m, archie_n : float or array_like
         Archie tortuosity factor (1), cementation exponent (default 1.5, common
         practice for unconsolidated sediments) and saturation exponent (2).
-    clay_cec : float or array_like
-        CEC of the clay fraction in eq/kg for the Waxman–Smits surface conduction
-        (default 0.5, common practice; see :func:`subsurf.soil.conductivity.cec_from_clay`).
+    clay_cec : float or array_like, optional
+        CEC of the clay fraction in eq/kg for the Waxman–Smits surface conduction.
+    clay_mineral : str, optional
+        Instead of ``clay_cec``: a mineral of the CEC table
+        (:data:`~subsurf.soil.conductivity.CLAY_MINERAL_CEC`, Grim 1968); neither given:
+        the texture's mineral, else illite (0.25 eq/kg).
+    interface_relaxation : bool
+        Add the bound-water / clay–water interface loss (Jonscher term, model "crim"
+        only; default True).  ``interface_n``, ``interface_chi_per_moisture`` override
+        the texture's parameters (see ``configs/textures.toml``; without a texture
+        they are interpolated between the presets by clay fraction).
+    stone_fraction, stone_size, eps_stone, stone_size_sd_log : float or array_like, optional
+        Volume fraction (0 to 1 − porosity; default: the texture's, 0), median diameter
+        in m (default 0.02), permittivity (5) and log-normal spread of stones, for the
+        volume-scattering loss (:meth:`scattering_attenuation`).
+    surface_roughness : float or array_like, optional
+        rms height of the ground surface in m (default 0.01, common practice).
 
     Notes
     -----
@@ -119,7 +136,16 @@ class Soil:
     archie_a: Any = 1.0
     archie_m: Any = 1.5
     archie_n: Any = 2.0
-    clay_cec: Any = CLAY_CEC
+    clay_cec: Any = None
+    clay_mineral: str | None = None
+    interface_relaxation: bool = True
+    interface_n: Any = None
+    interface_chi_per_moisture: Any = None
+    stone_fraction: Any = None
+    stone_size: Any = None
+    eps_stone: Any = None
+    stone_size_sd_log: Any = 0.0
+    surface_roughness: Any = None
     _r: dict = field(init=False, repr=False, compare=False)
 
     # ------------------------------------------------------------------ construction
@@ -151,8 +177,8 @@ class Soil:
         r["archie_a"] = check_positive("archie_a", self.archie_a)
         r["archie_m"] = check_range("archie_m", self.archie_m, 1.0, 5.0)
         r["archie_n"] = check_range("archie_n", self.archie_n, 1.0, 5.0)
-        r["clay_cec"] = check_range("clay_cec", self.clay_cec, 0.0, 2.0, unit="eq/kg")
         self._resolve_pore_water(r)
+        resolve_loss_facts(self, preset, r)
         if self.model == "peplinski" and (r["sand"] is None or r["clay"] is None):
             raise InputError("model 'peplinski' needs sand and clay fractions (0-1) or a texture preset")
         if self.model == "crim" and r["porosity"] is None:
@@ -282,7 +308,10 @@ class Soil:
                              f"shape {r['shape']}; e.g. pass freq[:, None] for fields of shape (n,)") from None
         if self.model == "crim":
             water = water_permittivity(f, r["temp_c"], r["salinity"])
-            return crim_permittivity(r["moisture"], r["porosity"], r["eps_solid"], water, 1.0)
+            eps = crim_permittivity(r["moisture"], r["porosity"], r["eps_solid"], water, 1.0)
+            if r["interface_chi"] is not None:
+                eps = eps + self.interface_susceptibility(f)
+            return eps
         if self.model == "peplinski":
             rb = r["bulk_density"]
             rb = DEFAULT_PEPLINSKI_BULK_DENSITY if rb is None else rb
@@ -307,7 +336,7 @@ class Soil:
         clay = r["clay"] if r["clay"] is not None else 0.0
         qv = qv_from_cec(cec_from_clay(clay, clay_cec=r["clay_cec"]), phi, r["particle_density"])
         out = waxman_smits_conductivity(self.pore_water_conductivity(), phi, sat, qv=qv,
-                                        a=r["archie_a"], m=r["archie_m"], n=r["archie_n"])
+                                        a=r["archie_a"], m=r["archie_m"], n=r["archie_n"], temp_c=r["temp_c"])
         out = np.broadcast_to(out, r["shape"]).copy() if np.shape(out) != r["shape"] else out
         return out[()] if isinstance(out, np.ndarray) and out.ndim == 0 else out
 
@@ -327,6 +356,47 @@ class Soil:
         sigma = 0.0 if self.conduction_in_eps else self.conductivity()
         sigma = np.broadcast_to(np.asarray(sigma, dtype=float), np.shape(eps)).copy()
         return eps, (sigma[()] if sigma.ndim == 0 else sigma)
+
+    def interface_susceptibility(self, freq_hz):
+        """The interface (bound-water / clay–water) term of :meth:`permittivity`; 0 when off.
+
+        χ(f) − χ'(f_pin): the Jonscher term of the texture (Hollender & Tillard 1998) less
+        its real part at f_pin = 500 MHz, a real constant (a shift of ε∞, still causal),
+        so that the CRIM ε' — calibrated like Topp's against TDR in this band — is kept at
+        f_pin and the term adds the loss and the dispersion Kramers–Kronig ties to it.
+        """
+        r = self._r
+        f = np.asarray(freq_hz, dtype=float)
+        if r["interface_chi"] is None:
+            return np.zeros(np.broadcast_shapes(np.shape(f), r["shape"]), dtype=complex)[()]
+        chi, n = r["interface_chi"], r["interface_n"]
+        pin = chi * np.exp((n - 1.0) * np.log(INTERFACE_PIN_FREQ_HZ / JONSCHER_REFERENCE_FREQ_HZ))
+        return jonscher_susceptibility(f, chi, n) - pin
+
+    def scattering_attenuation(self, freq_hz, *, eps=None):
+        """Volume-scattering attenuation of the stones in Np/m (one way, amplitude); 0 without stones.
+
+        ``eps`` (the :meth:`permittivity` at ``freq_hz``) may be passed to avoid recomputing it.
+        See :func:`subsurf.soil.scattering.scattering_attenuation`.
+        """
+        from .scattering import scattering_attenuation
+
+        r = self._r
+        host = self.permittivity(freq_hz) if eps is None else eps
+        shape = np.broadcast_shapes(np.shape(host), np.shape(r["stone_fraction"]))
+        if not np.any(r["stone_fraction"] > 0):
+            return np.zeros(shape)[()]
+        return scattering_attenuation(freq_hz, np.maximum(np.real(host), 1.0), stone_fraction=r["stone_fraction"],
+                                      stone_size=r["stone_size"], eps_stone=r["eps_stone"],
+                                      size_sd_log=r["stone_size_sd_log"])
+
+    @property
+    def loss_facts(self) -> dict:
+        """The resolved loss facts (SI): clay CEC, interface n and χ, stones, surface roughness."""
+        r = self._r
+        keys = ("clay_cec", "interface_n", "interface_chi", "stone_fraction", "stone_size", "eps_stone",
+                "stone_size_sd_log", "surface_roughness")
+        return {k: r[k] for k in keys}
 
     # ------------------------------------------------------------------ edge input
     @classmethod

@@ -69,8 +69,37 @@ def _textures() -> dict:
         rec["bulk_density"] = _number(path, key, "bulk_density_kg_m3",
                                       entry.get("bulk_density_kg_m3"), 100.0, rec["particle_density"])
         rec["source"] = _source(path, key, entry)
+        _loss_facts(path, key, entry, rec)
         out[key] = rec
     return out
+
+
+def _loss_facts(path, key, entry, rec):
+    """Optional loss facts of a texture entry (see the header of configs/textures.toml)."""
+    from .conductivity import CLAY_MINERAL_CEC
+
+    n = entry.get("interface_n")
+    if n is not None:
+        rec["interface_n"] = _number(path, key, "interface_n", n, 0.05, 0.999)
+    chi = entry.get("interface_chi_per_moisture")
+    if chi is not None:
+        rec["interface_chi_per_moisture"] = _number(path, key, "interface_chi_per_moisture", chi, 0.0, 1000.0)
+    if "stone_fraction" in entry:
+        rec["stone_fraction"] = _number(path, key, "stone_fraction", entry["stone_fraction"], 0.0, 1.0)
+        porosity = 1.0 - rec["bulk_density"] / rec["particle_density"]
+        if rec["stone_fraction"] > 1.0 - porosity:
+            raise FileInputError(path, f"entry [{key}] stone_fraction must be <= 1 - porosity = {1 - porosity:.3g}",
+                                 field="stone_fraction")
+    if "stone_size_m" in entry:
+        rec["stone_size"] = _number(path, key, "stone_size_m", entry["stone_size_m"], 1e-4, 10.0)
+    mineral = entry.get("clay_mineral")
+    if mineral is not None:
+        if not isinstance(mineral, str) or mineral not in CLAY_MINERAL_CEC:
+            raise FileInputError(path, f"entry [{key}] clay_mineral must be one of {', '.join(CLAY_MINERAL_CEC)}, "
+                                 f"got {mineral!r}", field="clay_mineral")
+        rec["clay_mineral"] = mineral
+    if "loss_source" in entry:
+        rec["loss_source"] = str(entry["loss_source"])
 
 
 def load_textures() -> dict[str, dict]:

@@ -1,0 +1,138 @@
+"""Loss facts of a soil (interface relaxation, stones, roughness, clay CEC) and loss per mechanism.
+
+:func:`resolve_loss_facts` turns the optional loss fields of :class:`subsurf.soil.Soil`
+into validated arrays, filling what is not given from the texture preset or, without a
+texture, from the presets interpolated by clay fraction.  :func:`loss_by_mechanism`
+splits the attenuation of a ground into conduction, water relaxation, interface
+relaxation and scattering.
+"""
+
+from __future__ import annotations
+
+from functools import lru_cache
+
+import numpy as np
+
+from ..errors import InputError, check_nonnegative, check_positive, check_range
+from .conductivity import CLAY_CEC, clay_cec_of_mineral
+from .roughness import SURFACE_ROUGHNESS_M
+from .scattering import STONE_PERMITTIVITY
+
+__all__ = ["resolve_loss_facts", "interface_defaults", "loss_by_mechanism", "DEFAULT_STONE_SIZE"]
+
+#: Median stone diameter used when a stone fraction is given without a size, m (fine–medium
+#: gravel, common practice).
+DEFAULT_STONE_SIZE = 0.02
+
+
+@lru_cache(maxsize=1)
+def _interface_table():
+    from .presets import load_textures
+
+    rows = sorted((v["clay"], v["interface_n"], v["interface_chi_per_moisture"])
+                  for v in load_textures().values() if "interface_n" in v and "interface_chi_per_moisture" in v)
+    if not rows:
+        raise InputError("configs/textures.toml gives no interface_n / interface_chi_per_moisture to default from")
+    return tuple(np.array(c) for c in zip(*rows))
+
+
+def interface_defaults(clay):
+    """(n, χ per unit moisture) of the interface relaxation for a clay fraction, by linear
+    interpolation between the texture presets (held constant beyond the first and last)."""
+    c, n, chi = _interface_table()
+    x = np.asarray(0.0 if clay is None else clay, dtype=float)
+    return np.interp(x, c, n), np.interp(x, c, chi)
+
+
+def resolve_loss_facts(soil, preset: dict, r: dict) -> None:
+    """Validate the loss fields of ``soil`` into ``r`` (in place); errors name the field and range."""
+    # clay surface conduction: explicit CEC, else the mineral's, else the texture's mineral, else the default
+    if soil.clay_cec is not None and soil.clay_mineral is not None:
+        raise InputError("give clay_cec or clay_mineral, not both")
+    if soil.clay_cec is not None:
+        r["clay_cec"] = check_range("clay_cec", soil.clay_cec, 0.0, 2.0, unit="eq/kg")
+    else:
+        mineral = soil.clay_mineral if soil.clay_mineral is not None else preset.get("clay_mineral")
+        r["clay_cec"] = np.asarray(CLAY_CEC if mineral is None else clay_cec_of_mineral(mineral))
+    # interface (bound-water / clay-water) relaxation, Jonscher form
+    n_def, chi_def = interface_defaults(r["clay"])
+    n_def = preset.get("interface_n", n_def)
+    chi_def = preset.get("interface_chi_per_moisture", chi_def)
+    n = check_range("interface_n", n_def if soil.interface_n is None else soil.interface_n, 0.0, 1.0)
+    if np.any((n <= 0) | (n >= 1)):
+        raise InputError(f"interface_n must be strictly between 0 and 1, got {n[(n <= 0) | (n >= 1)].ravel()[0]:.6g}")
+    chi = soil.interface_chi_per_moisture
+    chi = check_range("interface_chi_per_moisture", chi_def if chi is None else chi, 0.0, 1000.0)
+    on = bool(soil.interface_relaxation) and soil.model == "crim"
+    r["interface_n"], r["interface_chi"] = n, (chi * r["moisture"] if on else None)
+    # stones (volume scatterers)
+    fv = soil.stone_fraction if soil.stone_fraction is not None else preset.get("stone_fraction", 0.0)
+    fv = check_range("stone_fraction", fv, 0.0, 1.0, unit="(volume fraction)")
+    if r["porosity"] is not None and np.any(fv > 1.0 - r["porosity"] + 1e-12):
+        b = np.broadcast_arrays(fv > 1.0 - r["porosity"] + 1e-12, fv, r["porosity"])
+        i = np.flatnonzero(b[0])[0]
+        raise InputError(f"stone_fraction must be <= 1 - porosity = {1 - b[2].ravel()[i]:.4g} (stones are part "
+                         f"of the solids), got {b[1].ravel()[i]:.6g}; allowed range 0 to 1 - porosity")
+    size = soil.stone_size if soil.stone_size is not None else preset.get("stone_size", DEFAULT_STONE_SIZE)
+    r["stone_fraction"] = fv
+    r["stone_size"] = check_positive("stone_size", size, unit="m")
+    r["eps_stone"] = check_range("eps_stone", STONE_PERMITTIVITY if soil.eps_stone is None else soil.eps_stone,
+                                 1.0, 100.0)
+    r["stone_size_sd_log"] = check_range("stone_size_sd_log", soil.stone_size_sd_log, 0.0, 2.0)
+    rough = SURFACE_ROUGHNESS_M if soil.surface_roughness is None else soil.surface_roughness
+    r["surface_roughness"] = check_range("surface_roughness", rough, 0.0, 1.0, unit="m")
+    check_nonnegative("surface_roughness", r["surface_roughness"])
+
+
+def loss_by_mechanism(eps_water, eps_interface, sigma, freq_hz, *, scattering_np_per_m=0.0):
+    """One-way attenuation in dB/m split by mechanism, exactly.
+
+    Parameters
+    ----------
+    eps_water : complex or array_like
+        Permittivity without the interface term (its ε'' is the free-water relaxation).
+    eps_interface : complex or array_like
+        The interface (bound-water) susceptibility added to it (0 when absent).
+    sigma : float or array_like
+        DC conductivity, S/m.
+    freq_hz : float or array_like
+        Frequency, Hz.
+    scattering_np_per_m : float or array_like
+        Scattering attenuation, Np/m (:func:`subsurf.soil.scattering.scattering_attenuation`).
+
+    Returns
+    -------
+    dict
+        ``conduction``, ``water_relaxation``, ``interface_relaxation``, ``scattering``
+        and ``total`` in dB/m.
+
+    Notes
+    -----
+    The intrinsic α = ωμ₀σ_eff/(2β) is linear in σ_eff = σ + ωε₀(ε''_w + ε''_i) at the
+    common β, so α splits exactly into the shares σ/σ_eff, ωε₀ε''_w/σ_eff and
+    ωε₀ε''_i/σ_eff.  Scattering adds to the amplitude attenuation (independent loss
+    of coherent power).
+    """
+    from scipy import constants
+
+    from ..waves.propagation import NP_TO_DB, _alpha_beta
+
+    f = np.asarray(freq_hz, dtype=float)
+    omega = 2.0 * np.pi * f
+    eps = np.asarray(eps_water, dtype=complex) + np.asarray(eps_interface, dtype=complex)
+    s = np.asarray(sigma, dtype=float)
+    alpha, _ = _alpha_beta(eps.real, -eps.imag, s, omega)
+    w_part = omega * constants.epsilon_0 * np.maximum(-np.asarray(eps_water, dtype=complex).imag, 0.0)
+    i_part = omega * constants.epsilon_0 * np.maximum(-np.asarray(eps_interface, dtype=complex).imag, 0.0)
+    total = s + w_part + i_part
+    with np.errstate(invalid="ignore", divide="ignore"):
+        share = np.where(total > 0, alpha / np.where(total > 0, total, 1.0), 0.0)
+    scat = np.broadcast_to(np.asarray(scattering_np_per_m, dtype=float), np.shape(alpha))
+    out = {
+        "conduction": s * share * NP_TO_DB,
+        "water_relaxation": w_part * share * NP_TO_DB,
+        "interface_relaxation": i_part * share * NP_TO_DB,
+        "scattering": scat * NP_TO_DB,
+    }
+    out["total"] = (alpha + scat) * NP_TO_DB
+    return {k: (v[()] if np.ndim(v) == 0 else v) for k, v in out.items()}
