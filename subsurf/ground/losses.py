@@ -18,7 +18,7 @@ from .conductivity import CLAY_CEC, clay_cec_of_mineral
 from .roughness import SURFACE_ROUGHNESS_M
 from .scattering import STONE_PERMITTIVITY
 
-__all__ = ["resolve_loss_facts", "interface_defaults", "loss_by_mechanism", "DEFAULT_STONE_SIZE"]
+__all__ = ["resolve_loss_facts", "interface_defaults", "bound_water", "loss_by_mechanism", "DEFAULT_STONE_SIZE"]
 
 #: Median stone diameter used when a stone fraction is given without a size, m (fine–medium
 #: gravel, common practice).
@@ -29,11 +29,27 @@ DEFAULT_STONE_SIZE = 0.02
 def _interface_table():
     from .presets import load_textures
 
-    rows = sorted((v["clay"], v["interface_n"], v["interface_chi_per_moisture"])
-                  for v in load_textures().values() if "interface_n" in v and "interface_chi_per_moisture" in v)
+    rows = sorted((v["clay"], v["interface_n"], v["interface_chi_per_bound_water"])
+                  for v in load_textures().values() if "interface_n" in v and "interface_chi_per_bound_water" in v)
     if not rows:
-        raise InputError("configs/textures.toml gives no interface_n / interface_chi_per_moisture to default from")
+        raise InputError("configs/textures.toml gives no interface_n / interface_chi_per_bound_water to default from")
     return tuple(np.array(c) for c in zip(*rows))
+
+
+def bound_water(moisture, clay):
+    """Bound-water content θ_b = min(θ, θ_b,max), θ_b,max = 0.02863 + 0.30673·clay (m³/m³).
+
+    θ_b,max is the maximal bound-water fraction of Mironov et al. (2009), written for the
+    clay mass fraction (their C in % times 0.30673e-2; coefficients from memory).
+
+    References
+    ----------
+    Mironov, V. L., Kosolapova, L. G., & Fomin, S. V. (2009). Physically and
+    mineralogically based spectroscopic dielectric model for moist soils. IEEE Trans.
+    Geosci. Remote Sens., 47(7), 2059–2070. doi:10.1109/TGRS.2008.2011631
+    """
+    c = np.asarray(0.0 if clay is None else clay, dtype=float)
+    return np.minimum(np.asarray(moisture, dtype=float), 0.02863 + 0.30673 * c)
 
 
 def interface_defaults(clay):
@@ -57,14 +73,14 @@ def resolve_loss_facts(soil, preset: dict, r: dict) -> None:
     # interface (bound-water / clay-water) relaxation, Jonscher form
     n_def, chi_def = interface_defaults(r["clay"])
     n_def = preset.get("interface_n", n_def)
-    chi_def = preset.get("interface_chi_per_moisture", chi_def)
+    chi_def = preset.get("interface_chi_per_bound_water", chi_def)
     n = check_range("interface_n", n_def if soil.interface_n is None else soil.interface_n, 0.0, 1.0)
     if np.any((n <= 0) | (n >= 1)):
         raise InputError(f"interface_n must be strictly between 0 and 1, got {n[(n <= 0) | (n >= 1)].ravel()[0]:.6g}")
-    chi = soil.interface_chi_per_moisture
-    chi = check_range("interface_chi_per_moisture", chi_def if chi is None else chi, 0.0, 1000.0)
+    chi = soil.interface_chi_per_bound_water
+    chi = check_range("interface_chi_per_bound_water", chi_def if chi is None else chi, 0.0, 1000.0)
     on = bool(soil.interface_relaxation) and soil.model == "crim"
-    r["interface_n"], r["interface_chi"] = n, (chi * r["moisture"] if on else None)
+    r["interface_n"], r["interface_chi"] = n, (chi * bound_water(r["moisture"], r["clay"]) if on else None)
     # stones (volume scatterers)
     fv = soil.stone_fraction if soil.stone_fraction is not None else preset.get("stone_fraction", 0.0)
     fv = check_range("stone_fraction", fv, 0.0, 1.0, unit="(volume fraction)")

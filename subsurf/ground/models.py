@@ -103,7 +103,8 @@ class Soil:
         the texture's mineral, else illite (0.25 eq/kg).
     interface_relaxation : bool
         Add the bound-water / clay–water interface loss (Jonscher term, model "crim"
-        only; default True).  ``interface_n``, ``interface_chi_per_moisture`` override
+        only; default True), proportional to the bound water (:func:`~subsurf.soil.losses.bound_water`).
+        ``interface_n``, ``interface_chi_per_bound_water`` override
         the texture's parameters (see ``configs/textures.toml``; without a texture
         they are interpolated between the presets by clay fraction).
     stone_fraction, stone_size, eps_stone, stone_size_sd_log : float or array_like, optional
@@ -140,7 +141,7 @@ class Soil:
     clay_mineral: str | None = None
     interface_relaxation: bool = True
     interface_n: Any = None
-    interface_chi_per_moisture: Any = None
+    interface_chi_per_bound_water: Any = None
     stone_fraction: Any = None
     stone_size: Any = None
     eps_stone: Any = None

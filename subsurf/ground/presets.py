@@ -81,9 +81,9 @@ def _loss_facts(path, key, entry, rec):
     n = entry.get("interface_n")
     if n is not None:
         rec["interface_n"] = _number(path, key, "interface_n", n, 0.05, 0.999)
-    chi = entry.get("interface_chi_per_moisture")
+    chi = entry.get("interface_chi_per_bound_water")
     if chi is not None:
-        rec["interface_chi_per_moisture"] = _number(path, key, "interface_chi_per_moisture", chi, 0.0, 1000.0)
+        rec["interface_chi_per_bound_water"] = _number(path, key, "interface_chi_per_bound_water", chi, 0.0, 1000.0)
     if "stone_fraction" in entry:
         rec["stone_fraction"] = _number(path, key, "stone_fraction", entry["stone_fraction"], 0.0, 1.0)
         porosity = 1.0 - rec["bulk_density"] / rec["particle_density"]

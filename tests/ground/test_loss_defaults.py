@@ -1,0 +1,94 @@
+"""Sourced loss defaults of soils: clay CEC table, counter-ion temperature correction, published data."""
+
+import numpy as np
+import pytest
+
+from subsurf.errors import InputError
+from subsurf.ground import Soil
+from subsurf.ground.conductivity import (
+    CLAY_CEC,
+    CLAY_MINERAL_CEC,
+    clay_cec_of_mineral,
+    waxman_smits_conductivity,
+)
+from subsurf.ground.presets import load_textures
+from subsurf.propagation import max_detectable_depth, two_way_loss_db
+from subsurf.waves.propagation import wave_properties
+
+
+def test_clay_cec_table_orders_minerals():
+    """Grim (1968) table (from memory): kaolinite < illite ≈ chlorite < smectite ≤ vermiculite, in eq/kg."""
+    c = {k: clay_cec_of_mineral(k) for k in CLAY_MINERAL_CEC}
+    assert c["kaolinite"] < c["illite"] == c["chlorite"] < c["smectite"] <= c["vermiculite"]
+    assert CLAY_CEC == c["illite"] == pytest.approx(0.25)
+    assert clay_cec_of_mineral("montmorillonite") == c["smectite"]
+
+
+def test_soil_clay_mineral_sets_surface_conduction():
+    """More exchange capacity, more conduction: smectite > illite > kaolinite; clay_cec overrides."""
+    s = {m: float(Soil(moisture=0.25, texture="clay", clay_mineral=m).conductivity())
+         for m in ("kaolinite", "illite", "smectite")}
+    assert s["kaolinite"] < s["illite"] < s["smectite"]
+    assert float(Soil(moisture=0.25, texture="clay", clay_cec=0.25).conductivity()) == pytest.approx(s["illite"])
+    with pytest.raises(InputError, match="clay_cec or clay_mineral"):
+        Soil(moisture=0.25, texture="clay", clay_cec=0.3, clay_mineral="illite")
+
+
+def test_counter_ion_conductance_follows_temperature():
+    """The clay term scales by 1 + 0.02(T − 25) (Revil et al. 1998, from memory) as the pore water does."""
+    kw = dict(porosity=0.4, saturation=1.0, qv=300.0, m=1.5)
+    sw25 = 0.05
+    c25 = waxman_smits_conductivity(sw25, **kw, temp_c=25.0)
+    c5 = waxman_smits_conductivity(sw25 * 0.6, **kw, temp_c=5.0)  # water EC at 5 °C by the same 2 %/°C
+    assert c5 == pytest.approx(0.6 * c25, rel=1e-12)
+
+
+def test_every_texture_has_sourced_loss_facts():
+    """Each texture preset names its loss facts and their source; no stones in fine-earth classes (USDA)."""
+    for name, t in load_textures().items():
+        assert 0 < t["interface_n"] < 1 and t["interface_chi_per_bound_water"] >= 0, name
+        assert t["stone_fraction"] == 0.0 and "USDA" in t["loss_source"], name
+
+
+def test_saturated_sand_attenuation_in_davis_annan_range():
+    """Davis & Annan (1989) table (configs/materials.toml, from memory): saturated sand with σ 0.1–1 mS/m
+    attenuates 0.03–0.3 dB/m at 100 MHz; the default interface term must not push it out.  Clean sand
+    (clay 0, as the table's class) with very fresh pore water (0.5 mS/m) gives σ at the table's low end;
+    at its high end (1 mS/m) conduction alone is σZ₀/(2√ε')·8.686 = 0.34 dB/m, above the table's 0.3, so
+    only the low end is a usable check."""
+    soil = Soil(moisture=0.39, texture="sand", clay=0.0, pore_water_ec25=0.0005)
+    eps, sig = soil.electrical(100e6)
+    assert 1e-4 <= sig <= 2e-4
+    a = wave_properties(eps, sig, 100e6).attenuation_db_per_m
+    assert 0.03 <= a <= 0.3
+
+
+@pytest.mark.parametrize("texture, moisture", [
+    ("loam", 0.20), ("clay", 0.35),
+    pytest.param("sand", 0.05, marks=pytest.mark.xfail(
+        strict=True, reason="known: Peplinski's regression gives sand an effective conductivity of ~40 mS/m "
+                            "(its σ_eff term) and so 3x our loss at 0.5 GHz; not resolved")),
+])
+def test_attenuation_within_factor_two_of_peplinski_measured_fit(texture, moisture):
+    """Published fit to measured soils, Peplinski et al. (1995) 0.3–1.3 GHz: CRIM + interface α within 2x."""
+    f = np.array([0.5e9, 1.0e9])
+    crim = Soil(moisture=moisture, texture=texture)
+    pep = Soil(moisture=moisture, texture=texture, model="peplinski")
+    a = wave_properties(*crim.electrical(f), f).attenuation_db_per_m
+    b = wave_properties(*pep.electrical(f), f).attenuation_db_per_m
+    assert np.all((a / b > 0.5) & (a / b < 2.0))
+
+
+def test_field_trend_smith_and_jol_1995():
+    """Smith & Jol (1995), J. Appl. Geophys. 33:93–100, gravel pit, one 1000 V transmitter: maximum depths
+    52, 47, 37, 28 m at 25, 50, 100, 200 MHz.  Performance set once at 25 MHz (52 m); the predicted depth
+    ratios at 50–200 MHz follow the measured ratios within ±0.1.  Ground: the 'sand' texture at 5 %
+    moisture (quartzose, above the water table; moisture not given by the paper, an assumption), planar
+    reflector |R| = 0.1.  Uses subsurf.propagation.max_detectable_depth (the plain range equation)."""
+    f = np.array([25e6, 50e6, 100e6, 200e6])
+    measured = np.array([52.0, 47.0, 37.0, 28.0])
+    eps, sig = Soil(moisture=0.05, texture="sand").electrical(f)
+    perf = float(two_way_loss_db(52.0, eps[0], sig[0], f[0], target="planar", reflection=0.1))
+    d = np.array([max_detectable_depth(eps[i], sig[i], f[i], perf, target="planar", reflection=0.1)
+                  for i in range(4)])
+    np.testing.assert_allclose(d / d[0], measured / measured[0], atol=0.1)
