@@ -33,7 +33,8 @@ def test_medium_default_table_lists_common_frequencies():
     p = run("medium", "--eps", "4", "--sigma", "0")
     assert p.returncode == 0, p.stderr
     assert "v (m/ns)" in p.stdout and "α (dB/m)" in p.stdout
-    lines = [ln for ln in p.stdout.splitlines() if ln.strip().startswith(("25 ", "2600"))]
+    first_table = p.stdout.split("Loss per mechanism")[0]
+    lines = [ln for ln in first_table.splitlines() if ln.strip().startswith(("25 ", "2600"))]
     assert len(lines) == 2
 
 
@@ -119,3 +120,76 @@ def test_medium_bare_moisture_above_one_suggests_percent():
     assert p.returncode == 1
     assert len(p.stderr.strip().splitlines()) == 1
     assert "--moisture" in p.stderr and "between 0 and 1" in p.stderr and "'20 %'" in p.stderr
+
+
+def test_medium_json_has_loss_per_mechanism_summing_to_total():
+    """Loss budget per mechanism (dB/m): conduction + water + interface + scattering = total = α + scattering."""
+    p = run("medium", "--texture", "loam", "--moisture", "20 %", "--stone-fraction", "20 %", "--stone-size", "60",
+            "--freq", "100", "--freq", "1000", "--json")
+    assert p.returncode == 0, p.stderr
+    for row in json.loads(p.stdout)["rows"]:
+        loss = row["loss_db_per_m"]
+        parts = loss["conduction"] + loss["water_relaxation"] + loss["interface_relaxation"] + loss["scattering"]
+        assert parts == pytest.approx(loss["total"], rel=1e-12)
+        assert loss["total"] - loss["scattering"] == pytest.approx(row["attenuation_db_per_m"], rel=1e-12)
+        assert min(loss.values()) >= 0 and loss["scattering"] > 0
+    assert "Loss per mechanism" in run("medium", "--texture", "loam", "--moisture", "20 %").stdout
+
+
+def test_direct_ground_without_slope_says_conduction_only():
+    """--eps/--sigma without --q-star: one line saying the frequency dependence is conduction only."""
+    p = run("medium", "--eps", "5", "--sigma", "0.1", "--freq", "100", "--freq", "1000")
+    assert p.returncode == 0, p.stderr
+    assert "conduction only" in p.stdout
+
+
+def test_direct_ground_q_star_raises_loss_with_frequency():
+    """--q-star 20 (ε' 5): α ≈ πf/(Q* v) (Turner & Siggins 1994) at 1 GHz, within 3 % (Q → Q* and dispersion)."""
+    p = run("medium", "--eps", "5", "--q-star", "20", "--freq", "1000", "--json")
+    assert p.returncode == 0, p.stderr
+    row = json.loads(p.stdout)["rows"][0]
+    want = math.pi * 1e9 / (20 * row["velocity_m_per_ns"] * 1e9) * 20 / math.log(10)
+    assert row["attenuation_db_per_m"] == pytest.approx(want, rel=0.03)
+
+
+def test_direct_ground_two_attenuations_reproduced():
+    """Two --attenuation-at values are reproduced by the fitted ground (σ and Q), within 2 %."""
+    p = run("medium", "--eps", "6", "--attenuation-at", "100 MHz=1.2", "--attenuation-at", "500=3",
+            "--freq", "100", "--freq", "500", "--json")
+    assert p.returncode == 0, p.stderr
+    rows = json.loads(p.stdout)["rows"]
+    assert [r["attenuation_db_per_m"] for r in rows] == pytest.approx([1.2, 3.0], rel=0.02)
+
+
+def test_clay_and_archie_flags_change_conductivity():
+    """--clay-mineral / --clay-cec (cmol(+)/kg) and --archie-m reach the soil's σ_DC."""
+    def sigma(*extra):
+        p = run("medium", "--texture", "clay", "--moisture", "30 %", "--freq", "100", "--json", *extra)
+        assert p.returncode == 0, p.stderr
+        return json.loads(p.stdout)["rows"][0]["sigma_dc_ms_per_m"]
+
+    base = sigma()
+    assert sigma("--clay-mineral", "smectite") > base > sigma("--clay-mineral", "kaolinite")
+    assert sigma("--clay-cec", "25") == pytest.approx(base, rel=1e-9)
+    assert sigma("--archie-m", "2.0") < base
+
+
+@pytest.mark.parametrize("args, flag", [
+    (["--texture", "sand", "--moisture", "0.1", "--stone-fraction", "1.5"], "stone-fraction"),
+    (["--texture", "sand", "--moisture", "0.1", "--stone-fraction", "0.7"], "1 - porosity"),
+    (["--texture", "sand", "--moisture", "0.1", "--stone-size", "-2"], "stone_size"),
+    (["--texture", "sand", "--moisture", "0.1", "--roughness", "-1"], "surface_roughness"),
+    (["--eps", "5", "--q-star", "0"], "--q-star"),
+    (["--eps", "5", "--attenuation-at", "100=2", "--attenuation-at", "500=1"], "negative dielectric loss"),
+    (["--eps", "5", "--attenuation-at", "100=0.5", "--attenuation-at", "200=3"], "negative conduction loss"),
+    (["--eps", "5", "--attenuation-at", "100=0.5"], "exactly twice"),
+    (["--texture", "sand", "--moisture", "0.1", "--q-star", "20"], "--q-star"),
+    (["--eps", "5", "--clay-cec", "30"], "--clay-cec"),
+])
+def test_bad_loss_input_is_one_line_exit_1(args, flag):
+    """Bad input: one line on stderr naming the flag or field and the allowed range, exit 1, nothing on stdout."""
+    p = run("medium", *args)
+    assert p.returncode == 1
+    assert p.stdout == ""
+    lines = p.stderr.strip().splitlines()
+    assert len(lines) == 1 and flag in lines[0], p.stderr
