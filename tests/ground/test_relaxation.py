@@ -12,7 +12,6 @@ from subsurf.ground.relaxation import (
 )
 
 
-
 def kk_principal_value(eps_imag, f0):
     """P∫₀^∞ f ε''(f)/(f² − f0²) df (frequencies in units of f0 handled by the caller)."""
     near, _ = integrate.quad(lambda f: f * eps_imag(f) / (f + f0), 1e-9 * f0, 2.0 * f0, weight="cauchy",
