@@ -219,7 +219,8 @@ def _direct_loss_slope(args, eps, facts):
     if q_star is None and not pairs:
         return None, ("loss frequency dependence: conduction only (constant ε); give --q-star or two "
                       "--attenuation-at for a loss that rises with frequency")
-    from ..ground.constant_q import loss_from_two_attenuations, q_from_q_star
+    from ..ground.constant_q import q_from_q_star
+    from ..waves.attenuation import loss_from_two_attenuations
 
     if q_star is not None:
         qs = _plain_number(q_star, "--q-star")

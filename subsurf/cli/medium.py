@@ -23,12 +23,13 @@ def compute(medium, freqs_hz) -> dict:
     """Wave-property rows (human units) for ``medium`` at ``freqs_hz``."""
     import numpy as np
 
+    from ..waves.attenuation import medium_loss_by_mechanism
     from ..waves.propagation import wave_properties
 
     f = np.asarray(freqs_hz, dtype=float)
     eps, sigma = medium.electrical(f)
     w = wave_properties(eps, sigma, f)
-    loss = medium.loss_by_mechanism(f)
+    loss = medium_loss_by_mechanism(medium, f)
     rows = []
     for i in range(f.size):
         rows.append({

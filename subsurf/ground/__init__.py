@@ -2,7 +2,10 @@
 
 Modules: :mod:`.water` (free and saline water), :mod:`.mixing` (Topp 1980, CRIM /
 Lichtenecker–Rother), :mod:`.conductivity` (pore-water EC, Archie, Waxman–Smits),
-:mod:`.peplinski` (Peplinski et al. 1995), :mod:`.models` (the :class:`Soil` type) and
+:mod:`.clay` (CEC per clay mineral), :mod:`.peplinski` (Peplinski et al. 1995),
+:mod:`.relaxation` (Cole–Cole, Jonscher, constant Q), :mod:`.constant_q` (Q*),
+:mod:`.scattering` (Mie volume scattering by stones), :mod:`.roughness` (Ament factor),
+:mod:`.losses` (loss facts of a soil), :mod:`.models` (the :class:`Soil` type) and
 :mod:`.presets` (loaders of the bundled texture and material tables).
 
 Permittivities follow ε = ε' − jε'' with ε'' >= 0; all functions broadcast over numpy
@@ -27,9 +30,14 @@ from .mixing import (
     topp_moisture,
     topp_permittivity,
 )
+from .clay import CLAY_MINERAL_CEC, clay_cec_of_mineral
+from .constant_q import attenuation_from_q_star, q_from_q_star, q_star_from_q
 from .models import Soil
 from .peplinski import peplinski_effective_conductivity, peplinski_permittivity
 from .presets import load_materials, load_textures, texture_preset
+from .relaxation import cole_cole_permittivity, constant_q_permittivity, jonscher_permittivity
+from .roughness import roughness_reflection_factor, roughness_transmission_factor
+from .scattering import mie_efficiencies, scattering_attenuation
 from .water import (
     salinity_from_conductivity,
     water_conductivity,
@@ -64,4 +72,16 @@ __all__ = [
     "load_textures",
     "load_materials",
     "texture_preset",
+    "CLAY_MINERAL_CEC",
+    "clay_cec_of_mineral",
+    "cole_cole_permittivity",
+    "jonscher_permittivity",
+    "constant_q_permittivity",
+    "attenuation_from_q_star",
+    "q_from_q_star",
+    "q_star_from_q",
+    "scattering_attenuation",
+    "mie_efficiencies",
+    "roughness_reflection_factor",
+    "roughness_transmission_factor",
 ]

@@ -2,9 +2,8 @@
 
 :func:`resolve_loss_facts` turns the optional loss fields of :class:`subsurf.soil.Soil`
 into validated arrays, filling what is not given from the texture preset or, without a
-texture, from the presets interpolated by clay fraction.  :func:`loss_by_mechanism`
-splits the attenuation of a ground into conduction, water relaxation, interface
-relaxation and scattering.
+texture, from the presets interpolated by clay fraction (the split of α by mechanism is
+:func:`subsurf.waves.attenuation.loss_by_mechanism`).
 """
 
 from __future__ import annotations
@@ -15,14 +14,63 @@ import numpy as np
 
 from ..errors import InputError, check_nonnegative, check_positive, check_range
 from .conductivity import CLAY_CEC, clay_cec_of_mineral
+from .relaxation import JONSCHER_REFERENCE_FREQ_HZ, jonscher_susceptibility
 from .roughness import SURFACE_ROUGHNESS_M
 from .scattering import STONE_PERMITTIVITY
 
-__all__ = ["resolve_loss_facts", "interface_defaults", "bound_water", "loss_by_mechanism", "DEFAULT_STONE_SIZE"]
+__all__ = ["SoilLossMixin", "INTERFACE_PIN_FREQ_HZ", "resolve_loss_facts", "interface_defaults", "bound_water", "DEFAULT_STONE_SIZE"]
 
 #: Median stone diameter used when a stone fraction is given without a size, m (fine–medium
 #: gravel, common practice).
 DEFAULT_STONE_SIZE = 0.02
+#: Frequency at which the interface term leaves the CRIM ε' unchanged, Hz (see SoilLossMixin.interface_susceptibility).
+INTERFACE_PIN_FREQ_HZ = 500e6
+
+
+class SoilLossMixin:
+    """The loss methods of :class:`subsurf.soil.Soil` (its resolved fields live in ``self._r``)."""
+
+    def interface_susceptibility(self, freq_hz):
+        """The interface (bound-water / clay–water) term of :meth:`permittivity`; 0 when off.
+
+        χ(f) − χ'(f_pin): the Jonscher term of the texture (Hollender & Tillard 1998) less
+        its real part at f_pin = 500 MHz, a real constant (a shift of ε∞, still causal),
+        so that the CRIM ε' — calibrated like Topp's against TDR in this band — is kept at
+        f_pin and the term adds the loss and the dispersion Kramers–Kronig ties to it.
+        """
+        r = self._r
+        f = np.asarray(freq_hz, dtype=float)
+        if r["interface_chi"] is None:
+            return np.zeros(np.broadcast_shapes(np.shape(f), r["shape"]), dtype=complex)[()]
+        chi, n = r["interface_chi"], r["interface_n"]
+        pin = chi * np.exp((n - 1.0) * np.log(INTERFACE_PIN_FREQ_HZ / JONSCHER_REFERENCE_FREQ_HZ))
+        return jonscher_susceptibility(f, chi, n) - pin
+
+    def scattering_attenuation(self, freq_hz, *, eps=None):
+        """Volume-scattering attenuation of the stones in Np/m (one way, amplitude); 0 without stones.
+
+        ``eps`` (the :meth:`permittivity` at ``freq_hz``) may be passed to avoid recomputing it.
+        See :func:`subsurf.soil.scattering.scattering_attenuation`.
+        """
+        from .scattering import scattering_attenuation
+
+        r = self._r
+        host = self.permittivity(freq_hz) if eps is None else eps
+        shape = np.broadcast_shapes(np.shape(host), np.shape(r["stone_fraction"]))
+        if not np.any(r["stone_fraction"] > 0):
+            return np.zeros(shape)[()]
+        return scattering_attenuation(freq_hz, np.maximum(np.real(host), 1.0), stone_fraction=r["stone_fraction"],
+                                      stone_size=r["stone_size"], eps_stone=r["eps_stone"],
+                                      size_sd_log=r["stone_size_sd_log"])
+
+    @property
+    def loss_facts(self) -> dict:
+        """The resolved loss facts (SI): clay CEC, interface n and χ, stones, surface roughness."""
+        r = self._r
+        keys = ("clay_cec", "interface_n", "interface_chi", "stone_fraction", "stone_size", "eps_stone",
+                "stone_size_sd_log", "surface_roughness")
+        return {k: r[k] for k in keys}
+
 
 
 @lru_cache(maxsize=1)
@@ -98,57 +146,3 @@ def resolve_loss_facts(soil, preset: dict, r: dict) -> None:
     rough = SURFACE_ROUGHNESS_M if soil.surface_roughness is None else soil.surface_roughness
     r["surface_roughness"] = check_range("surface_roughness", rough, 0.0, 1.0, unit="m")
     check_nonnegative("surface_roughness", r["surface_roughness"])
-
-
-def loss_by_mechanism(eps_water, eps_interface, sigma, freq_hz, *, scattering_np_per_m=0.0):
-    """One-way attenuation in dB/m split by mechanism, exactly.
-
-    Parameters
-    ----------
-    eps_water : complex or array_like
-        Permittivity without the interface term (its ε'' is the free-water relaxation).
-    eps_interface : complex or array_like
-        The interface (bound-water) susceptibility added to it (0 when absent).
-    sigma : float or array_like
-        DC conductivity, S/m.
-    freq_hz : float or array_like
-        Frequency, Hz.
-    scattering_np_per_m : float or array_like
-        Scattering attenuation, Np/m (:func:`subsurf.soil.scattering.scattering_attenuation`).
-
-    Returns
-    -------
-    dict
-        ``conduction``, ``water_relaxation``, ``interface_relaxation``, ``scattering``
-        and ``total`` in dB/m.
-
-    Notes
-    -----
-    The intrinsic α = ωμ₀σ_eff/(2β) is linear in σ_eff = σ + ωε₀(ε''_w + ε''_i) at the
-    common β, so α splits exactly into the shares σ/σ_eff, ωε₀ε''_w/σ_eff and
-    ωε₀ε''_i/σ_eff.  Scattering adds to the amplitude attenuation (independent loss
-    of coherent power).
-    """
-    from scipy import constants
-
-    from ..waves.propagation import NP_TO_DB, _alpha_beta
-
-    f = np.asarray(freq_hz, dtype=float)
-    omega = 2.0 * np.pi * f
-    eps = np.asarray(eps_water, dtype=complex) + np.asarray(eps_interface, dtype=complex)
-    s = np.asarray(sigma, dtype=float)
-    alpha, _ = _alpha_beta(eps.real, -eps.imag, s, omega)
-    w_part = omega * constants.epsilon_0 * np.maximum(-np.asarray(eps_water, dtype=complex).imag, 0.0)
-    i_part = omega * constants.epsilon_0 * np.maximum(-np.asarray(eps_interface, dtype=complex).imag, 0.0)
-    total = s + w_part + i_part
-    with np.errstate(invalid="ignore", divide="ignore"):
-        share = np.where(total > 0, alpha / np.where(total > 0, total, 1.0), 0.0)
-    scat = np.broadcast_to(np.asarray(scattering_np_per_m, dtype=float), np.shape(alpha))
-    out = {
-        "conduction": s * share * NP_TO_DB,
-        "water_relaxation": w_part * share * NP_TO_DB,
-        "interface_relaxation": i_part * share * NP_TO_DB,
-        "scattering": scat * NP_TO_DB,
-    }
-    out["total"] = (alpha + scat) * NP_TO_DB
-    return {k: (v[()] if np.ndim(v) == 0 else v) for k, v in out.items()}

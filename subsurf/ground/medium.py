@@ -41,24 +41,3 @@ class Medium:
             eps = constant_q_permittivity(f, self.eps_const.real, self.q, reference_freq_hz=self.reference_freq_hz)
             return np.asarray(eps, dtype=complex) + 1j * self.eps_const.imag, sigma
         return np.full(f.shape, self.eps_const, dtype=complex), sigma
-
-    def loss_by_mechanism(self, freq_hz) -> dict:
-        """One-way attenuation in dB/m by mechanism at ``freq_hz`` (see :func:`subsurf.soil.losses.loss_by_mechanism`).
-
-        For a soil: conduction (σ_DC), water relaxation (free-water Debye in ε''),
-        interface relaxation (the Jonscher term), scattering (stones).  For a direct
-        description the dielectric ε'' (given, or of the Q model) is reported as
-        interface relaxation.
-        """
-        import numpy as np
-
-        from .losses import loss_by_mechanism
-
-        f = np.asarray(freq_hz, dtype=float)
-        eps, sigma = self.electrical(f)
-        if self.soil is not None:
-            inter = self.soil.interface_susceptibility(f)
-            scat = self.soil.scattering_attenuation(f, eps=eps)
-            return loss_by_mechanism(eps - inter, inter, sigma, f, scattering_np_per_m=scat)
-        zero = np.zeros(np.shape(eps), dtype=complex)
-        return loss_by_mechanism(eps.real + zero, -1j * np.maximum(-eps.imag, 0.0), sigma, f)

@@ -25,11 +25,10 @@ from .conductivity import (
     salinity_from_ec25,
     waxman_smits_conductivity,
 )
-from .losses import resolve_loss_facts
+from .losses import SoilLossMixin, resolve_loss_facts
 from .mixing import crim_permittivity, topp_permittivity
 from .peplinski import peplinski_permittivity
 from .presets import texture_preset
-from .relaxation import JONSCHER_REFERENCE_FREQ_HZ, jonscher_susceptibility
 from .water import _temperature, water_conductivity, water_permittivity
 
 __all__ = ["Soil", "DEFAULT_PORE_WATER_EC25", "DEFAULT_PARTICLE_DENSITY", "DEFAULT_PEPLINSKI_BULK_DENSITY"]
@@ -43,8 +42,6 @@ DEFAULT_PARTICLE_DENSITY = 2660.0
 DEFAULT_PEPLINSKI_BULK_DENSITY = 1500.0
 
 _MODELS = ("crim", "peplinski", "topp")
-#: Frequency at which the interface term leaves the CRIM ε' unchanged, Hz (see Soil.interface_susceptibility).
-INTERFACE_PIN_FREQ_HZ = 500e6
 _POROSITY_TOLERANCE = 0.02
 
 
@@ -56,7 +53,7 @@ def _first_bad(mask, *arrays):
 
 
 @dataclass(frozen=True, eq=False)
-class Soil:
+class Soil(SoilLossMixin):
     """A soil as the radar wave sees it.
 
     Parameters
@@ -357,47 +354,6 @@ class Soil:
         sigma = 0.0 if self.conduction_in_eps else self.conductivity()
         sigma = np.broadcast_to(np.asarray(sigma, dtype=float), np.shape(eps)).copy()
         return eps, (sigma[()] if sigma.ndim == 0 else sigma)
-
-    def interface_susceptibility(self, freq_hz):
-        """The interface (bound-water / clay–water) term of :meth:`permittivity`; 0 when off.
-
-        χ(f) − χ'(f_pin): the Jonscher term of the texture (Hollender & Tillard 1998) less
-        its real part at f_pin = 500 MHz, a real constant (a shift of ε∞, still causal),
-        so that the CRIM ε' — calibrated like Topp's against TDR in this band — is kept at
-        f_pin and the term adds the loss and the dispersion Kramers–Kronig ties to it.
-        """
-        r = self._r
-        f = np.asarray(freq_hz, dtype=float)
-        if r["interface_chi"] is None:
-            return np.zeros(np.broadcast_shapes(np.shape(f), r["shape"]), dtype=complex)[()]
-        chi, n = r["interface_chi"], r["interface_n"]
-        pin = chi * np.exp((n - 1.0) * np.log(INTERFACE_PIN_FREQ_HZ / JONSCHER_REFERENCE_FREQ_HZ))
-        return jonscher_susceptibility(f, chi, n) - pin
-
-    def scattering_attenuation(self, freq_hz, *, eps=None):
-        """Volume-scattering attenuation of the stones in Np/m (one way, amplitude); 0 without stones.
-
-        ``eps`` (the :meth:`permittivity` at ``freq_hz``) may be passed to avoid recomputing it.
-        See :func:`subsurf.soil.scattering.scattering_attenuation`.
-        """
-        from .scattering import scattering_attenuation
-
-        r = self._r
-        host = self.permittivity(freq_hz) if eps is None else eps
-        shape = np.broadcast_shapes(np.shape(host), np.shape(r["stone_fraction"]))
-        if not np.any(r["stone_fraction"] > 0):
-            return np.zeros(shape)[()]
-        return scattering_attenuation(freq_hz, np.maximum(np.real(host), 1.0), stone_fraction=r["stone_fraction"],
-                                      stone_size=r["stone_size"], eps_stone=r["eps_stone"],
-                                      size_sd_log=r["stone_size_sd_log"])
-
-    @property
-    def loss_facts(self) -> dict:
-        """The resolved loss facts (SI): clay CEC, interface n and χ, stones, surface roughness."""
-        r = self._r
-        keys = ("clay_cec", "interface_n", "interface_chi", "stone_fraction", "stone_size", "eps_stone",
-                "stone_size_sd_log", "surface_roughness")
-        return {k: r[k] for k in keys}
 
     # ------------------------------------------------------------------ edge input
     @classmethod

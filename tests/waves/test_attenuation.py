@@ -4,14 +4,9 @@ import numpy as np
 import pytest
 
 from subsurf.errors import InputError
-from subsurf.ground.constant_q import (
-    attenuation_from_q_star,
-    loss_from_two_attenuations,
-    q_from_q_star,
-    q_star,
-    q_star_from_q,
-)
+from subsurf.ground.constant_q import attenuation_from_q_star, q_from_q_star, q_star_from_q
 from subsurf.ground.relaxation import constant_q_permittivity
+from subsurf.waves.attenuation import loss_from_two_attenuations, q_star
 from subsurf.waves.propagation import wave_properties
 
 NP = 20 / np.log(10)
