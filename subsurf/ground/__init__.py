@@ -12,6 +12,7 @@ Permittivities follow ε = ε' − jε'' with ε'' >= 0; all functions broadcast
 arrays and accept scalars; SI units throughout.
 """
 
+from .clay import CLAY_MINERAL_CEC, clay_cec_of_mineral
 from .conductivity import (
     archie_conductivity,
     cec_from_clay,
@@ -23,6 +24,7 @@ from .conductivity import (
     waxman_smits_b,
     waxman_smits_conductivity,
 )
+from .constant_q import attenuation_from_q_star, q_from_q_star, q_star_from_q
 from .mixing import (
     crim_permittivity,
     lichtenecker_permittivity,
@@ -30,8 +32,6 @@ from .mixing import (
     topp_moisture,
     topp_permittivity,
 )
-from .clay import CLAY_MINERAL_CEC, clay_cec_of_mineral
-from .constant_q import attenuation_from_q_star, q_from_q_star, q_star_from_q
 from .models import Soil
 from .peplinski import peplinski_effective_conductivity, peplinski_permittivity
 from .presets import load_materials, load_textures, texture_preset
