@@ -26,7 +26,6 @@ Kjartansson, E. (1979). Constant Q-wave propagation and attenuation. J. Geophys.
 from __future__ import annotations
 
 import numpy as np
-from scipy import optimize
 
 from ..errors import InputError, check_nonnegative, check_positive
 
@@ -88,6 +87,8 @@ def q_from_q_star(q_star_value):
     if np.any(qs <= 1.0):
         raise InputError(f"q_star must be > 1 (no constant-Q ground is lossier), got "
                          f"{qs[qs <= 1.0].ravel()[0]:.6g}")
+
+    from scipy import optimize
 
     def one(target):
         fn = lambda g: 2.0 * (1.0 - g) * np.tan(0.5 * np.pi * g) - 1.0 / target  # noqa: E731

@@ -30,8 +30,8 @@ Addison-Wesley (Kirchhoff coherent transmission; from memory).
 from __future__ import annotations
 
 import numpy as np
-from scipy import constants
 
+from .. import _codata as constants  # scipy.constants values without its import cost (start-up)
 from ..errors import check_nonnegative, check_positive, check_range
 
 __all__ = ["roughness_reflection_factor", "roughness_transmission_factor", "SURFACE_ROUGHNESS_M"]

@@ -41,8 +41,8 @@ from __future__ import annotations
 from typing import Literal
 
 import numpy as np
-from scipy import constants, special
 
+from .. import _codata as constants  # scipy.constants values without its import cost (start-up)
 from ..errors import InputError, check_nonnegative, check_positive, check_range
 
 __all__ = [
@@ -109,6 +109,8 @@ def mie_efficiencies(size_parameter, relative_index):
     Q_ext = (2/x²)Σ(2n+1)Re(a_n + b_n), summed to n = x + 4x^(1/3) + 2 (Wiscombe 1980).
     Below x = 0.02 the Rayleigh limit is used (relative error < 1e-3).
     """
+    from scipy import special
+
     x = check_nonnegative("size_parameter", size_parameter)
     m = check_positive("relative_index", relative_index)
     x, m = np.broadcast_arrays(x, m)

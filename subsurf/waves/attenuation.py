@@ -16,8 +16,8 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import constants, optimize
 
+from .. import _codata as constants  # scipy.constants values without its import cost (start-up)
 from ..errors import InputError, check_nonnegative, check_positive
 from ..ground.relaxation import JONSCHER_REFERENCE_FREQ_HZ, constant_q_permittivity
 from .propagation import NP_TO_DB
@@ -150,7 +150,7 @@ def loss_from_two_attenuations(eps_ref, freq1_hz, alpha1, freq2_hz, alpha2, *,
                          f"{f2 / 1e6:g} MHz extrapolates to {a0 * db:.4g} dB/m at 0 Hz, a negative conduction "
                          "loss; allowed: a line through the two with intercept >= 0 (the higher attenuation at "
                          f"most {f2 / f1:.4g}x the lower)")
-    z0 = constants.physical_constants["characteristic impedance of vacuum"][0]
+    z0 = constants.mu_0 * constants.c
     sigma0 = max(a0, 0.0) * 2.0 * np.sqrt(e) / z0
     v = constants.c / np.sqrt(e)
     qinv0 = slope * v / np.pi
@@ -165,6 +165,8 @@ def loss_from_two_attenuations(eps_ref, freq1_hz, alpha1, freq2_hz, alpha2, *,
                if np.isfinite(q) else np.array([e, e], dtype=complex))
         a, _ = _alpha_beta(eps, s, np.array([f1, f2]))
         return (a - np.array([a1, a2])) / scale
+
+    from scipy import optimize
 
     sol = optimize.least_squares(resid, x0=[sigma0, max(qinv0, 1e-9)], bounds=([0.0, 0.0], [np.inf, 2.0]),
                                  xtol=1e-14, ftol=1e-14, gtol=1e-14)
