@@ -13,7 +13,7 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from ..detection.budget import REACHES_MARGIN_DB
+from ..detection.verdicts import REACHES_MARGIN_DB
 
 __all__ = ["NETCDF_NAME", "SUMMARY_COLUMNS", "GEOTIFF_LAYERS", "output_paths", "write_map_outputs", "run_map"]
 

@@ -96,7 +96,7 @@ def compute_maps(survey, *, quiet: bool = True) -> FeasibilityMaps:
     """
     import xarray as xr
 
-    from ..detection.budget import REACHES_MARGIN_DB
+    from ..detection.verdicts import REACHES_MARGIN_DB
     from ..io.progress import steps
     from . import feasibility as fz
     from .grid import build_grid, soil_on_grid
@@ -173,7 +173,7 @@ def summary_rows(maps: FeasibilityMaps) -> list[dict]:
     """Area fractions per scenario and antenna, in percent of the cells inside the site.
 
     Keys: ``scenario``, ``antenna``, ``centre_frequency_mhz``, ``reach_pct`` (margin ≥ 0),
-    ``reach_headroom_pct`` (margin ≥ the reach threshold, :data:`subsurf.detection.budget.REACHES_MARGIN_DB`), ``expected_reach_pct``
+    ``reach_headroom_pct`` (margin ≥ the reach threshold, :data:`subsurf.detection.verdicts.REACHES_MARGIN_DB`), ``expected_reach_pct``
     (mean reach probability), ``reach_p90_pct`` (probability ≥ 0.9), ``median_max_depth_m``
     and ``recommended_pct`` (area where the antenna is the recommended one).
     """

@@ -352,7 +352,7 @@ class RegionSummary:
     """Whole-region statistics accumulated tile by tile (:meth:`add`) while the map is written.
 
     ``reach`` counts cells with margin ≥ 0 dB, ``reach_with_headroom`` cells with margin
-    ≥ the reach threshold (:data:`subsurf.detection.budget.REACHES_MARGIN_DB`).
+    ≥ the reach threshold (:data:`subsurf.detection.verdicts.REACHES_MARGIN_DB`).
     """
 
     antennas: list

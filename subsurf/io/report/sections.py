@@ -15,7 +15,7 @@ from pathlib import Path
 
 import numpy as np
 
-from ...detection.budget import REACHES_MARGIN_DB
+from ...detection.verdicts import REACHES_MARGIN_DB
 from .content import REPORT_FREQS_HZ, ground_table, site_geometry
 from .texts import (
     ASSUMPTIONS,

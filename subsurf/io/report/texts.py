@@ -6,7 +6,7 @@ them out, so the wording can be reviewed in one place.
 
 from __future__ import annotations
 
-from ...detection.budget import REACHES_MARGIN_DB
+from ...detection.verdicts import REACHES_MARGIN_DB
 
 #: survey quantity -> (label, unit shown, factor from SI, format)
 HUMAN = {
