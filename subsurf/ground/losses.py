@@ -46,6 +46,23 @@ class SoilLossMixin:
         pin = chi * np.exp((n - 1.0) * np.log(INTERFACE_PIN_FREQ_HZ / JONSCHER_REFERENCE_FREQ_HZ))
         return jonscher_susceptibility(f, chi, n) - pin
 
+    def _add_interface(self, eps, f):
+        """eps + :meth:`interface_susceptibility` (same values), fused in place on real and imaginary parts."""
+        r = self._r
+        chi, n = r["interface_chi"], r["interface_n"]
+        f = np.asarray(f, dtype=float)
+        out = np.array(np.broadcast_to(eps, np.broadcast_shapes(np.shape(eps), np.shape(chi), np.shape(f))),
+                       dtype=complex)
+        if np.ndim(n) == 0:  # one exponent (a texture): the frequency power is per frequency only
+            power = np.exp((float(n) - 1.0) * np.log(f / JONSCHER_REFERENCE_FREQ_HZ))
+            pin = np.exp((float(n) - 1.0) * np.log(INTERFACE_PIN_FREQ_HZ / JONSCHER_REFERENCE_FREQ_HZ))
+            re = chi * power
+            out.real += re - chi * pin
+            out.imag -= re * (1.0 / np.tan(0.5 * np.pi * float(n)))
+        else:
+            out += self.interface_susceptibility(f)
+        return out[()] if out.ndim == 0 else out
+
     def scattering_attenuation(self, freq_hz, *, eps=None):
         """Volume-scattering attenuation of the stones in Np/m (one way, amplitude); 0 without stones.
 

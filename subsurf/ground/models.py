@@ -308,7 +308,7 @@ class Soil(SoilLossMixin):
             water = water_permittivity(f, r["temp_c"], r["salinity"])
             eps = crim_permittivity(r["moisture"], r["porosity"], r["eps_solid"], water, 1.0)
             if r["interface_chi"] is not None:
-                eps = eps + self.interface_susceptibility(f)
+                eps = self._add_interface(eps, f)
             return eps
         if self.model == "peplinski":
             rb = r["bulk_density"]
