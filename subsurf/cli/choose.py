@@ -246,7 +246,7 @@ def run(args) -> int:
     near = [r["name"] for r in result["rows"] if r["near_field"]]
     if near:
         text += (f"\nNear field: the target is within {result['thresholds']['near_field_wavelengths']:g} wavelength "
-                 f"of {', '.join(near)}; the far-field budget is approximate there.")
+                 f"of {', '.join(near)}; the far-field budget departs from a full-wave solution by more than 2 dB there.")
     pen = [r for r in result["rows"] if r.get("orientation_penalty_db") is not None]
     if pen and t.get("orientation", "parallel") == "parallel":
         worst = max(pen, key=lambda r: r["orientation_penalty_db"])

@@ -145,8 +145,11 @@ def acquisition_for_antenna(medium, antenna, *, target=None, depth_m=None, surfa
         notes.append(f"this antenna's fixed separation ({plan.antenna_separation_m:.3g} m) differs from the "
                      f"optimum for {plan.depth_m:.3g} m ({plan.optimum_separation_m:.3g} m) by more than ×2")
     if bool(budget["near_field"]):
-        notes.append(f"near field: {plan.depth_m:.3g} m is within about a wavelength ({float(budget['wavelength_m']):.2g} m) "
-                     "of the antenna; the far-field budget is approximate there")
+        from ..detection.blindzone import NEAR_FIELD_WAVELENGTHS
+
+        notes.append(f"near field: {plan.depth_m:.3g} m is within {NEAR_FIELD_WAVELENGTHS:g} wavelength "
+                     f"({float(budget['wavelength_m']):.2g} m) of the antenna; the far-field budget departs from a "
+                     "full-wave solution by more than 2 dB there")
     return {
         "antenna": antenna.name,
         "illustrative": antenna.illustrative,
