@@ -56,6 +56,7 @@ from .coupling import coupling_gain
 from .layers import check_layers, overburden_terms
 from .solver import SPREADING_EXPONENT, band_loss_db, band_range_from_loss_terms, depth_from_range
 from .targets import Target, echo_width, radar_cross_section
+from .verdicts import REACHES_MARGIN_DB  # noqa: F401  (the one definition lives in .verdicts; importable here too)
 
 __all__ = [
     "LossTerms",
