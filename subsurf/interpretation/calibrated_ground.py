@@ -128,7 +128,7 @@ class CalibratedGround:
         return cls(max(att, 0.0), f_ref, slope, v, (lo, hi), label, facts)
 
 
-def model_predictions(electrical, *, centre_freq_hz: float, performance_db: float, gain: float,
+def model_predictions(electrical, *, centre_freq_hz: float, performance_db: float, gain: float | None,
                       reference_reflection: float) -> dict:
     """What a ground model predicts for the quantities a calibration measures (for side-by-side output).
 
@@ -165,7 +165,7 @@ def model_predictions(electrical, *, centre_freq_hz: float, performance_db: floa
 
 
 def solver_depth(attenuation_db_per_m: float, velocity: float, freq_hz: float, performance_db: float, *,
-                 gain: float, reference_reflection: float) -> float:
+                 gain: float | None, reference_reflection: float) -> float:
     """Maximum depth (m) of the planar reference reflector in the calibrated ground with ``performance_db``:
     the detection budget's one solver, as choose/setup will use it (equals the observed penetration)."""
     from ..detection import Target, max_depth
