@@ -56,7 +56,7 @@ def read_raster(entry, *, survey_path: Path, where: str) -> RasterLayer:
     if suffix in (".nc", ".nc4", ".netcdf"):
         import xarray as xr
 
-        with xr.open_dataset(path) as ds:
+        with xr.open_dataset(path, engine="netcdf4") as ds:  # named: guessing loads every backend plugin (rioxarray, dask.array)
             var = entry.variable or quantity
             if var not in ds:
                 raise FileInputError(path, f"no variable {var!r} (variables: {', '.join(map(str, ds.data_vars))})",
