@@ -74,23 +74,22 @@ def chain_rate(antennas, target, values):
 
 
 def loop_rate(antennas, target, values, n_cells: int, chain_out):
-    """Per cell: a scalar Soil; per antenna its (eps, sigma) and the loss terms K0, p, alpha once, then
-    brentq on the plain scalar L(d) - P written with math (no project validation inside the iterations).
+    """Per cell: a scalar Soil; per antenna its (eps, sigma) and the loss terms once (subsurf.detection.
+    loss_terms), then brentq on the plain scalar L(d) - P written with math (bench_map's function; no
+    project validation inside the iterations).
 
     Returns the loop's CPU time, that of its brentq part alone, and the largest relative depth difference.
     """
-    import math
-
+    from bench_map import plain_loss_minus_performance
     from scipy.optimize import brentq
 
-    from subsurf.detection.budget import loss_constant_db
+    from subsurf.detection.budget import loss_terms
     from subsurf.ground import Soil
     from subsurf.site.feasibility import _clip_moisture
 
     rng = np.random.default_rng(7)
     flat = {k: v.ravel() for k, v in _clip_moisture(values, texture="loam").items()}
     idx = rng.choice(flat["moisture"].size, n_cells, replace=False)
-    np_to_db2 = 2.0 * 20.0 / math.log(10.0)
     t = time.process_time()
     t_solve = 0.0
     depths = np.empty((len(antennas), n_cells))
@@ -98,14 +97,10 @@ def loop_rate(antennas, target, values, n_cells: int, chain_out):
         soil = Soil(moisture=float(flat["moisture"][i]), pore_water_ec25=float(flat["pore_water_ec"][i]),
                     clay=float(flat["clay"][i]), texture="loam")
         for k, a in enumerate(antennas):
-            eps, sigma = soil.electrical(a.centre_freq_hz)
-            k0, p, alpha = (float(x) for x in loss_constant_db(eps, sigma, a.centre_freq_hz, target, gain=a.gain))
-            perf = a.performance_db
+            eps, sigma = soil.electrical(np.array([a.centre_freq_hz]))
+            f = plain_loss_minus_performance(loss_terms(eps, sigma, np.array([a.centre_freq_hz]), target,
+                                                        gain=a.gain), a.performance_db)
             ts = time.process_time()
-
-            def f(d, k0=k0, p=p, alpha=alpha, perf=perf):
-                return k0 + 10.0 * p * math.log10(d) + np_to_db2 * alpha * d - perf
-
             depths[k, j] = brentq(f, 1e-6, 1e4, xtol=1e-12, rtol=1e-12) if f(1e-6) < 0 else 0.0
             t_solve += time.process_time() - ts
     dt = time.process_time() - t

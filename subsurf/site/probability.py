@@ -59,8 +59,9 @@ DEFAULT_TOLERANCE = 0.01
 #: Finite-difference step, in standard deviations of each quantity.
 STEP_SD = 1.0
 #: Antenna × evaluation × cell elements per chain call: bounds the chain's temporaries
-#: (about 30 float64 arrays of this size, ~250 MiB at most) whatever the grid or draws.
-BLOCK_ELEMENTS = 1 << 20
+#: (a few tens of float64 arrays of this size times the band's frequency nodes, about
+#: 60 MiB at most) whatever the grid or draws.
+BLOCK_ELEMENTS = 1 << 18
 
 Method = Literal["auto", "linearised", "sampling"]
 
@@ -141,10 +142,12 @@ class _Problem:
         clipped = {k: np.clip(v, QUANTITIES[k].low, QUANTITIES[k].high) for k, v in fields.items()}
         clipped = _clip_moisture(clipped, texture=self.kw["texture"])
         try:
-            return feasibility_chain(freq_hz=self.freq, performance_db=self.perf, gain=self.gain,
-                                     margin_only=True, **self.kw, **_chain_kwargs(clipped))["margin_db"]
+            out = feasibility_chain(freq_hz=self.freq, performance_db=self.perf, gain=self.gain,
+                                    margin_only=True, **self.kw, **_chain_kwargs(clipped))
         except SubsurfError as exc:
             raise InputError(f"draws of the soil inputs are not physically possible: {exc}") from None
+        # inside the antenna's blind zone the target is not seen, whatever the margin (as recommend_antenna)
+        return np.where(out["too_shallow"], -np.inf, out["margin_db"])
 
 
 def _blocks(cells: np.ndarray, per_cell: int):
@@ -172,6 +175,10 @@ def _linearised(prob: _Problem, cells: np.ndarray, h: float):
                 pts[2 + 2 * i] -= step
             fields[q] = pts
         m = prob.margins(fields)
+        # a stencil point in the blind zone (margin -inf): no linear model; 'auto' samples these cells
+        kinked = ~np.all(np.isfinite(m), axis=1)
+        centre_reaches = (m[:, 0] >= 0).astype(float)
+        m = np.where(np.isfinite(m), m, 0.0)
         m0 = m[:, 0]
         up, dn = m[:, 1::2], m[:, 2::2]
         g = (up - dn) / (2.0 * h)                      # dM/dz_i
@@ -186,34 +193,66 @@ def _linearised(prob: _Problem, cells: np.ndarray, h: float):
         e = np.abs(first - second)
         for i, q in enumerate(prob.uncertain):
             e = e + _clip_bound(prob, q, blk, m0, g[:, i], var1)
+        first = np.where(kinked, centre_reaches, first)
+        e = np.where(kinked | ~np.isfinite(e), 1.0, e)
         n = blk.size
         p1[:, done:done + n], err[:, done:done + n] = first, e
         done += n
     return p1, err
 
 
-def _clip_bound(prob: _Problem, q: str, cells, m0, g, var1):
-    """Probability the clipping of ``q`` to its range can change, under the linear model.
+def _bivariate_normal_cdf(h, k, rho):
+    """Φ₂(h, k; ρ) = P(X ≤ h, Y ≤ k) for standard normals of correlation ρ (|ρ| < 1), by Owen's T.
 
-    Beyond a bound (z < −a or z > b in standard units) the clipped margin stays at the
-    bound's value while the unclipped linear one keeps moving, so the reach probability
-    can differ by at most P(z beyond the bound) times |P(reach | z at the bound) −
-    P(reach | z → ±∞)|, the conditional probabilities from the other quantities'
-    linear terms (variance s₁² − g_q²).
+    Owen (1956): Φ₂ = ½Φ(h) + ½Φ(k) − T(h, a_h) − T(k, a_k) − β, with
+    a_h = (k − ρh)/(h√(1 − ρ²)), a_k = (h − ρk)/(k√(1 − ρ²)) and β = ½ where hk < 0 or
+    (hk = 0 and h + k < 0), else 0; an argument 0 is nudged to 1e-300 (T is continuous there).
+    """
+    from scipy.special import owens_t
+
+    q = np.sqrt(1.0 - rho * rho)
+    hh = np.where(h == 0, 1e-300, h)
+    kk = np.where(k == 0, 1e-300, k)
+    beta = np.where((hh * kk < 0), 0.5, 0.0)
+    return (0.5 * _normal_cdf(h) + 0.5 * _normal_cdf(k) - owens_t(hh, (kk - rho * hh) / (hh * q))
+            - owens_t(kk, (hh - rho * kk) / (kk * q)) - beta)
+
+
+def _clip_bound(prob: _Problem, q: str, cells, m0, g, var1):
+    """Change of the reach probability that clipping ``q`` to its range makes, under the linear model.
+
+    Beyond a bound at a standard deviations (z < −a, or z > a for the upper one) the clipped
+    margin stays at the bound's value M₀ + g·(∓a) while the linear one keeps moving.  With
+    Y = M₀ + g·Z + (the other quantities' terms, variance r² = s₁² − g²) the change is
+    Δ = Φ(−a)·Φ((M₀ ∓ g·a)/r) − P(Z beyond the bound, Y ≥ 0), the last term a bivariate
+    normal probability of correlation g/s₁ (:func:`_bivariate_normal_cdf`); with r = 0 both
+    terms are one-dimensional.  Returned: Σ |Δ| over the two bounds.
     """
     sd = prob.sd[q][cells]
     mu = prob.flat[q][cells]
+    s1 = np.sqrt(var1)
     rest = np.sqrt(np.maximum(var1 - g * g, 0.0))
     total = np.zeros_like(m0)
-    with np.errstate(divide="ignore", invalid="ignore"):
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         for bound, sign in ((prob.low[q], -1.0), (prob.high[q][cells], 1.0)):
             a = np.where(sd > 0, sign * (bound - mu) / sd, np.inf)  # distance to the bound in sd, ≥ 0 inside
             tail = _normal_cdf(-a)
             at_bound = m0 + g * sign * a
-            cond = np.where(rest > 0, _normal_cdf(at_bound / rest), (at_bound >= 0).astype(float))
-            far = (sign * g > 0).astype(float)  # P(reach | z → ±∞) of the linear model
-            far = np.where(g == 0, cond, far)
-            total = total + np.where(tail > 0, tail * np.abs(cond - far), 0.0)
+            # the margin's variable w = sign·Z: beyond the bound means w > a; slope of Y in w is sign·g
+            gw = sign * g
+            clipped = tail * np.where(rest > 0, _normal_cdf(at_bound / rest), (at_bound >= 0).astype(float))
+            # P(w > a, Y ≥ 0) = P(−w < −a, −Y' < M₀/s₁), Y' standardised, corr(−w, −Y') = gw/s₁
+            rho = np.clip(np.where(s1 > 0, gw / s1, 0.0), -1.0, 1.0)
+            joint = np.where(
+                rest > 1e-12 * np.maximum(s1, 1e-300),
+                _bivariate_normal_cdf(-a, np.where(s1 > 0, m0 / s1, np.inf), np.clip(rho, -0.999999, 0.999999)),
+                # one-dimensional: Y = M₀ + gw·w ≥ 0 with w > a
+                np.where(gw > 0, _normal_cdf(-np.maximum(a, -m0 / np.where(gw != 0, gw, 1.0))),
+                         np.where(gw < 0, np.maximum(_normal_cdf(-a) - _normal_cdf(-(-m0 / np.where(gw != 0, gw, 1.0))),
+                                                     0.0),
+                                  tail * (m0 >= 0))))
+            delta = np.where(tail > 0, np.abs(clipped - joint), 0.0)
+            total = total + delta
     return np.nan_to_num(total, nan=1.0)
 
 

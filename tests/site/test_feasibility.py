@@ -82,13 +82,13 @@ def test_area_fractions_count_cells():
 
 
 def test_monte_carlo_without_uncertainty_is_deterministic_verdict():
-    """With zero standard deviations the probability is 1 where the margin is >= 0, else 0."""
+    """With zero standard deviations the probability is 1 where the margin is >= 0 outside the blind zone, else 0."""
     m = np.linspace(0.05, 0.35, 12).reshape(3, 4)
     vals = {"moisture": m, "pore_water_ec": np.full_like(m, 0.03)}
     out = evaluate(vals, ANTS, target=PIPE, target_depth_m=1.0, texture="loamy_sand")
     p, _ = reach_probability(vals, {}, ANTS, target=PIPE, target_depth_m=1.0, draws=20, seed=1,
                              texture="loamy_sand")
-    assert np.array_equal(p, (out["margin_db"] >= 0).astype(float))
+    assert np.array_equal(p, ((out["margin_db"] >= 0) & ~out["too_shallow"]).astype(float))
 
 
 def test_monte_carlo_matches_analytic_normal_probability():

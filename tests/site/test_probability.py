@@ -187,3 +187,48 @@ def test_bad_options_are_refused(kw, words):
     args.update(kw)
     with pytest.raises(InputError, match=words):
         pr.reach_probability({"moisture": np.array([0.1])}, {"moisture": np.array([0.01])}, ANTS, **args)
+
+
+def test_clipping_term_equals_quadrature_of_the_linear_model():
+    """The clipping error term is the exact change clipping makes to P(M0 + g·z + r·w ≥ 0), z, w ~ N(0, 1):
+    checked against scipy.integrate.quad of ∫ φ(z)·[C(bound) − C(z)] dz beyond each bound; bivariate
+    normal probabilities against scipy.stats.multivariate_normal."""
+    from types import SimpleNamespace
+
+    from scipy.integrate import quad
+    from scipy.stats import multivariate_normal
+
+    rng = np.random.default_rng(3)
+    for trial in range(60):
+        mu, sd = rng.uniform(0, 3), rng.uniform(0.3, 2)
+        lo, hi = 0.0, mu + rng.uniform(0.5, 6)
+        m0, g, r = rng.normal() * 2, rng.normal() * 2, abs(rng.normal()) * (trial % 4 != 0)
+        prob = SimpleNamespace(sd={"q": np.array([sd])}, flat={"q": np.array([mu])}, low={"q": lo},
+                               high={"q": np.array([hi])})
+        got = pr._clip_bound(prob, "q", np.array([0]), np.array([m0]), np.array([g]), np.array([g * g + r * r]))[0]
+
+        def cond(z, m0=m0, g=g, r=r):
+            return norm.cdf((m0 + g * z) / r) if r > 0 else float(m0 + g * z >= 0)
+
+        a_lo, a_hi = (mu - lo) / sd, (hi - mu) / sd
+        d_lo = quad(lambda z, a=a_lo: norm.pdf(z) * (cond(-a) - cond(z)), -np.inf, -a_lo, limit=200)[0]
+        d_hi = quad(lambda z, a=a_hi: norm.pdf(z) * (cond(a) - cond(z)), a_hi, np.inf, limit=200)[0]
+        assert got == pytest.approx(abs(d_lo) + abs(d_hi), abs=1e-6)
+    h, k, rho = rng.normal(size=20) * 2, rng.normal(size=20) * 2, rng.uniform(-0.99, 0.99, 20)
+    want = [multivariate_normal(mean=[0, 0], cov=[[1, c], [c, 1]]).cdf([a, b]) for a, b, c in zip(h, k, rho)]
+    np.testing.assert_allclose(pr._bivariate_normal_cdf(h, k, rho), want, atol=1e-12)
+
+
+def test_blind_zone_counts_as_not_reached_and_is_sampled():
+    """A target inside the blind zone of an antenna is not reached, whatever the margin (as the map's
+    recommendation); cells whose stencil touches the blind zone are sampled, without warnings."""
+    vals = {"moisture": np.array([0.1, 0.2]), "pore_water_ec": np.array([0.03, 0.03])}
+    sds = {"moisture": np.array([0.02, 0.02])}
+    shallow = make_target("line", depth_m=0.02, size_m=0.01, material="metal")
+    kw = dict(target=shallow, target_depth_m=0.02, draws=100, seed=5, texture="loamy_sand")
+    chain = feasibility_chain(vals["moisture"], freq_hz=100e6, performance_db=70.0, gain=2.0, target=shallow,
+                              target_depth_m=0.02, pore_water_ec25=vals["pore_water_ec"], texture="loamy_sand",
+                              margin_only=True)
+    assert np.all(chain["too_shallow"])  # 2 cm is inside a 100 MHz antenna's blind zone
+    r = pr.reach_probability(vals, sds, ANTS[:1], **kw)
+    assert np.all(r.probability == 0.0)
