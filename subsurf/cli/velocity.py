@@ -176,7 +176,11 @@ def run(args) -> int:
                             "radius_m": f.radius, "radius_se_m": f.radius_se if f.radius_fitted else None,
                             "radius_fitted": f.radius_fitted, "offset_m": offset, "time_zero_ns": tz * 1e9,
                             "downweighted": [{"row": int(rows[i]), "weight": float(f.weights[i]),
-                                              "residual_ns": float(f.residuals_s[i] * 1e9)} for i in f.downweighted]})
+                                              "residual_ns": float(f.residuals_s[i] * 1e9)} for i in f.downweighted],
+                            "outliers": [{"row": int(rows[i]), "residual_ns": float(f.residuals_s[i] * 1e9),
+                                          "studentized": float(f.studentized[i])} for i in f.outliers],
+                            "outlier_rule": f"|externally studentized residual| > {f.outlier_threshold:.2f} "
+                                            "(flags 1 % of clean picks)"})
                 rec["flags"] = fit_flags(list(f.parameters), [getattr(f, n) for n in f.parameters], f.covariance,
                                          positions=("x0",))
                 curve = (f.twt(cx) + tz) * 1e9
@@ -255,10 +259,11 @@ def run(args) -> int:
         cols += [Column("depth_m", "known depth", "m", ".3f"), Column("twt_ns", "twt", "ns", ".2f")]
     text = [format_table(fits, cols, title=f"Velocity ({method})")]
     for r in fits:
-        for d in r.get("downweighted", []):
-            if d["weight"] < 0.5:
-                text.append(f"  {r['target']}: row {d['row']} down-weighted to {d['weight']:.2f} "
-                            f"(residual {d['residual_ns']:+.2f} ns) - check this pick")
+        weights = {d["row"]: d["weight"] for d in r.get("downweighted", [])}
+        for d in r.get("outliers", []):
+            text.append(f"  {r['target']}: row {d['row']} residual {d['residual_ns']:+.2f} ns, studentized "
+                        f"{d['studentized']:+.1f} > {r['outlier_rule'].split('> ')[1].split(' ')[0]}, weight "
+                        f"{weights.get(d['row'], 1.0):.2f} - check this pick")
         if r.get("radius_fitted"):
             text.append(f"  {r['target']}: radius fitted {r['radius_m']:.3f} ± {r['radius_se_m']:.3f} m")
         for flag in r.get("flags", []):
@@ -280,6 +285,9 @@ def run(args) -> int:
             text.append(f"  layered model: {flag}")
     for w in warnings:
         text.append(f"WARNING: {w}")
+    if any(r.get("outliers") for r in fits):
+        text.append("check-this-pick rule: |externally studentized residual| above the Student-t point that "
+                    "flags 1 % of clean picks")
     text.append("standard errors: fit covariance scaled by the picks' own residuals"
                 if not calib else "standard error: first order from the depth, pick and time-zero uncertainties")
     if written:
