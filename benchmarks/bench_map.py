@@ -87,7 +87,9 @@ def main():
         for k, a in enumerate(ants):
             fb, wb = detection.band_nodes(a.centre_freq_hz, a.bandwidth_hz)
             eps, sig = soil.electrical(fb)
-            terms = detection.loss_terms(eps, sig, fb, target, weights=wb, separation_m=a.separation_m)
+            extra, surface = detection.soil_loss_terms(soil, fb, eps)
+            terms = detection.loss_terms(eps, sig, fb, target, weights=wb, separation_m=a.separation_m,
+                                         extra_attenuation_np_per_m=extra, surface_power_factor=surface)
 
             f = plain_loss_minus_performance(terms, a.effective_performance_db)
             ts = time.perf_counter()

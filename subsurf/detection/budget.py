@@ -20,7 +20,8 @@ where (term by term, each a function of its own module):
   distance (s from the layers, :mod:`.layers`; 0 without);
 - α: attenuation of the host plus any extra attenuation (volume scattering) along r;
 - T_layers: absorption in and transmission through the surface layers;
-- F: a user surface loss (dB) if given.
+- F: the rough ground surface's coherent two-way transmission (Kirchhoff, from the soil's
+  surface roughness) and a user surface loss (dB) if given.
 
 Surface layers are treated in the host's frame: the antenna couples through them into the
 host (G and λ of the host), the range is the host-equivalent r of :mod:`.layers`, and each
@@ -121,7 +122,7 @@ def _strength(target: Target, alpha, beta, eps_c, sigma, freq, omega, roughness_
 
 def loss_terms(eps, sigma, freq_hz, target: Target, *, weights=None, gain=None, extra_gain=1.0,
                separation_m=0.0, layers=(), surface_loss_db=0.0, extra_attenuation_np_per_m=0.0,
-               roughness_factor=1.0, validate: bool = True) -> LossTerms:
+               roughness_factor=1.0, surface_power_factor=1.0, validate: bool = True) -> LossTerms:
     """Loss terms of the budget at the band frequencies (node axis last).
 
     Parameters
@@ -148,6 +149,9 @@ def loss_terms(eps, sigma, freq_hz, target: Target, *, weights=None, gain=None, 
         Attenuation added to the host's (e.g. volume scattering), Np/m, one way.
     roughness_factor : array_like
         Amplitude factor (0–1) of the coherent reflection of a rough planar target.
+    surface_power_factor : array_like, shape broadcastable to (..., n)
+        Two-way power factor (0–1) of the coherent transmission through a rough ground surface,
+        e.g. :func:`subsurf.ground.roughness_transmission_factor` (power) squared.
     validate : bool
         False skips re-checking ε, σ that a soil model just produced (the grid chain).
     """
@@ -173,12 +177,8 @@ def loss_terms(eps, sigma, freq_hz, target: Target, *, weights=None, gain=None, 
     alpha_h, beta_h = _alpha_beta(eps_real, eps_imag, sigma, omega)
     over = overburden_terms(layers, alpha_h, beta_h, eps_real, omega)
     lam1 = 2.0 * np.pi / beta_h  # aperture of the host (see the layers note in the module docstring)
-    # coupling from ε' of the top medium at the band's strongest frequency (ε' varies little across a band;
-    # one table look-up per ground instead of one per frequency)
+    # coupling from ε' of the host at every band frequency (ε' of relaxing soils changes across a band)
     top = np.asarray(eps_real, dtype=float)
-    if top.ndim and np.shape(top)[-1] > 1 and weights is not None:
-        j = int(np.argmax(np.asarray(weights, dtype=float).reshape(-1, np.shape(top)[-1])[0]))
-        top = top[..., j:j + 1]
     g = coupling_gain(top) * np.asarray(extra_gain, dtype=float)
     if gain is not None:
         fixed = np.asarray(gain, dtype=float)
@@ -194,6 +194,9 @@ def loss_terms(eps, sigma, freq_hz, target: Target, *, weights=None, gain=None, 
     if layers:
         k0 = k0 + over.loss_db - 2.0 * NP_TO_DB * alpha * (over.shift_m + over.thickness_m)
     k0 = k0 + np.asarray(surface_loss_db, dtype=float)
+    if np.ndim(surface_power_factor) or surface_power_factor != 1.0:
+        with np.errstate(divide="ignore"):
+            k0 = k0 - 10.0 * np.log10(np.asarray(surface_power_factor, dtype=float))
     n = np.shape(k0)[-1] if np.ndim(k0) else 1
     if weights is None:
         if n != 1:

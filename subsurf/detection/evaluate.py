@@ -18,12 +18,13 @@ from .budget import loss_terms, received_energy
 from .resolution import footprint_radius, fresnel_radius, vertical_resolution
 from .solver import band_loss_db, band_range_from_loss_terms, depth_from_range
 
-__all__ = ["antenna_budget"]
+__all__ = ["antenna_budget", "soil_loss_terms"]
 
 
 def antenna_budget(eps, sigma, freqs_hz, weights, target, *, depth_m, performance_db, pulse_length_s,
                    separation_m=0.0, gain=None, extra_gain=1.0, layers=(), surface_loss_db=0.0,
-                   extra_attenuation_np_per_m=0.0, roughness_factor=1.0, validate: bool = True,
+                   extra_attenuation_np_per_m=0.0, roughness_factor=1.0, surface_power_factor=1.0,
+                   validate: bool = True,
                    margin_only: bool = False) -> dict:
     """Maximum depth, margin, blind zone, near field and resolution of one antenna (arrays).
 
@@ -40,7 +41,8 @@ def antenna_budget(eps, sigma, freqs_hz, weights, target, *, depth_m, performanc
         System performance with the (clutter-limited) stacking gain, dB; leading shape.
     pulse_length_s : array_like
         Pulse length (s) for the blind zone.
-    separation_m, gain, extra_gain, layers, surface_loss_db, extra_attenuation_np_per_m, roughness_factor :
+    separation_m, gain, extra_gain, layers, surface_loss_db, extra_attenuation_np_per_m, roughness_factor,
+    surface_power_factor :
         As :func:`subsurf.detection.budget.loss_terms` (leading-shape arrays get a node axis here).
     margin_only : bool
         Only ``margin_db`` and ``too_shallow`` (what the reach probability needs).
@@ -65,7 +67,8 @@ def antenna_budget(eps, sigma, freqs_hz, weights, target, *, depth_m, performanc
                        gain=None if gain is None else node(gain), extra_gain=node(extra_gain),
                        separation_m=separation_m, layers=layers, surface_loss_db=node(surface_loss_db),
                        extra_attenuation_np_per_m=extra_attenuation_np_per_m,
-                       roughness_factor=roughness_factor, validate=validate)
+                       roughness_factor=roughness_factor, surface_power_factor=surface_power_factor,
+                       validate=validate)
     if terms.layer_thickness_m and d <= terms.layer_thickness_m:
         raise InputError(f"the target depth {d:g} m is within the surface layers ({terms.layer_thickness_m:g} m "
                          "thick); the target must lie in the ground below them")
@@ -96,3 +99,22 @@ def antenna_budget(eps, sigma, freqs_hz, weights, target, *, depth_m, performanc
         "fresnel_radius": fresnel_radius(lam, d), "footprint_radius": footprint_radius(lam, d, eps_real),
         "velocity": velocity, "eps_real": eps_real, "terms": terms,
     }
+
+
+def soil_loss_terms(soil, freq_hz, eps):
+    """(extra attenuation Np/m, two-way surface power factor) of a soil's stones and rough surface.
+
+    Volume scattering from :meth:`subsurf.ground.Soil.scattering_attenuation` and the coherent
+    transmission of the rough ground surface, down and up, from
+    :func:`subsurf.ground.roughness_transmission_factor` (power form, squared).  A ground
+    without these facts (direct ε, σ) gives (0, 1).
+    """
+    if soil is None or not hasattr(soil, "scattering_attenuation"):
+        return 0.0, 1.0
+    from ..ground.roughness import roughness_transmission_factor
+
+    extra = soil.scattering_attenuation(freq_hz, eps=eps)
+    rough = soil.loss_facts["surface_roughness"]
+    t = roughness_transmission_factor(freq_hz, rough, eps_incident=1.0,
+                                      eps_transmitted=np.maximum(np.real(eps), 1.0), power=True)
+    return extra, np.square(t)

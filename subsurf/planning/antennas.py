@@ -19,7 +19,7 @@ import numpy as np
 from ..detection.band import band_nodes
 from ..detection.blindzone import default_pulse_length
 from ..detection.coupling import coupling_gain
-from ..detection.evaluate import antenna_budget
+from ..detection.evaluate import antenna_budget, soil_loss_terms
 from ..detection.targets import Target
 from ..detection.verdicts import MARGINAL, REACHES, REACHES_MARGIN_DB, verdict
 from ..errors import FileInputError, InputError
@@ -241,21 +241,29 @@ def get_antenna(name: str, catalogue: dict[str, Antenna] | None = None) -> Anten
     return cat[name]
 
 
+def _soil_of(electrical):
+    """The soil behind an ``electrical`` callable (a Soil's or a Medium's bound method), or None."""
+    owner = getattr(electrical, "__self__", None)
+    return getattr(owner, "soil", owner)
+
+
 def antenna_budget_for(electrical, antenna: Antenna, target: Target, *, depth_m: float, stacks: int | None = None,
-                       surface_loss_db=None, layers=(), extra_attenuation=None, roughness_factor=1.0) -> dict:
+                       surface_loss_db=None, layers=(), roughness_factor=1.0) -> dict:
     """:func:`subsurf.detection.evaluate.antenna_budget` of a catalogue antenna in a ground.
 
-    ``electrical(freq_hz) -> (eps, sigma)`` is evaluated at the antenna's band frequencies;
-    ``extra_attenuation(freq_hz) -> Np/m`` (optional) adds e.g. volume scattering.
+    ``electrical(freq_hz) -> (eps, sigma)`` is evaluated at the antenna's band frequencies; when it
+    is a soil's (or a Medium holding a soil), the soil's volume scattering and rough surface enter
+    the budget too (:func:`soil_loss_terms`).
     """
     a = antenna if stacks is None else antenna.with_stacks(stacks)
     f, w = band_nodes(a.centre_freq_hz, a.bandwidth_hz)
     eps, sig = electrical(f)
-    extra = 0.0 if extra_attenuation is None else extra_attenuation(f)
+    extra, surface = soil_loss_terms(_soil_of(electrical), f, eps)
     return antenna_budget(eps, sig, f, w, target, depth_m=depth_m, performance_db=a.effective_performance_db,
                           pulse_length_s=a.pulse_length, separation_m=a.separation_m, gain=a.gain,
                           layers=layers, surface_loss_db=0.0 if surface_loss_db is None else surface_loss_db,
-                          extra_attenuation_np_per_m=extra, roughness_factor=roughness_factor)
+                          extra_attenuation_np_per_m=extra, roughness_factor=roughness_factor,
+                          surface_power_factor=surface)
 
 
 def rank_antennas(electrical, antennas: list[Antenna], target: Target, *, surface_loss_db=None, layers=(),

@@ -168,11 +168,15 @@ def feasibility_chain(moisture, *, freq_hz, performance_db, target, target_depth
         f_nodes, w_nodes = _band_axes(freq, np.asarray(bandwidth_hz, dtype=float))
     band_soil = Soil(texture=texture, model=model, **{k: np.asarray(v)[..., None] for k, v in filled.items()})
     eps_b, sig_b = band_soil.electrical(f_nodes)
+    from ..detection.evaluate import soil_loss_terms
+
+    extra_b, surface_b = soil_loss_terms(band_soil, f_nodes, eps_b)
     fixed_gain = None if gain is None or np.all(np.isnan(np.asarray(gain, dtype=float))) else gain
     # ε, σ from the Soil just validated: the budget does not re-check them
     res = antenna_budget(eps_b, sig_b, f_nodes, w_nodes, target, depth_m=target_depth_m,
                          performance_db=performance_db, pulse_length_s=pulse, separation_m=separation_m,
                          gain=fixed_gain, surface_loss_db=0.0 if surface_loss_db is None else surface_loss_db,
+                         extra_attenuation_np_per_m=extra_b, surface_power_factor=surface_b,
                          validate=False, margin_only=margin_only)
     if margin_only:
         vm = np.broadcast_to(valid, np.shape(res["margin_db"]))

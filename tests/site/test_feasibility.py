@@ -28,12 +28,23 @@ def uniform(shape=(6, 7), moisture=0.12, ec=0.02):
     return {"moisture": np.full(shape, moisture), "pore_water_ec": np.full(shape, ec)}
 
 
+def _single_point_terms(a):
+    """Loss terms of one antenna (no bandwidth: its centre frequency) in the uniform soil, with its rough surface."""
+    from subsurf.detection.evaluate import soil_loss_terms
+
+    soil = Soil(moisture=0.12, pore_water_ec25=0.02, texture="loamy_sand")
+    f = np.array([a.centre_freq_hz])
+    eps, sig = soil.electrical(f)
+    extra, surface = soil_loss_terms(soil, f, eps)
+    return detection.loss_terms(eps, sig, f, PIPE, gain=np.array([a.gain]), extra_attenuation_np_per_m=extra,
+                                surface_power_factor=surface)
+
+
 def test_uniform_site_equals_single_point():
     """A uniform site gives every cell the single-point Soil → detection.max_depth result."""
     out = evaluate(uniform(), ANTS, target=PIPE, target_depth_m=1.0, texture="loamy_sand")
     for i, a in enumerate(ANTS):
-        eps, sig = Soil(moisture=0.12, pore_water_ec25=0.02, texture="loamy_sand").electrical(a.centre_freq_hz)
-        want = detection.max_depth(eps, sig, a.centre_freq_hz, a.performance_db, target=PIPE, gain=a.gain)
+        want = detection.max_depth(performance_db=a.performance_db, terms=_single_point_terms(a))
         assert np.allclose(out["max_depth"][i], want, rtol=1e-12)
 
 
@@ -42,10 +53,10 @@ def test_max_depth_solves_loss_equation_brentq():
     a = ANTS[1]
     out = feasibility_chain(0.12, freq_hz=a.centre_freq_hz, performance_db=a.performance_db, gain=a.gain,
                             target=PIPE, target_depth_m=1.0, pore_water_ec25=0.02, texture="loamy_sand")
-    eps, sig = Soil(moisture=0.12, pore_water_ec25=0.02, texture="loamy_sand").electrical(a.centre_freq_hz)
+    terms = _single_point_terms(a)
 
     def excess(d):
-        return detection.two_way_loss_db(d, eps, sig, a.centre_freq_hz, PIPE, gain=a.gain) - a.performance_db
+        return float(detection.two_way_loss_db(d, terms=terms)) - a.performance_db
 
     assert float(out["max_depth"]) == pytest.approx(brentq(excess, 1e-3, 50.0, xtol=1e-12), rel=1e-8)
 
