@@ -121,7 +121,11 @@ def scenario_figure(grid, result, *, target_depth_m: float, outline, samples, cr
         counts = {names[k]: int(np.count_nonzero((rec == k) & inside)) for k in range(len(names))}
         top = max(counts, key=counts.get) if counts else "-"
         none = int(np.count_nonzero((rec < 0) & inside))
-        ax.set_title(f"{s}: most cells {top}; no antenna: {100 * none / max(inside.sum(), 1):.0f} %", fontsize=SIZES["title"])
+        from ..detection.verdicts import share_word
+
+        share = counts.get(top, 0) / max(int(inside.sum()), 1)
+        ax.set_title(f"{s}: {top} best over a {share_word(share)} of cells ({100 * share:.0f} %); no antenna: "
+                     f"{100 * none / max(inside.sum(), 1):.0f} %", fontsize=SIZES["title"])
         if np.nanmin(best) < 0.5 < np.nanmax(best):
             ax.contour(grid["x"].values, grid["y"].values, best, levels=[0.5], colors=PALETTE["ink"], linewidths=1.0,
                        linestyles="--")

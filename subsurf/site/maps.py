@@ -125,7 +125,7 @@ def compute_maps(survey, *, quiet: bool = True) -> FeasibilityMaps:
             out["reach_probability"], out["reach_probability_se"] = p, se
             for k in layers:
                 layers[k].append(out[k])
-            rec = fz.recommend_antenna(out["margin_db"], freqs)
+            rec = fz.recommend_antenna(out["margin_db"], freqs, too_shallow=out.get("too_shallow"))
             rec_all.append(np.where(inside, rec, -2).astype(np.int16))
             fractions.append(fz.area_fractions(out["margin_db"], grid["mask"].values, probability=p))
             bar.advance()

@@ -185,7 +185,7 @@ def _chain_block(*arrays, names, antennas, target, target_depth_m, texture, mode
     values = dict(zip(names, arrays))
     _check_block_ranges(values, source)
     res = evaluate(values, antennas, target=target, target_depth_m=target_depth_m, texture=texture, model=model)
-    rec = recommend_antenna(res["margin_db"], [a.centre_freq_hz for a in antennas])
+    rec = recommend_antenna(res["margin_db"], [a.centre_freq_hz for a in antennas], too_shallow=res.get("too_shallow"))
     rec = np.where(np.isfinite(res["margin_db"][0]), rec, REC_FILL).astype(np.int16)
     outs = []
     for name in layers:
