@@ -249,7 +249,10 @@ def run(args) -> int:
     if method == "hyperbola":
         cols += [Column("x0_m", "apex x", "m", ".3f"), Column("x0_se_m", "± se", "m", ".3f"),
                  Column("depth_m", "depth to top", "m", ".3f"), Column("depth_se_m", "± se", "m", ".3f"),
-                 Column("radius_m", "radius", "m", ".3f"), Column("rms_ns", "rms", "ns", ".2f"),
+                 Column("radius_m", "radius", "m", ".3f")]
+        if any(r.get("radius_fitted") for r in fits):
+            cols.append(Column("radius_se_m", "± se", "m", ".3f"))
+        cols += [Column("rms_ns", "rms", "ns", ".2f"),
                  Column("n_picks", "picks")]
     elif method == "cmp":
         cols += [Column("t0_ns", "t0", "ns", ".2f"), Column("t0_se_ns", "± se", "ns", ".2f"),
