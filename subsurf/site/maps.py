@@ -64,7 +64,7 @@ def _antennas_and_target(survey):
     from ..errors import FileInputError, InputError
     from ..planning.antennas import get_antenna, load_catalogue, make_target
 
-    catalogue = load_catalogue()
+    catalogue = load_catalogue(survey.catalogue_path)  # the survey's own catalogue, else the bundled one
     antennas = []
     for name in survey.antennas:
         try:

@@ -145,3 +145,28 @@ def test_bundled_example_maps(tmp_path):
     proc = run(EXAMPLE / "survey.toml", "--out", tmp_path / "maps")
     assert proc.returncode == 0, proc.stderr
     assert "Fernhollow Paddock" in proc.stdout and "Caution" in proc.stdout
+
+
+def test_survey_own_catalogue_is_mapped(tmp_path):
+    """A survey naming its own catalogue maps its own antenna (a user's instrument, not the bundled list)."""
+    cat = tmp_path / "mine.toml"
+    cat.write_text("""
+[antenna.site-rig-450]
+centre_frequency_mhz = 450
+bandwidth_mhz = 450
+system_performance_db = 74.0
+separation_m = 0.15
+trace_rate_hz = 200
+stacks = 4
+pulse_length_ns = 3.3
+illustrative = false
+notes = "a user's own measured instrument (invented for this test)"
+""")
+    survey = coarse_copy(tmp_path)
+    text = survey.read_text()
+    text = text.replace('names = ["lowband-100", "midband-250", "midband-500", "highband-1000"]',
+                        f'catalogue = "{cat.as_posix()}"\nnames = ["site-rig-450"]')
+    survey.write_text(text)
+    proc = run(survey, "--out", tmp_path / "out", "--json", "--no-geotiff")
+    assert proc.returncode == 0, proc.stderr
+    assert {r["antenna"] for r in json.loads(proc.stdout)["summary"]} == {"site-rig-450"}

@@ -188,7 +188,7 @@ def collect(survey_path, *, map_result: dict | None = None, bar=None) -> dict:
         step("ground properties")
         ground = _ground_over_frequency(site.soil, REPORT_FREQS_HZ)
 
-        catalogue = load_catalogue()
+        catalogue = load_catalogue(survey.catalogue_path)
         antennas = [get_antenna(n, catalogue) for n in survey.antennas]
         t = survey.target
         target = make_target(t.kind, depth_m=t.depth_m, size_m=None if t.kind == "planar" else t.size_m,
