@@ -10,7 +10,6 @@ import re
 
 import numpy as np
 
-from .._schema import closest
 from ..errors import InputError, SubsurfError
 from ..units import parse_quantity
 
@@ -34,6 +33,8 @@ def soil_kwargs_from_mapping(mapping, allowed, *, source: str = "<input>") -> di
     for key, value in mapping.items():
         if key not in allowed:
             fact = SOIL_FACTS.get(key)
+            from .._schema import closest  # here, not at import: _schema loads pydantic (~0.1 s, start-up)
+
             near = fact.field if fact is not None and fact.field in allowed else closest(key, allowed)
             hint = f"; did you mean '{near}'?" if near else ""
             raise InputError(f"{source}: unknown soil field {key!r}{hint} (allowed: {', '.join(allowed)})")

@@ -12,7 +12,7 @@ import pytest
 #: heavy libraries that none of these commands needs (import times on this project's machine:
 #: pint + registry ~0.5 s CPU, scipy.constants ~0.1 s through numpy.f2py, xarray ~0.4 s, ...)
 HEAVY = ("xarray", "matplotlib", "dask", "distributed", "rioxarray", "pandas", "pint", "uncertainties",
-         "scipy", "numpy.f2py", "netCDF4", "pyproj", "shapely", "tqdm")
+         "scipy", "numpy.f2py", "netCDF4", "pyproj", "shapely", "tqdm", "pydantic", "jinja2")
 
 
 def _imported(*args: str) -> set[str]:
