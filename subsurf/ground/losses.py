@@ -14,7 +14,7 @@ import numpy as np
 
 from ..errors import InputError, check_nonnegative, check_positive, check_range
 from .conductivity import CLAY_CEC, clay_cec_of_mineral
-from .relaxation import JONSCHER_REFERENCE_FREQ_HZ, jonscher_susceptibility
+from .relaxation import JONSCHER_REFERENCE_FREQ_HZ
 from .roughness import SURFACE_ROUGHNESS_M
 from .scattering import STONE_PERMITTIVITY
 
@@ -27,24 +27,49 @@ DEFAULT_STONE_SIZE = 0.02
 INTERFACE_PIN_FREQ_HZ = 500e6
 
 
+#: Low-frequency corner of the interface term, Hz: below it the power law levels off (Cole–Davidson).
+#: The Jonscher fits of Hollender & Tillard (1998) cover GPR frequencies (tens of MHz to ~1 GHz);
+#: 1 MHz keeps the band untouched while bounding ε at DC (an assumption, not a fitted value).
+INTERFACE_LOW_CORNER_HZ = 1e6
+
+
+def interface_factor(freq_hz, n):
+    """(f_c/f_r)^(n−1)·(1 + j f/f_c)^(n−1)/sin(nπ/2) of the interface term, in real arithmetic.
+
+    For f >> f_c it tends to (f/f_r)^(n−1)(1 − j cot(nπ/2)), the Jonscher form; the branch
+    point at f = j f_c lies in the upper half-plane, so the term is causal (exp(jωt)).
+    """
+    f = np.asarray(freq_hz, dtype=float)
+    nn = np.asarray(n, dtype=float)
+    x = f / INTERFACE_LOW_CORNER_HZ
+    e = nn - 1.0
+    mag = np.exp(e * (0.5 * np.log1p(x * x) + np.log(INTERFACE_LOW_CORNER_HZ / JONSCHER_REFERENCE_FREQ_HZ)))
+    mag = mag / np.sin(0.5 * np.pi * nn)
+    ph = e * np.arctan(x)
+    return mag * np.cos(ph) + 1j * (mag * np.sin(ph))
+
+
 class SoilLossMixin:
     """The loss methods of :class:`subsurf.soil.Soil` (its resolved fields live in ``self._r``)."""
 
     def interface_susceptibility(self, freq_hz):
         """The interface (bound-water / clay–water) term of :meth:`permittivity`; 0 when off.
 
-        χ(f) − χ'(f_pin): the Jonscher term of the texture (Hollender & Tillard 1998) less
-        its real part at f_pin = 500 MHz, a real constant (a shift of ε∞, still causal),
-        so that the CRIM ε' — calibrated like Topp's against TDR in this band — is kept at
-        f_pin and the term adds the loss and the dispersion Kramers–Kronig ties to it.
+        χ(f) − χ'(f_pin), with χ the Jonscher term of the texture (Hollender & Tillard 1998)
+        made finite below the band: χ_r/sin(nπ/2)·(f_c/f_r)^(n−1)·(1 + j f/f_c)^(n−1), a
+        Cole–Davidson relaxation (Davidson & Cole 1951) of exponent 1 − n and corner f_c =
+        1 MHz, identical to Jonscher's power law for f >> f_c (within 1 % above 50 MHz) and
+        bounded at DC instead of diverging.  Less its real part at f_pin = 500 MHz, a real
+        constant (a shift of ε∞, still causal), so that the CRIM ε' — calibrated like Topp's
+        against TDR in this band — is kept at f_pin and the term adds the loss and the
+        dispersion Kramers–Kronig ties to it.
         """
         r = self._r
         f = np.asarray(freq_hz, dtype=float)
         if r["interface_chi"] is None:
             return np.zeros(np.broadcast_shapes(np.shape(f), r["shape"]), dtype=complex)[()]
         chi, n = r["interface_chi"], r["interface_n"]
-        pin = chi * np.exp((n - 1.0) * np.log(INTERFACE_PIN_FREQ_HZ / JONSCHER_REFERENCE_FREQ_HZ))
-        return jonscher_susceptibility(f, chi, n) - pin
+        return chi * (interface_factor(f, n) - interface_factor(INTERFACE_PIN_FREQ_HZ, n).real)
 
     def _add_interface(self, eps, f):
         """eps + :meth:`interface_susceptibility` (same values), fused in place on real and imaginary parts."""
@@ -53,14 +78,10 @@ class SoilLossMixin:
         f = np.asarray(f, dtype=float)
         out = np.array(np.broadcast_to(eps, np.broadcast_shapes(np.shape(eps), np.shape(chi), np.shape(f))),
                        dtype=complex)
-        if np.ndim(n) == 0:  # one exponent (a texture): the frequency power is per frequency only
-            power = np.exp((float(n) - 1.0) * np.log(f / JONSCHER_REFERENCE_FREQ_HZ))
-            pin = np.exp((float(n) - 1.0) * np.log(INTERFACE_PIN_FREQ_HZ / JONSCHER_REFERENCE_FREQ_HZ))
-            re = chi * power
-            out.real += re - chi * pin
-            out.imag -= re * (1.0 / np.tan(0.5 * np.pi * float(n)))
-        else:
-            out += self.interface_susceptibility(f)
+        k = interface_factor(f, n)  # per frequency only when n is one value (a texture)
+        k_pin = interface_factor(INTERFACE_PIN_FREQ_HZ, n).real
+        out.real += chi * (k.real - k_pin)
+        out.imag += chi * k.imag
         return out[()] if out.ndim == 0 else out
 
     def scattering_attenuation(self, freq_hz, *, eps=None):

@@ -107,3 +107,15 @@ def test_soil_interface_loss_is_on_by_default_and_never_negative():
     assert np.all(-wet.permittivity(F).imag > -off.permittivity(F).imag)
     assert np.all(-wet.interface_susceptibility(F).imag >= 0)
     assert np.all(Soil(moisture=0.0, texture="loam").interface_susceptibility(F) == 0)
+
+
+def test_interface_term_is_jonscher_in_band_and_bounded_at_dc():
+    """Soil interface term: Hollender & Tillard's Jonscher form within 1 % above 50 MHz (less its real part at
+    500 MHz), and finite at DC (the Cole–Davidson corner at 1 MHz, Davidson & Cole 1951)."""
+    soil = Soil(moisture=0.3, texture="clay")
+    chi, n = soil.loss_facts["interface_chi"], float(soil.loss_facts["interface_n"])
+    f = np.geomspace(50e6, 3e9, 20)
+    jon = jonscher_permittivity(f, 1.0, chi, n) - 1.0 - chi * (500e6 / 100e6) ** (n - 1)
+    np.testing.assert_allclose(soil.interface_susceptibility(f), jon, rtol=1e-2)
+    low = soil.interface_susceptibility(np.array([1.0, 10.0, 1e3]))
+    assert np.all(np.isfinite(low)) and np.ptp(low.real) < 1e-3 * abs(low[0])
