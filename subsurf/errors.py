@@ -19,6 +19,9 @@ __all__ = [
     "ModelRangeError",
     "FileInputError",
     "OutputExistsError",
+    "OutputBusyError",
+    "OutputError",
+    "ResourceLimitError",
     "ModelRangeWarning",
     "LowLossApproximationWarning",
     "check_finite",
@@ -60,6 +63,18 @@ class FileInputError(SubsurfError):
 
 class OutputExistsError(SubsurfError):
     """An output exists and overwriting it was not asked for."""
+
+
+class OutputBusyError(OutputExistsError):
+    """Another subsurf run is writing the same output right now."""
+
+
+class OutputError(SubsurfError):
+    """An output cannot be written (missing folder, read-only, no space ...); the message names the path."""
+
+
+class ResourceLimitError(InputError):
+    """A run would need more memory, time or disk than the stated limits; refused before any work."""
 
 
 class ModelRangeWarning(UserWarning):

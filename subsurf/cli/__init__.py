@@ -5,9 +5,12 @@ line), ``EXAMPLE`` (a real invocation), ``add_arguments(parser)`` and ``run(args
 Command modules import numpy, scipy, xarray and matplotlib inside ``run`` only, so that
 ``subsurf --help`` stays quick.
 
-Exit codes: 0 success; 1 invalid input or a model/physics refusal (one line on stderr);
-2 command-line usage error; 3 an output exists and ``--force`` was not given;
-4 an unexpected internal error (rerun with ``--debug`` for the traceback).
+Exit codes: 0 success; 1 invalid input, a model/physics refusal, or a file that cannot be
+read or written (one line on stderr naming it); 2 command-line usage error; 3 an output
+exists and ``--force`` was not given, or another run is writing it; 4 an unexpected internal
+error (rerun with ``--debug`` for the traceback); 128 + n when stopped by signal n (SIGINT,
+SIGTERM, SIGHUP), with every unfinished output removed.  How errors are reported, in text
+and under ``--json``, is in :mod:`subsurf.cli._guard`.
 """
 
 from __future__ import annotations
@@ -39,8 +42,8 @@ EPILOG = """examples:
   subsurf choose --texture loamy_sand --moisture "12 %" --target line --depth 1.2 --size "15 cm" --material metal
   subsurf map surveys/example-site/survey.toml --out maps-example
 
-exit codes: 0 ok, 1 invalid input, 2 usage error, 3 output exists (use --force),
-4 internal error (rerun with --debug)"""
+exit codes: 0 ok, 1 invalid input or unusable file, 2 usage error, 3 output exists (use --force)
+or busy, 4 internal error (rerun with --debug), 128+n stopped by signal n (outputs rolled back)"""
 
 
 def _available_commands():
@@ -56,8 +59,9 @@ def _available_commands():
 
 def build_parser() -> argparse.ArgumentParser:
     from .. import __version__
+    from ._guard import OneLineParser
 
-    parser = argparse.ArgumentParser(
+    parser = OneLineParser(
         prog="subsurf",
         description="Plan and interpret ground-penetrating-radar surveys.",
         epilog=EPILOG,
@@ -82,42 +86,10 @@ def build_parser() -> argparse.ArgumentParser:
 
 
 def main(argv: list[str] | None = None) -> int:
-    parser = build_parser()
-    args = parser.parse_args(argv)
-    if not getattr(args, "command", None):
-        parser.print_help()
-        return EXIT_USAGE
-    from ..errors import OutputExistsError, SubsurfError
+    """Run one ``subsurf`` command line; returns the exit code (see :mod:`subsurf.cli._guard`)."""
+    from ._guard import run_guarded
 
-    try:
-        return int(args._module.run(args) or 0)
-    except OutputExistsError as exc:
-        if args.debug:
-            raise
-        print(f"subsurf {args.command}: error: {exc}", file=sys.stderr)
-        return EXIT_EXISTS
-    except SubsurfError as exc:
-        if args.debug:
-            raise
-        print(f"subsurf {args.command}: error: {exc}", file=sys.stderr)
-        return EXIT_INPUT
-    except KeyboardInterrupt:
-        print(f"subsurf {args.command}: interrupted", file=sys.stderr)
-        return 130
-    except BrokenPipeError:  # the reader went away (e.g. `subsurf choose --json | head`): not an error of ours
-        import os
-
-        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())  # no second error at exit flush
-        return 0
-    except Exception as exc:  # noqa: BLE001 - last-resort one-line report
-        if args.debug:
-            raise
-        print(
-            f"subsurf {args.command}: internal error: {type(exc).__name__}: {exc} "
-            "(rerun with --debug for the traceback)",
-            file=sys.stderr,
-        )
-        return EXIT_INTERNAL
+    return run_guarded(build_parser, sys.argv[1:] if argv is None else list(argv), COMMANDS)
 
 
 if __name__ == "__main__":  # pragma: no cover

@@ -1,0 +1,210 @@
+"""Staging folders of output transactions: journal, lock, stale detection, rollback of a killed commit,
+and holding signals back while a commit moves files.
+
+The helpers behind :mod:`subsurf.io.transaction`; see its docstring for the protocol.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import ctypes
+import errno
+import fcntl
+import json
+import os
+import shutil
+import time
+from pathlib import Path
+
+from ..errors import OutputBusyError
+from .manifest import MANIFEST_NAME
+from .preflight import os_error_message
+
+STAGING_PREFIX = ".subsurf-staging-"
+JOURNAL, LOCK = "journal.json", "lock"
+
+#: set by :func:`hold_signals`; the command line's signal handler defers a signal while it is > 0
+_hold = {"depth": 0, "pending": None}
+
+
+class Interrupted(KeyboardInterrupt):
+    """SIGINT, SIGTERM or SIGHUP arrived; everything staged is rolled back on the way out."""
+
+    def __init__(self, signum: int):
+        super().__init__(signum)
+        self.signum = signum
+
+
+def defer_signal(signum: int) -> bool:
+    """Called by a signal handler: True (and remembered) if a commit is under way and the signal must wait."""
+    if _hold["depth"] > 0:
+        _hold["pending"] = _hold["pending"] or signum
+        return True
+    return False
+
+
+@contextlib.contextmanager
+def hold_signals():
+    """Hold SIGINT/SIGTERM/SIGHUP (through :func:`defer_signal`) in the block; raise one that came, after it."""
+    _hold["depth"] += 1
+    try:
+        yield
+    finally:
+        _hold["depth"] -= 1
+        pending, _hold["pending"] = _hold["pending"], None
+    if pending is not None and _hold["depth"] == 0:
+        raise Interrupted(pending)
+
+
+def fsync_dir(path: Path) -> None:
+    """Flush a folder's entries (renames) to disk where the OS allows it."""
+    with contextlib.suppress(OSError):
+        fd = os.open(path, os.O_RDONLY | os.O_DIRECTORY)
+        try:
+            os.fsync(fd)
+        finally:
+            os.close(fd)
+
+
+def exchange(a: Path, b: Path) -> bool:
+    """Swap two paths atomically (Linux renameat2 RENAME_EXCHANGE); False where unsupported."""
+    try:
+        fn = ctypes.CDLL(None, use_errno=True).renameat2
+    except (AttributeError, OSError):  # not glibc >= 2.28 / not Linux
+        return False
+    at_fdcwd, rename_exchange = -100, 2
+    if fn(at_fdcwd, os.fsencode(a), at_fdcwd, os.fsencode(b), rename_exchange) == 0:
+        return True
+    err = ctypes.get_errno()
+    if err in (errno.ENOSYS, errno.EINVAL, errno.ENOTSUP, errno.EOPNOTSUPP):
+        return False
+    raise OSError(err, os.strerror(err), str(b))
+
+
+def files_under(folder: Path, *, limit: int = 20000) -> list[str]:
+    """Files (and links) under ``folder``, relative and sorted, staging folders left out; at most ``limit``."""
+    found: list[str] = []
+    for root, dirs, files in os.walk(folder):
+        rel_root = Path(root).relative_to(folder)
+        dirs[:] = sorted(d for d in dirs if not (rel_root == Path(".") and d.startswith(STAGING_PREFIX))
+                         and not os.path.islink(os.path.join(root, d)))
+        found += [(rel_root / f).as_posix() for f in files]
+        found += [(rel_root / d).as_posix() for d in os.listdir(root)
+                  if os.path.islink(os.path.join(root, d)) and os.path.isdir(os.path.join(root, d))]
+        if len(found) > limit:
+            break
+    return sorted(found)
+
+
+def read_journal(stage: Path) -> dict:
+    try:
+        return json.loads((stage / JOURNAL).read_text(encoding="utf-8"))
+    except (OSError, ValueError):
+        return {}
+
+
+def write_journal(stage: Path, data: dict) -> None:
+    tmp = stage / (JOURNAL + ".tmp")
+    with open(tmp, "w", encoding="utf-8") as fh:
+        json.dump(data, fh)
+        fh.flush()
+        os.fsync(fh.fileno())
+    os.replace(tmp, stage / JOURNAL)
+
+
+def lock_free(stage: Path) -> int | None:
+    """An fd holding the stage's lock if its owner is gone (stale), else None (live or unreadable)."""
+    try:
+        fd = os.open(stage / LOCK, os.O_RDWR)
+    except FileNotFoundError:  # its run died between creating the folder and its lock (both under the folder lock)
+        return os.open(stage, os.O_RDONLY)
+    except OSError:
+        return None
+    try:
+        fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
+    except OSError:
+        os.close(fd)
+        return None
+    return fd
+
+
+def stale_staging(folder) -> list[Path]:
+    """Staging folders in ``folder`` whose run has ended without finishing (their lock is free)."""
+    found = []
+    for stage in sorted(Path(folder).glob(STAGING_PREFIX + "*")):
+        if stage.is_dir() and not stage.is_symlink():
+            fd = lock_free(stage)
+            if fd is not None:
+                os.close(fd)
+                found.append(stage)
+    return found
+
+
+def undo(journal: dict, stage: Path) -> int:
+    """Roll back the moves an interrupted commit made (from its journal); returns how many."""
+    undone = 0
+    for m in reversed(journal.get("moves", [])):
+        dest, staged = Path(m["dest"]), stage / m["staged"]
+        backup = stage / m["backup"] if m.get("backup") else None
+        if m["mode"] == "merge":
+            for rel in reversed(m["files"]):
+                d, b = dest / rel, backup / rel
+                if not (staged / rel).exists() and os.path.lexists(d):
+                    os.replace(b, d) if b.exists() else os.unlink(d)
+                    undone += 1
+        elif m["kind"] == "file":
+            if staged.exists() or not os.path.lexists(dest):
+                continue  # not moved yet
+            os.replace(backup, dest) if backup is not None and backup.exists() else os.unlink(dest)
+            undone += 1
+        elif manifest_id(dest) == journal.get("id"):
+            if backup is not None and backup.exists():  # two-rename replace
+                os.rename(dest, staged)
+                os.rename(backup, dest)
+            elif staged.exists():  # exchanged: staged holds the earlier folder
+                if not exchange(staged, dest):
+                    os.rename(dest, stage / "undone")
+                    os.rename(staged, dest)
+            else:
+                os.rename(dest, staged)
+            undone += 1
+    return undone
+
+
+def manifest_id(folder: Path) -> str | None:
+    try:
+        return json.loads((folder / MANIFEST_NAME).read_text(encoding="utf-8")).get("transaction")
+    except (OSError, ValueError, AttributeError):
+        return None
+
+
+def clean_stale(folder: Path, claimed: set[Path], notes: list[str], busy_command: str) -> None:
+    """Remove stale staging folders in ``folder`` (rolling back a half-done commit); refuse if a live
+    run claims one of ``claimed``."""
+    for stage in sorted(folder.glob(STAGING_PREFIX + "*")):
+        if not stage.is_dir() or stage.is_symlink():
+            continue
+        journal = read_journal(stage)
+        fd = lock_free(stage)
+        if fd is None:
+            theirs = {Path(d) for d in journal.get("destinations", [])}
+            clash = sorted(theirs & claimed)
+            if clash:
+                when = time.strftime("%H:%M:%S", time.localtime(journal.get("started", 0)))
+                raise OutputBusyError(
+                    f"{clash[0]} is being written by another subsurf run (subsurf {journal.get('command', '?')}, "
+                    f"pid {journal.get('pid', '?')}, started {when}); wait for it to finish or choose another "
+                    f"output for subsurf {busy_command}")
+            continue
+        try:
+            undone = undo(journal, stage) if journal.get("state") == "committing" else 0
+            shutil.rmtree(stage)
+        except OSError as exc:
+            notes.append(f"could not remove {stage} left by an interrupted run ({os_error_message(exc)}); "
+                         "remove it by hand")
+            continue
+        finally:
+            os.close(fd)
+        what = f"subsurf {journal.get('command', '?')}, pid {journal.get('pid', '?')}"
+        notes.append(f"removed {stage.name} in {folder}, the unfinished output of an interrupted run ({what})"
+                     + (f"; its half-done commit was rolled back ({undone} moves)" if undone else ""))
