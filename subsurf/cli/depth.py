@@ -35,6 +35,8 @@ def add_arguments(parser) -> None:
                    "velocity and its standard error (bare: m/ns); repeat from top to bottom")
     v.add_argument("--draws", type=int, default=2000, help="Monte Carlo draws for a layered earth (default 2000)")
     v.add_argument("--seed", type=int, default=0, help="Monte Carlo seed (default 0)")
+    v.add_argument("--allow-large", action="store_true", help="run a layered Monte Carlo even if its memory or "
+                   "time estimate exceeds the limits (75 %% of this machine's memory, 6 h)")
     o = parser.add_argument_group("coordinates and outputs")
     o.add_argument("--coords-crs", metavar="CRS", help="CRS of the pick table's coordinates (EPSG code or WKT); "
                    "overrides a '# crs:' comment line in the file")
@@ -87,6 +89,10 @@ def _velocity_model(args, q):
         vel.append(_check_velocity(q(parts[1], "velocity", "m/ns", f"--layer {k + 1} velocity"),
                                    f"--layer {k + 1} velocity", parts[1]))
         se.append(q(parts[2], "velocity", "m/ns", f"--layer {k + 1} SE") if len(parts) == 3 else 0.0)
+        if se[-1] < 0:
+            raise InputError(f"--layer {spec!r}: the velocity standard error must be >= 0 m/ns, got {parts[2]!r}")
+        if not last and thick[-1] <= 0:
+            raise InputError(f"--layer {spec!r}: the thickness must be > 0 m, got {parts[0]!r}")
     return "layered", LayeredEarth.from_thicknesses(vel, thick, velocity_se=se), None, "--layer"
 
 
@@ -143,10 +149,27 @@ def _model_from_file(name):
     which = f", fit '{fit['target']}'" if isinstance(fit, dict) and "target" in fit else ""
     if len(fits) > 1:
         which += f" (the first of {len(fits)} fits)"
-    return "homogeneous", _check_velocity(v, "--velocity-from", f"{v * 1e-9:g} m/ns"), se, f"{p}{which}"
+    if not 0 <= se < float("inf"):
+        raise InputError(f"--velocity-from {p}: velocity_se_m_per_ns must be a finite number >= 0, "
+                         f"got {fit['velocity_se_m_per_ns']!r}")
+    return ("homogeneous", _check_velocity(v, f"--velocity-from {p}: velocity_m_per_ns", fit["velocity_m_per_ns"]),
+            se, f"{p}{which}")
 
 
 def run(args) -> int:
+    from ..io.outputs import print_notes, print_result
+    from ..io.transaction import OutputTransaction
+
+    txn = OutputTransaction("depth", force=args.force)
+    staged = {k: txn.file(p) for k, p in (("csv", args.out_csv), ("geojson", args.out_geojson)) if p}
+    with txn:  # outputs checked and claimed before any work; written together or not at all
+        payload, text = _depth(args, staged)
+    print_notes(txn.notes, quiet=args.quiet or args.json)
+    print_result(payload, text, as_json=args.json)
+    return 0
+
+
+def _depth(args, staged: dict) -> tuple[dict, str]:
     import math
 
     import numpy as np
@@ -154,7 +177,8 @@ def run(args) -> int:
     from ..errors import InputError
     from ..interpretation import layers
     from ..io import picks
-    from ..io.outputs import CAUTION, Column, check_outputs_free, format_table, print_result
+    from ..io.outputs import CAUTION, Column, format_table
+    from ..io.preflight import check_estimate, layered_depth_estimate
     from ..units import parse_quantity
 
     def q(text, kind, unit, name):
@@ -162,8 +186,6 @@ def run(args) -> int:
 
     if bool(args.twt) == bool(args.picks):
         raise InputError("give travel times either as --twt values or as a --picks CSV file (one of them)")
-    outs = [p for p in (args.out_csv, args.out_geojson) if p]
-    check_outputs_free(outs, force=args.force)
     mode, model, v_se, v_source = _velocity_model(args, q)
     offset = q(args.offset, "length", "m", "--offset")
     if offset < 0:
@@ -229,6 +251,12 @@ def run(args) -> int:
         depth, depth_sd = est.depth, est.depth_sd
         velocity_text = f"{model * 1e-9:.4g} ± {v_se * 1e-9:.2g} m/ns ({v_source})"
     else:
+        if args.draws < 100:
+            raise InputError(f"--draws must be an integer >= 100 (Monte Carlo draws), got {args.draws}")
+        if args.seed < 0:
+            raise InputError(f"--seed must be an integer >= 0 (random generator seed), got {args.seed}")
+        check_estimate(layered_depth_estimate(draws=args.draws, picks=twt.size, layers=model.velocity.size),
+                       allow=args.allow_large, hint="use fewer --draws")
         est = layers.layered_depth_first_order(twt, model, offset_m=offset, time_zero_s=tz, twt_sd_s=sd,
                                                time_zero_sd_s=tz_sd)
         mc = layers.layered_depth_monte_carlo(twt, model, offset_m=offset, time_zero_s=tz, twt_sd_s=sd,
@@ -303,11 +331,11 @@ def run(args) -> int:
             comments.append(f"crs: {out_crs.to_string()}")
         ccols = [(c.key, c.fmt if c.fmt else "") for c in cols]
         ccols = [(k, ".4f" if k.startswith("depth") or k == "target_elev_m" else f) for k, f in ccols]
-        picks.write_csv(args.out_csv, rows, ccols, force=args.force, comments=comments)
+        picks.write_csv(staged["csv"], rows, ccols, force=True, comments=comments)
         written.append(args.out_csv)
     if args.out_geojson:
         props = [{k: v for k, v in r.items() if k not in (xk, yk)} for r in rows]
-        picks.write_geojson(args.out_geojson, xs, ys, props, out_crs, force=args.force,
+        picks.write_geojson(staged["geojson"], xs, ys, props, out_crs, force=True,
                             collection_properties={"caution": CAUTION, "velocity": velocity_text,
                                                    "generator": "subsurf depth"})
         written.append(args.out_geojson)
@@ -322,5 +350,4 @@ def run(args) -> int:
     if written:
         text.append("wrote: " + ", ".join(written))
     text += ["", "CAUTION: " + CAUTION]
-    print_result(payload, "\n".join(text), as_json=args.json)
-    return 0
+    return payload, "\n".join(text)

@@ -97,20 +97,32 @@ def _layered_model(fits, cmp_picks, source):
 
 
 def run(args) -> int:
+    from ..io.outputs import print_notes, print_result
+    from ..io.transaction import OutputTransaction
+
+    txn = OutputTransaction("velocity", force=args.force)
+    staged = {k: txn.file(p) for k, p in (("json", args.out_json), ("csv", args.out_csv), ("figure", args.figure))
+              if p}
+    with txn:  # outputs checked and claimed before any work; written together or not at all
+        payload, text = _velocity(args, staged)
+    print_notes(txn.notes, quiet=args.quiet or args.json)
+    print_result(payload, text, as_json=args.json)
+    return 0
+
+
+def _velocity(args, staged: dict) -> tuple[dict, str]:
     import numpy as np
 
     from ..errors import InputError
     from ..interpretation.layered_cmp import fit_flags
     from ..interpretation.velocity import dix_interval_velocities, fit_cmp, fit_hyperbola
     from ..io import picks
-    from ..io.outputs import CAUTION, Column, atomic_path, check_outputs_free, format_table, print_result
+    from ..io.outputs import CAUTION, Column, format_table
     from ..units import parse_quantity
 
     def q(text, kind, unit, name):
         return parse_quantity(text, kind, default_unit=unit, name=name)
 
-    outs = [p for p in (args.out_json, args.out_csv, args.figure) if p]
-    check_outputs_free(outs, force=args.force)
     calib = args.known_depth is not None or args.twt is not None
     if calib == bool(args.picks):
         raise InputError("give either --picks CSV, or --known-depth with --twt for a calibration target")
@@ -216,8 +228,7 @@ def run(args) -> int:
     if args.figure:
         from ..io.fig_velocity import velocity_fit_figure
 
-        with atomic_path(args.figure, force=args.force) as tmp:
-            velocity_fit_figure(panels, tmp, title=f"{method} fit: {args.picks}")
+        velocity_fit_figure(panels, staged["figure"], title=f"{method} fit: {args.picks}")
         written.append(args.figure)
     payload = {"caution": CAUTION, "method": method, "fits": fits}
     if dix:
@@ -231,7 +242,7 @@ def run(args) -> int:
                 "t0_ns", "t0_se_ns", "depth_m", "depth_se_m", "radius_m", "radius_se_m", "rms_ns", "n_picks"]
         keys = [k for k in keys if any(k in r for r in fits)]
         fmt = {"target": "", "method": "", "n_picks": "d"}
-        picks.write_csv(args.out_csv, fits, [(k, fmt.get(k, ".5g")) for k in keys], force=args.force,
+        picks.write_csv(staged["csv"], fits, [(k, fmt.get(k, ".5g")) for k in keys], force=True,
                         comments=["subsurf velocity output. CAUTION: " + CAUTION])
         written.append(args.out_csv)
     if args.out_json:
@@ -239,8 +250,8 @@ def run(args) -> int:
 
         from ..io.outputs import atomic_write_text, to_jsonable
 
-        atomic_write_text(args.out_json, json.dumps(to_jsonable({**payload, "written": written}), indent=2,
-                                                    allow_nan=False) + "\n", force=args.force)
+        atomic_write_text(staged["json"], json.dumps(to_jsonable({**payload, "written": written}), indent=2,
+                                                     allow_nan=False) + "\n", force=True)
         written.append(args.out_json)
     payload["written"] = written
 
@@ -296,5 +307,4 @@ def run(args) -> int:
     if written:
         text.append("wrote: " + ", ".join(written))
     text += ["", "CAUTION: " + CAUTION]
-    print_result(payload, "\n".join(text), as_json=args.json)
-    return 0
+    return payload, "\n".join(text)

@@ -80,6 +80,7 @@ class _Target:
     own: tuple[str, ...] = ()        # folder: glob patterns of what this command writes
     foreign_ok: bool = True          # folder: may it hold files of others (merged into)?
     mode: str = "new"                # new | replace (file or whole folder) | merge (files into a folder)
+    shown: str = ""                  # the path as the user gave it, for messages
 
 
 class OutputTransaction:
@@ -118,7 +119,7 @@ class OutputTransaction:
         if any(t.dest == dest for t in self._targets):
             raise InputError(f"{path} is given as two different outputs; give each output its own name")
         staged = self._stage_for(dest) / f"{len(self._targets)}-{dest.name}"
-        self._targets.append(_Target(dest, kind, staged, **kw))
+        self._targets.append(_Target(dest, kind, staged, shown=os.fspath(path), **kw))
         return staged
 
     def file(self, path) -> Path:
@@ -135,45 +136,52 @@ class OutputTransaction:
         """
         return self._add(path, "folder", own=tuple(own) + (MANIFEST_NAME,), foreign_ok=foreign_ok)
 
-    def destination_of(self, staged) -> Path | None:
-        """The destination a staged path stands for (for messages), or None."""
+    def destination_of(self, staged) -> str | None:
+        """The destination a staged path stands for, as the user named it (for messages), or None."""
         staged = Path(os.path.abspath(os.fspath(staged)))
         for t in self._targets:
-            if staged == t.staged or t.staged in staged.parents:
-                return t.dest / staged.relative_to(t.staged)
+            if staged == t.staged:
+                return t.shown
+            if t.staged in staged.parents:
+                return os.path.join(t.shown, staged.relative_to(t.staged).as_posix())
+        for stage in self._stages.values():  # a library's own temporary file inside the staging folder
+            if staged == stage or stage in staged.parents:
+                return ", ".join(t.shown for t in self._targets)
         return None
 
     # -- preflight ---------------------------------------------------------------------
     def _check(self, t: _Target) -> None:
-        parent, dest = t.dest.parent, t.dest
+        parent, dest, shown = t.dest.parent, t.dest, t.shown
         if not parent.is_dir():
-            what = "is not a folder" if os.path.lexists(parent) else "does not exist; create it first"
-            raise OutputError(f"{dest}: the folder {parent} {what}")
+            where = os.path.dirname(shown.rstrip("/")) or "."
+            what = f"{where} is not a folder" if os.path.lexists(parent) else \
+                f"the folder {where} does not exist; create it first"
+            raise OutputError(f"{shown}: {what}")
         if not os.path.lexists(dest):
             return
         if dest.is_symlink():
-            raise OutputExistsError(f"{dest} is a symbolic link{'' if dest.exists() else ' (dangling)'}; subsurf "
+            raise OutputExistsError(f"{shown} is a symbolic link{'' if dest.exists() else ' (dangling)'}; subsurf "
                                     "never replaces a link, give the real path or another name")
         if t.kind == "file":
             if dest.is_dir():
-                raise OutputError(f"{dest} is a folder; give a file name for this output")
+                raise OutputError(f"{shown} is a folder; give a file name for this output")
             if not dest.is_file():
-                raise OutputError(f"{dest} is not a regular file (a device or pipe); give a file name")
+                raise OutputError(f"{shown} is not a regular file (a device or pipe); give a file name")
             if not self.force:
-                raise OutputExistsError(f"output already exists: {dest}; choose another name or pass --force "
+                raise OutputExistsError(f"output already exists: {shown}; choose another name or pass --force "
                                         "to overwrite")
             t.mode = "replace"
             return
         if not dest.is_dir():
-            raise OutputError(f"{dest} exists and is not a folder; give a folder for this output")
+            raise OutputError(f"{shown} exists and is not a folder; give a folder for this output")
         files = files_under(dest)
         own = [f for f in files if any(fnmatch.fnmatchcase(f, p) for p in t.own)]
         foreign = [f for f in files if f not in own]
         if foreign and not t.foreign_ok:
-            raise OutputExistsError(f"{dest} holds files subsurf {self.command} did not write (e.g. {foreign[0]}); "
+            raise OutputExistsError(f"{shown} holds files subsurf {self.command} did not write (e.g. {foreign[0]}); "
                                     "choose another (new or empty) folder")
         if own and not self.force:
-            raise OutputExistsError(f"output already exists: {dest / own[0]}"
+            raise OutputExistsError(f"output already exists: {os.path.join(shown, own[0])}"
                                     + (f" (and {len(own) - 1} more)" if len(own) > 1 else "")
                                     + "; choose another folder or pass --force to overwrite")
         swappable = not foreign and dest != Path.cwd() and not os.path.ismount(dest)
@@ -254,7 +262,7 @@ class OutputTransaction:
             full = self._disk_full()
             self.rollback()
             where = self.destination_of(exc.filename) if exc.filename else None
-            raise OutputError(f"{where or self._targets[0].dest}: could not finish the outputs "
+            raise OutputError(f"{where or self._targets[0].shown}: could not finish the outputs "
                               f"({'no space left on device' if full else os_error_message(exc)}); nothing "
                               "was changed") from None
         except BaseException:  # undone above; an Interrupted raised after a complete commit keeps the output
@@ -269,7 +277,7 @@ class OutputTransaction:
         """Flush staged files, write the folders' manifests (last), check nothing appeared meanwhile."""
         for t in self._targets:
             if not os.path.lexists(t.staged):
-                raise SubsurfError(f"subsurf {self.command}: the output {t.dest} was declared but not written")
+                raise SubsurfError(f"subsurf {self.command}: the output {t.shown} was declared but not written")
             if t.kind == "folder":
                 write_manifest(t.staged, command=self.command, transaction=self.id)
             else:
@@ -278,7 +286,7 @@ class OutputTransaction:
         for t in self._targets:  # a writer other than subsurf may have created a destination meanwhile
             if t.mode == "new" and os.path.lexists(t.dest) and not (t.kind == "folder" and t.dest.is_dir()
                                                                     and not any(t.dest.iterdir())):
-                raise OutputExistsError(f"{t.dest} appeared while subsurf {self.command} was running; nothing "
+                raise OutputExistsError(f"{t.shown} appeared while subsurf {self.command} was running; nothing "
                                         "was replaced (pass --force to overwrite)")
 
     def _plan(self, t: _Target) -> dict:
@@ -366,7 +374,7 @@ class OutputTransaction:
         where = self.destination_of(exc.filename) if isinstance(exc, OSError) and exc.filename else None
         if where is None and (full or isinstance(exc, OSError) and not exc.filename
                               and exc.errno in (errno.ENOSPC, errno.EDQUOT, errno.EFBIG, errno.EROFS, errno.EIO)):
-            where = ", ".join(str(t.dest) for t in self._targets)
+            where = ", ".join(t.shown for t in self._targets)
         if where is None:
             return False
         why = os_error_message(exc) if isinstance(exc, OSError) and not full else "no space left on device"

@@ -1,0 +1,181 @@
+"""Workspace, mounts and runner for the bad-input battery (tests/cli/test_bad_input_battery.py).
+
+Every case runs ``subsurf`` as a subprocess in a fresh workspace holding a copy of the
+fictional example site, the example picks and a set of deliberately broken files; the
+workspace (and the special mounts) are fingerprinted before and after, so a case proves
+that nothing new was left and nothing existing changed.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import hashlib
+import json
+import os
+import shutil
+import subprocess
+import sys
+import tempfile
+from dataclasses import dataclass, field
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parents[2]
+SITE = ROOT / "surveys" / "example-site"
+PICKS = ROOT / "surveys" / "picks"
+
+
+@dataclass
+class Case:
+    """One bad input: the arguments, the exit code, and what the one error line must name."""
+
+    id: str
+    argv: list[str]
+    code: int
+    names: tuple[str, ...] = ()
+    needs: tuple[str, ...] = field(default=())  # "ro", "full": special mounts the case uses
+
+
+def C(id, argv, code, *names, needs=()):  # noqa: N802 - short constructor for the case table
+    """A case; ``argv`` is a string split on spaces or a list (for arguments with spaces)."""
+    return Case(id, argv.split() if isinstance(argv, str) else list(argv), code, names, tuple(needs))
+
+
+def _variant(text: str, old: str, new: str) -> str:
+    assert old in text, old
+    return text.replace(old, new)
+
+
+def make_workspace(ws: Path) -> None:
+    """Fill ``ws`` with the good inputs, the broken ones and a few pre-existing outputs to protect."""
+    shutil.copytree(SITE, ws / "site", ignore=shutil.ignore_patterns("make_example.py"))
+    shutil.copytree(PICKS, ws / "picks", ignore=shutil.ignore_patterns("make_examples.py", "README.md"))
+    survey = (SITE / "survey.toml").read_text(encoding="utf-8")
+    variants = {
+        "strings": _variant(survey, 'outline = "outline.geojson"', 'outline = "features_strings.geojson"'),
+        "badraster": _variant(survey, 'file = "ground_temperature.nc"', 'file = "not_raster.nc"'),
+        "draws": _variant(survey, "draws = 200", "draws = 1000000000000"),
+        "antenna": _variant(survey, '"lowband-100", "midband-250"', '"nosuch-antenna", "midband-250"'),
+        "depth": _variant(survey, 'depth = "1.2 m"', 'depth = "-1 m"'),
+        "samples": _variant(survey, 'file = "samples.csv"', 'file = "samples_latin1.csv"'),
+        "nooutline": _variant(survey, 'outline = "outline.geojson"', 'outline = "nowhere.geojson"'),
+        "syntax": survey.replace("[target]", "[target\n"),
+        "zonesdir": _variant(survey, 'file = "zones.geojson"', 'file = "zonesdir"'),
+    }
+    for name, text in variants.items():
+        (ws / "site" / f"survey_{name}.toml").write_text(text, encoding="utf-8")
+    (ws / "site" / "survey_latin1.toml").write_bytes(survey.replace("INVENTED site", "INVENTED caf\xe9").encode("latin-1"))
+    (ws / "site" / "features_strings.geojson").write_text('{"type": "FeatureCollection", "features": ["a", "b"]}')
+    (ws / "site" / "not_raster.nc").write_text("this is not a raster\n")
+    (ws / "site" / "zonesdir").mkdir()
+    samples = (SITE / "samples.csv").read_text(encoding="utf-8")
+    (ws / "site" / "samples_latin1.csv").write_bytes(samples.replace("S01", "S\xe91").encode("latin-1"))
+    (ws / "soil_latin1.toml").write_bytes('moisture = "20 %"\ntexture = "loam"\n# r\xe9sum\xe9\n'.encode("latin-1"))
+    (ws / "soil_badkey.toml").write_text('moisture = "20 %"\nwetness = 3\n')
+    (ws / "soilfacts").mkdir()
+    (ws / "catalogue_latin1.toml").write_bytes(b"# \xff\xfe\n[antennas]\n")
+    picks = (PICKS / "fictional_hyperbolas.csv").read_text(encoding="utf-8")
+    (ws / "picks_latin1.csv").write_bytes(picks.replace("Invented", "Inv\xe9nted").encode("latin-1"))
+    (ws / "v_nan.json").write_text('{"velocity_m_per_ns": NaN, "velocity_se_m_per_ns": 0.003}')
+    (ws / "v_fast.json").write_text('{"velocity_m_per_ns": 5.0, "velocity_se_m_per_ns": 0.003}')
+    (ws / "v_text.json").write_text("not json at all")
+    (ws / "blocker").write_text("a file where a folder is needed\n")
+    (ws / "existing.csv").write_text("keep me\n")
+    (ws / "existing_dir").mkdir()
+    (ws / "existing_dir" / "keep.txt").write_text("keep me too\n")
+    (ws / "earlier_map").mkdir()
+    (ws / "earlier_map" / "feasibility.nc").write_bytes(b"an earlier map (stand-in)\n")
+    os.symlink("nowhere.csv", ws / "dangling.csv")
+
+
+def fingerprint(*folders: Path) -> dict:
+    """Every entry under the folders: kind and content digest (files), target (links)."""
+    out = {}
+    for folder in folders:
+        for p in sorted(folder.rglob("*")):
+            key = str(p)
+            if p.is_symlink():
+                out[key] = ("link", os.readlink(p))
+            elif p.is_dir():
+                out[key] = ("dir",)
+            else:
+                out[key] = ("file", hashlib.sha256(p.read_bytes()).hexdigest())
+    return out
+
+
+@contextlib.contextmanager
+def special_mounts():
+    """A read-only file system and a full one (small tmpfs mounts; root only), else empty."""
+    found, base = {}, Path(tempfile.mkdtemp(prefix="subsurf-battery-mounts-"))
+    reasons = {}
+    ro, full = base / "ro", base / "full"
+    ro.mkdir()
+    full.mkdir()
+    mounted = []
+    try:
+        if os.geteuid() != 0 or not shutil.which("mount"):
+            reasons["ro"] = reasons["full"] = "needs root and mount(8) for small tmpfs mounts"
+        else:
+            r = subprocess.run(["mount", "-t", "tmpfs", "-o", "size=1m,ro", "tmpfs", str(ro)], capture_output=True,
+                               text=True)
+            if r.returncode == 0:
+                mounted.append(ro)
+                found["ro"] = ro
+            else:
+                reasons["ro"] = f"mount failed: {r.stderr.strip()}"
+            r = subprocess.run(["mount", "-t", "tmpfs", "-o", "size=64k", "tmpfs", str(full)], capture_output=True,
+                               text=True)
+            if r.returncode == 0:
+                mounted.append(full)
+                fd = os.open(full / "filler", os.O_WRONLY | os.O_CREAT, 0o644)  # fill it up
+                with contextlib.suppress(OSError):
+                    while True:
+                        os.write(fd, b"\0" * 4096)
+                os.close(fd)
+                found["full"] = full
+            else:
+                reasons["full"] = f"mount failed: {r.stderr.strip()}"
+        yield found, reasons
+    finally:
+        for m in mounted:
+            subprocess.run(["umount", str(m)], check=False)
+        shutil.rmtree(base, ignore_errors=True)
+
+
+def run_subsurf(argv, cwd, *, timeout=90, env_extra=None):
+    """``python -m subsurf <argv>`` in ``cwd``; the CompletedProcess (text), exit code -999 on a timeout."""
+    env = {**os.environ, **(env_extra or {})}
+    env.pop("PYTEST_CURRENT_TEST", None)
+    try:
+        return subprocess.run([sys.executable, "-m", "subsurf", *argv], cwd=cwd, capture_output=True, text=True,
+                              timeout=timeout, env=env)
+    except subprocess.TimeoutExpired as exc:
+        return subprocess.CompletedProcess(exc.cmd, -999, stdout="", stderr=f"timed out after {timeout} s")
+
+
+def check_failure(case: Case, proc, before: dict, after: dict) -> list[str]:
+    """What is wrong with how ``proc`` failed (empty when everything is as promised)."""
+    problems = []
+    lines = proc.stderr.strip().splitlines()
+    if proc.returncode != case.code:
+        problems.append(f"exit code {proc.returncode}, expected {case.code}")
+    if "Traceback" in proc.stderr:
+        problems.append("a traceback on stderr")
+    if len(lines) != 1:
+        problems.append(f"{len(lines)} lines on stderr, expected one")
+    text = proc.stderr
+    if "--json" in case.argv:
+        try:
+            text = json.loads(lines[-1])["error"] if lines else ""
+        except (ValueError, KeyError):
+            problems.append("stderr is not a JSON error object under --json")
+        if proc.stdout.strip():
+            problems.append("stdout is not empty after an error under --json")
+    for name in case.names:
+        if name.lower() not in text.lower():
+            problems.append(f"the error does not name {name!r}")
+    if before != after:
+        new = sorted(set(after) - set(before))
+        gone = sorted(set(before) - set(after))
+        changed = sorted(k for k in set(before) & set(after) if before[k] != after[k])
+        problems.append(f"files changed: new {new[:3]}, removed {gone[:3]}, modified {changed[:3]}")
+    return problems

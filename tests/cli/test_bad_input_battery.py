@@ -1,0 +1,290 @@
+"""A battery of bad inputs and faults, run as a careless or unlucky user would (as subprocesses).
+
+Every case must end with its exit code, exactly one line on stderr naming the offending
+file, flag or value, no traceback, no new file anywhere in the workspace (or on the
+special mounts) and every pre-existing file byte-identical.  The cases run concurrently
+(a few subprocesses at once) in a module fixture; each test then checks one case.
+"""
+
+from __future__ import annotations
+
+import json
+import shutil
+import tempfile
+from concurrent.futures import ThreadPoolExecutor
+from pathlib import Path
+
+import pytest
+
+from battery_support import C, check_failure, fingerprint, make_workspace, run_subsurf, special_mounts
+
+HYP = "picks/fictional_hyperbolas.csv"
+UTIL = "picks/fictional_utility_picks.csv"
+CMP = "picks/fictional_cmp.csv"
+S = "site/survey.toml"
+MED = ["--texture", "loam", "--moisture", "20 %"]
+LINE = ["--target", "line", "--depth", "1.2", "--size", "15 cm", "--material", "metal"]
+SYN = ["--synthetic", "64x48"]
+PLANAR = ["--target", "planar", "--depth", "1.5"]
+V = ["--velocity", "0.095"]
+LAYERS = ["--layer", "0.6 m, 0.11 m/ns, 0.004 m/ns", "--layer", "-, 0.08 m/ns, 0.004 m/ns"]
+
+CASES_ALL = [
+    # -- the command line itself ---------------------------------------------------------
+    C("no-such-command", "nosuch", 2, "nosuch", "--help"),
+    C("unknown-global-flag", "--bogus", 2, "--bogus"),
+    C("map-missing-survey", "map", 2, "SURVEY.toml", "--help"),
+    C("map-missing-survey-json", "map --json", 2, "SURVEY.toml"),
+    C("medium-unknown-flag", "medium --bogus-flag 3", 2, "--bogus-flag"),
+    C("medium-bad-choice", "medium --model bogus", 2, "--model", "bogus"),
+    C("depth-draws-not-int", "depth --twt 25 --velocity 0.1 --draws 1e12", 2, "--draws", "1e12"),
+    C("region-chunk-not-int", "region --synthetic 64x48 --chunk big", 2, "--chunk"),
+    # -- medium --------------------------------------------------------------------------
+    C("medium-soil-not-utf8", "medium --soil soil_latin1.toml", 1, "soil_latin1.toml", "UTF-8"),
+    C("medium-soil-folder", "medium --soil soilfacts", 1, "soilfacts", "folder"),
+    C("medium-soil-missing", "medium --soil nowhere.toml", 1, "nowhere.toml"),
+    C("medium-soil-unknown-key", "medium --soil soil_badkey.toml", 1, "soil_badkey.toml", "wetness"),
+    C("medium-soil-folder-json", "medium --soil soilfacts --json", 1, "soilfacts"),
+    C("medium-moisture-150", "medium --texture loam --moisture 150", 1, "moisture"),
+    C("medium-moisture-negative", ["medium", "--texture", "loam", "--moisture", "-5 %"], 1, "moisture"),
+    C("medium-eps-negative", "medium --eps -3 --sigma 1", 1, "eps"),
+    C("medium-texture-unknown", "medium --texture nosuch --moisture 0.2", 1, "nosuch"),
+    C("medium-freq-text", ["medium", *MED, "--freq", "abc"], 1, "--freq"),
+    C("medium-ec-negative", ["medium", *MED, "--pore-water-ec", "-5 mS/m"], 1, "pore"),
+    C("medium-sand-clay-over-one", ["medium", "--moisture", "0.2", "--sand", "0.8", "--clay", "0.5"], 1, "sand"),
+    C("medium-moisture-unit", ["medium", "--texture", "loam", "--moisture", "20 kg"], 1, "moisture"),
+    C("medium-salinity-negative", ["medium", *MED, "--salinity", "-3"], 1, "salinity"),
+    # -- choose / setup ------------------------------------------------------------------
+    C("choose-no-depth", ["choose", *MED, "--target", "planar"], 2, "--depth"),
+    C("choose-negative-depth", ["choose", *MED, "--target", "planar", "--depth", "-1"], 1, "depth"),
+    C("choose-catalogue-not-utf8", ["choose", *MED, *LINE, "--catalogue", "catalogue_latin1.toml"], 1,
+      "catalogue_latin1.toml"),
+    C("choose-catalogue-folder", ["choose", *MED, *LINE, "--catalogue", "soilfacts"], 1, "soilfacts"),
+    C("choose-catalogue-missing", ["choose", *MED, *LINE, "--catalogue", "nowhere.toml"], 1, "nowhere.toml"),
+    C("choose-antenna-unknown", ["choose", *MED, *LINE, "--antenna", "nosuch-antenna"], 1, "nosuch-antenna"),
+    C("choose-material-unknown", ["choose", *MED, "--target", "line", "--depth", "1", "--size", "0.1",
+                                  "--material", "unobtainium"], 1, "unobtainium"),
+    C("choose-target-choice", ["choose", *MED, "--target", "pipe", "--depth", "1"], 2, "--target"),
+    C("choose-size-negative", ["choose", *MED, "--target", "line", "--depth", "1", "--size", "-3 cm"], 1, "size"),
+    C("choose-soil-folder", ["choose", "--soil", "soilfacts", *LINE], 1, "soilfacts"),
+    C("setup-antenna-unknown", ["setup", *MED, *LINE, "--antenna", "nosuch-antenna"], 1, "nosuch-antenna"),
+    C("setup-stacks-zero", ["setup", *MED, *LINE, "--antenna", "midband-250", "--stacks", "0"], 1, "--stacks"),
+    C("setup-speed-negative", ["setup", *MED, *LINE, "--antenna", "midband-250", "--speed", "-1"], 1, "speed"),
+    C("setup-area-text", ["setup", *MED, *LINE, "--antenna", "midband-250", "--area", "big"], 1, "--area"),
+    C("setup-line-length-negative", ["setup", *MED, *LINE, "--antenna", "midband-250", "--line-length", "-4"], 1,
+      "line"),
+    C("setup-soil-not-utf8", ["setup", "--soil", "soil_latin1.toml", *LINE, "--antenna", "midband-250"], 1,
+      "soil_latin1.toml"),
+    # -- depth ---------------------------------------------------------------------------
+    C("depth-out-exists", ["depth", "--twt", "25", *V, "--out-csv", "existing.csv"], 3, "existing.csv"),
+    C("depth-csv-ok-geojson-blocked", ["depth", "--picks", UTIL, *V, "--out-csv", "a.csv",
+                                       "--out-geojson", "blocker/b.geojson"], 1, "blocker"),
+    C("depth-csv-ok-geojson-missing-folder", ["depth", "--picks", UTIL, *V, "--out-csv", "a.csv",
+                                              "--out-geojson", "missing/b.geojson"], 1, "missing"),
+    C("depth-out-is-folder", ["depth", "--twt", "25", *V, "--out-csv", "existing_dir"], 1, "existing_dir"),
+    C("depth-out-under-sys", ["depth", "--twt", "25", *V, "--out-csv", "/sys/subsurf-depth.csv"], 1, "/sys"),
+    C("depth-out-dev-null", ["depth", "--twt", "25", *V, "--out-csv", "/dev/null", "--force"], 1, "/dev/null"),
+    C("depth-out-dangling-link", ["depth", "--twt", "25", *V, "--out-csv", "dangling.csv"], 3, "dangling.csv"),
+    C("depth-out-dangling-link-force", ["depth", "--twt", "25", *V, "--out-csv", "dangling.csv", "--force"], 3,
+      "dangling.csv", "link"),
+    C("depth-same-output-twice", ["depth", "--picks", UTIL, *V, "--out-csv", "x.out", "--out-geojson", "x.out"], 1,
+      "x.out"),
+    C("depth-out-read-only", ["depth", "--twt", "25", *V, "--out-csv", "{ro}/d.csv"], 1, "{ro}", needs=["ro"]),
+    C("depth-out-full-disk", ["depth", "--picks", UTIL, *V, "--out-csv", "{full}/d.csv"], 1, "{full}", "space",
+      needs=["full"]),
+    C("depth-picks-folder", ["depth", "--picks", "soilfacts", *V], 1, "soilfacts"),
+    C("depth-picks-not-utf8", ["depth", "--picks", "picks_latin1.csv", *V], 1, "picks_latin1.csv"),
+    C("depth-picks-missing", ["depth", "--picks", "nowhere.csv", *V], 1, "nowhere.csv"),
+    C("depth-velocity-10", ["depth", "--twt", "25", "--velocity", "10"], 1, "--velocity"),
+    C("depth-velocity-negative", ["depth", "--twt", "25", "--velocity", "-0.1"], 1, "--velocity"),
+    C("depth-velocity-from-nan", ["depth", "--twt", "25", "--velocity-from", "v_nan.json"], 1, "v_nan.json"),
+    C("depth-velocity-from-5-m-per-ns", ["depth", "--twt", "25", "--velocity-from", "v_fast.json"], 1, "v_fast.json"),
+    C("depth-velocity-from-text", ["depth", "--twt", "25", "--velocity-from", "v_text.json"], 1, "v_text.json"),
+    C("depth-velocity-from-folder", ["depth", "--twt", "25", "--velocity-from", "soilfacts"], 1, "soilfacts"),
+    C("depth-velocity-from-missing", ["depth", "--twt", "25", "--velocity-from", "nowhere.json"], 1, "nowhere.json"),
+    C("depth-layer-negative-se", ["depth", "--twt", "25", "--layer", "0.6 m, 0.11 m/ns, -0.004 m/ns",
+                                  "--layer", "-, 0.08 m/ns"], 1, "--layer"),
+    C("depth-layer-bad-shape", ["depth", "--twt", "25", "--layer", "0.6 m"], 1, "--layer"),
+    C("depth-draws-1e12", ["depth", "--twt", "25", *LAYERS, "--draws", "1000000000000"], 1, "--draws", "memory"),
+    C("depth-draws-5", ["depth", "--twt", "25", *LAYERS, "--draws", "5"], 1, "--draws"),
+    C("depth-seed-negative", ["depth", "--twt", "25", *LAYERS, "--seed", "-1"], 1, "--seed"),
+    C("depth-twt-text", ["depth", "--twt", "abc", *V], 1, "--twt"),
+    C("depth-no-velocity", "depth --twt 25", 1, "--velocity"),
+    C("depth-offset-negative", ["depth", "--twt", "25", *V, "--offset", "-1"], 1, "--offset"),
+    C("depth-twt-and-picks", ["depth", "--twt", "25", "--picks", UTIL, *V], 1, "--picks"),
+    C("depth-geojson-no-coords", ["depth", "--twt", "25", *V, "--out-geojson", "d.geojson"], 1, "--out-geojson"),
+    C("depth-crs-nonsense", ["depth", "--picks", UTIL, *V, "--crs", "EPSG:999999"], 1, "--crs"),
+    C("depth-error-json", ["depth", "--twt", "25", "--velocity", "10", "--json"], 1, "--velocity"),
+    # -- velocity ------------------------------------------------------------------------
+    C("velocity-figure-ok-json-blocked", ["velocity", "--picks", HYP, "--figure", "fit.png",
+                                          "--out-json", "blocker/fit.json"], 1, "blocker"),
+    C("velocity-json-exists", ["velocity", "--picks", HYP, "--out-json", "existing.csv"], 3, "existing.csv"),
+    C("velocity-figure-folder", ["velocity", "--picks", HYP, "--figure", "existing_dir"], 1, "existing_dir"),
+    C("velocity-figure-under-sys", ["velocity", "--picks", HYP, "--figure", "/sys/fit.png"], 1, "/sys"),
+    C("velocity-csv-read-only", ["velocity", "--picks", HYP, "--out-csv", "{ro}/fit.csv"], 1, "{ro}", needs=["ro"]),
+    C("velocity-figure-full-disk", ["velocity", "--picks", HYP, "--figure", "{full}/fit.png"], 1, "{full}",
+      needs=["full"]),
+    C("velocity-picks-folder", ["velocity", "--picks", "soilfacts"], 1, "soilfacts"),
+    C("velocity-picks-not-utf8", ["velocity", "--picks", "picks_latin1.csv"], 1, "picks_latin1.csv"),
+    C("velocity-picks-missing", ["velocity", "--picks", "nowhere.csv"], 1, "nowhere.csv"),
+    C("velocity-radius-typo", ["velocity", "--picks", HYP, "--radius", "fitt"], 1, "--radius"),
+    C("velocity-known-depth-no-twt", ["velocity", "--known-depth", "1.2"], 1, "--twt"),
+    C("velocity-known-depth-negative", ["velocity", "--known-depth", "-1", "--twt", "20"], 1, "depth"),
+    C("velocity-target-unknown", ["velocity", "--picks", HYP, "--target", "nosuch"], 1, "nosuch"),
+    C("velocity-cmp-on-hyperbolas", ["velocity", "--picks", HYP, "--method", "cmp"], 1, HYP),
+    C("velocity-nothing", "velocity", 1, "--picks"),
+    C("velocity-figure-calibration", ["velocity", "--known-depth", "1", "--twt", "20", "--figure", "f.png"], 1,
+      "--figure"),
+    C("velocity-bad-picks-rows", ["velocity", "--picks", "picks/fictional_bad_picks.csv"], 1,
+      "fictional_bad_picks.csv"),
+    C("velocity-time-zero-text", ["velocity", "--picks", HYP, "--time-zero", "soon"], 1, "--time-zero"),
+    # -- map -----------------------------------------------------------------------------
+    C("map-survey-folder", "map soilfacts", 1, "soilfacts"),
+    C("map-survey-missing", "map nowhere.toml", 1, "nowhere.toml"),
+    C("map-survey-not-utf8", "map site/survey_latin1.toml --out m", 1, "survey_latin1.toml"),
+    C("map-survey-syntax", "map site/survey_syntax.toml --out m", 1, "survey_syntax.toml"),
+    C("map-outline-strings", "map site/survey_strings.toml --out m", 1, "features_strings.geojson"),
+    C("map-outline-missing", "map site/survey_nooutline.toml --out m", 1, "nowhere.geojson"),
+    C("map-raster-not-raster", "map site/survey_badraster.toml --out m", 1, "not_raster.nc"),
+    C("map-samples-not-utf8", "map site/survey_samples.toml --out m", 1, "samples_latin1.csv"),
+    C("map-zones-folder", "map site/survey_zonesdir.toml --out m", 1, "zonesdir"),
+    C("map-draws-1e12", "map site/survey_draws.toml --out m", 1, "draws"),
+    C("map-antenna-unknown", "map site/survey_antenna.toml --out m", 1, "nosuch-antenna"),
+    C("map-target-depth-negative", "map site/survey_depth.toml --out m", 1, "depth"),
+    C("map-out-is-file", f"map {S} --out blocker", 1, "blocker"),
+    C("map-out-existing-file-force", f"map {S} --out existing.csv --force", 1, "existing.csv"),
+    C("map-out-under-sys", f"map {S} --out /sys/subsurf-maps", 1, "/sys"),
+    C("map-out-missing-parent", f"map {S} --out missing/deeper", 1, "missing"),
+    C("map-out-earlier-output", f"map {S} --out earlier_map", 3, "earlier_map"),
+    C("map-out-read-only", f"map {S} --out {{ro}}/maps", 1, "{ro}", needs=["ro"]),
+    C("map-out-full-disk", f"map {S} --out {{full}}/maps", 1, "{full}", needs=["full"]),
+    C("map-error-json", "map soilfacts --json", 1, "soilfacts"),
+    # -- region --------------------------------------------------------------------------
+    C("region-200000-squared", ["region", "--synthetic", "200000x200000", *PLANAR, "--out", "r.nc"], 1,
+      "--allow-large"),
+    C("region-1e7-squared", ["region", "--synthetic", "10000000x10000000", *PLANAR, "--out", "r.nc"], 1,
+      "--allow-large"),
+    C("region-seed-negative", [*"region --seed -1 --write-soil s.nc".split(), *SYN], 1, "--seed"),
+    C("region-workers-negative", ["region", *SYN, *PLANAR, "--out", "r.nc", "--workers", "-3"], 1, "--workers"),
+    C("region-chunk-20000", ["region", "--synthetic", "40000x40000", *PLANAR, "--out", "r.nc", "--chunk", "20000"], 1,
+      "--chunk"),
+    C("region-chunk-5", ["region", *SYN, *PLANAR, "--out", "r.nc", "--chunk", "5"], 1, "--chunk"),
+    C("region-batch-zero", ["region", *SYN, *PLANAR, "--out", "r.nc", "--batch", "0"], 1, "--batch"),
+    C("region-write-soil-bad-depth", ["region", *SYN, "--write-soil", "s.nc", "--out", "r.nc", "--target", "planar",
+                                      "--depth", "-1 m"], 1, "depth"),
+    C("region-soil-folder", ["region", "--soil", "soilfacts", *PLANAR, "--out", "r.nc"], 1, "soilfacts"),
+    C("region-soil-not-raster", ["region", "--soil", "site/not_raster.nc", *PLANAR, "--out", "r.nc"], 1,
+      "not_raster.nc"),
+    C("region-soil-missing", ["region", "--soil", "nowhere.nc", *PLANAR, "--out", "r.nc"], 1, "nowhere.nc"),
+    C("region-soil-toml", ["region", "--soil", "soil_latin1.toml", *PLANAR, "--out", "r.nc"], 1, "soil_latin1.toml"),
+    C("region-out-blocked", ["region", *SYN, *PLANAR, "--out", "blocker/r.nc"], 1, "blocker"),
+    C("region-out-exists", ["region", *SYN, *PLANAR, "--out", "existing.csv"], 3, "existing.csv"),
+    C("region-out-under-sys", ["region", *SYN, *PLANAR, "--out", "/sys/r.nc"], 1, "/sys"),
+    C("region-out-read-only", ["region", *SYN, *PLANAR, "--out", "{ro}/r.nc"], 1, "{ro}", needs=["ro"]),
+    C("region-out-full-disk", ["region", "--synthetic", "2000x2000", *PLANAR, "--out", "{full}/r.nc"], 1, "{full}",
+      needs=["full"]),
+    C("region-synthetic-text", ["region", "--synthetic", "big", *PLANAR, "--out", "r.nc"], 1, "--synthetic"),
+    C("region-nothing-to-write", ["region", *SYN], 1, "--out"),
+    C("region-nodata-fraction", ["region", *SYN, "--nodata-fraction", "2", "--write-soil", "s.nc"], 1,
+      "--nodata-fraction"),
+    C("region-cell-size-negative", ["region", *SYN, "--cell-size", "-5 m", "--write-soil", "s.nc"], 1, "--cell-size"),
+    C("region-antenna-unknown", ["region", *SYN, *PLANAR, "--out", "r.nc", "--antenna", "nosuch-antenna"], 1,
+      "nosuch-antenna"),
+    C("region-soil-and-synthetic", ["region", *SYN, "--soil", "x.nc", *PLANAR, "--out", "r.nc"], 1, "--soil"),
+    C("region-layers-unknown", ["region", *SYN, *PLANAR, "--out", "r.nc", "--layers", "colour"], 1, "colour"),
+    # -- report --------------------------------------------------------------------------
+    C("report-survey-folder", "report soilfacts --out r.html", 1, "soilfacts"),
+    C("report-survey-missing", "report nowhere.toml --out r.html", 1, "nowhere.toml"),
+    C("report-out-blocked", f"report {S} --out blocker/r.html", 1, "blocker"),
+    C("report-out-folder", f"report {S} --out existing_dir", 1, "existing_dir"),
+    C("report-out-exists", f"report {S} --out existing.csv", 3, "existing.csv"),
+    C("report-out-under-sys", f"report {S} --out /sys/r.html", 1, "/sys"),
+    C("report-maps-out-blocked", f"report {S} --out r.html --maps-out blocker", 1, "blocker"),
+    C("report-maps-ok-out-missing-folder", f"report {S} --maps-out maps --out missing/r.html", 1, "missing"),
+    C("report-outline-strings", "report site/survey_strings.toml --out r.html", 1, "features_strings.geojson"),
+    C("report-survey-not-utf8", "report site/survey_latin1.toml --out r.html", 1, "survey_latin1.toml"),
+    C("report-out-read-only", f"report {S} --out {{ro}}/r.html", 1, "{ro}", needs=["ro"]),
+    # -- demo ----------------------------------------------------------------------------
+    C("demo-out-is-file", "demo --out blocker", 1, "blocker"),
+    C("demo-out-existing-file-force", "demo --out existing.csv --force", 1, "existing.csv"),
+    C("demo-out-foreign-folder", "demo --out existing_dir", 3, "existing_dir"),
+    C("demo-out-foreign-folder-force", "demo --out existing_dir --force", 3, "keep.txt"),
+    C("demo-out-under-sys", "demo --out /sys/subsurf-demo", 1, "/sys"),
+    C("demo-out-missing-parent", "demo --out missing/demo", 1, "missing"),
+    C("demo-out-read-only", "demo --out {ro}/demo", 1, "{ro}", needs=["ro"]),
+    C("demo-out-full-disk", "demo --out {full}/demo", 1, "{full}", needs=["full"]),
+]
+
+
+import os as _os
+CASES = [c for c in CASES_ALL if _os.environ.get("BATTERY_ONLY", "") in c.id]
+
+
+@pytest.fixture(scope="module")
+def battery():
+    """Run every case (three at a time), each in its own fresh workspace; results by case id."""
+    results = {}
+    with special_mounts() as (mounts, reasons):
+        base = Path(tempfile.mkdtemp(prefix="subsurf-battery-"))
+        try:
+            template = base / "template"
+            template.mkdir()
+            make_workspace(template)
+
+            def one(case):
+                missing = [n for n in case.needs if n not in mounts]
+                if missing:
+                    return case.id, ("skip", "; ".join(reasons.get(n, n) for n in missing))
+                ws = base / case.id
+                shutil.copytree(template, ws, symlinks=True)
+                sub = {f"{{{k}}}": str(v) for k, v in mounts.items()}
+                argv = [_fill(a, sub) for a in case.argv]
+                watched = [ws, *mounts.values()]
+                before = fingerprint(*watched)
+                proc = run_subsurf(argv, ws)
+                after = fingerprint(*watched)
+                case_filled = type(case)(case.id, argv, case.code, tuple(_fill(n, sub) for n in case.names))
+                return case.id, ("ran", (check_failure(case_filled, proc, before, after), proc))
+
+            with ThreadPoolExecutor(max_workers=3) as pool:
+                results = dict(pool.map(one, CASES))
+        finally:
+            shutil.rmtree(base, ignore_errors=True)
+    return results
+
+
+def _fill(text: str, sub: dict) -> str:
+    for k, v in sub.items():
+        text = text.replace(k, v)
+    return text
+
+
+def test_battery_is_large_enough():
+    """At least 100 cases, covering every subcommand that exists."""
+    from subsurf.cli import COMMANDS
+
+    assert len(CASES) >= 100
+    assert len({c.id for c in CASES}) == len(CASES)
+    covered = {c.argv[0] for c in CASES}
+    assert set(COMMANDS) - {"calibrate"} <= covered, set(COMMANDS) - covered
+
+
+@pytest.mark.parametrize("case", CASES, ids=[c.id for c in CASES])
+def test_bad_input(battery, case):
+    """Exit code, one line, no traceback, the offending thing named, nothing new, nothing changed."""
+    status, detail = battery[case.id]
+    if status == "skip":
+        pytest.skip(detail)
+    problems, proc = detail
+    assert not problems, f"{case.argv}: {'; '.join(problems)}\nstderr: {proc.stderr[-2000:]}"
+
+
+def test_json_errors_are_one_object_on_stderr(battery):
+    """Under --json an error is one JSON object on stderr with our fields; stdout stays empty."""
+    for cid in ("map-missing-survey-json", "medium-soil-folder-json", "depth-error-json", "map-error-json"):
+        _, (_, proc) = battery[cid]
+        doc = json.loads(proc.stderr.strip())
+        assert set(doc) >= {"error", "kind", "exit_code", "command", "path"}, doc
+        assert doc["exit_code"] == proc.returncode and proc.stdout == ""
+    _, (_, proc) = battery["medium-soil-folder-json"]
+    assert json.loads(proc.stderr)["kind"] == "file" and json.loads(proc.stderr)["path"].endswith("soilfacts")
