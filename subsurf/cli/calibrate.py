@@ -94,9 +94,23 @@ def _velocity(args, q, medium, fc):
 
 
 def run(args) -> int:
+    from ..io.outputs import print_notes, print_result
+    from ..io.transaction import OutputTransaction
+
+    txn = OutputTransaction("calibrate", force=args.force)
+    staged = {k: txn.file(p) for k, p in (("out", args.out), ("figure", args.figure)) if p}
+    with txn:  # outputs checked and claimed before any work; written together or not at all
+        record, text, notes = _calibrate(args, staged)
+    print_notes(txn.notes, quiet=args.quiet or args.json)
+    print_result(record, text, as_json=args.json)
+    print_notes(notes, quiet=args.quiet or args.json)
+    return 0
+
+
+def _calibrate(args, staged: dict):
     from ..errors import FileInputError, InputError
     from ..io.calibration_file import calibration_record, write_calibration
-    from ..io.outputs import CAUTION, check_outputs_free, collect_warnings, print_notes, print_result
+    from ..io.outputs import CAUTION, collect_warnings
     from ..io.profiles import read_profile
     from ..planning.antennas import get_antenna, load_catalogue
     from ..units import parse_quantity
@@ -106,8 +120,6 @@ def run(args) -> int:
     def q(text, kind, unit, name):
         return parse_quantity(text, kind, default_unit=unit, name=name)
 
-    outs = [p for p in (args.out, args.figure) if p]
-    check_outputs_free(outs, force=args.force)
     try:
         margin = float(str(args.margin).lower().replace("db", ""))
         refl = float(args.reference_reflection)
@@ -163,19 +175,15 @@ def run(args) -> int:
     written = []
     if args.figure:
         from ..io.fig_calibration import calibration_figure
-        from ..io.outputs import atomic_path
 
-        with atomic_path(args.figure, force=args.force) as tmp:
-            calibration_figure(cal, tmp, title=f"site calibration: {profile.source} ({antenna.name})")
+        calibration_figure(cal, staged["figure"], title=f"site calibration: {profile.source} ({antenna.name})")
         written.append(args.figure)
     if args.out:
-        write_calibration(args.out, record, force=args.force)
+        write_calibration(staged["out"], record, force=True)
         written.append(args.out)
     record["written"] = written
     text = calibration_table(record)
     if written:
         text += "\nwrote: " + ", ".join(written)
     text += f"\nCaution: {CAUTION}"
-    print_result(record, text, as_json=args.json)
-    print_notes(notes, quiet=args.quiet or args.json)
-    return 0
+    return record, text, notes

@@ -23,11 +23,19 @@ def add_arguments(parser) -> None:
 def run(args) -> int:
     from pathlib import Path
 
-    from ..io.demo import DESCRIPTIONS, run_demo
+    from ..io.demo import DESCRIPTIONS, OWN_FILES, run_demo
     from ..io.outputs import print_notes, print_result
+    from ..io.transaction import OutputTransaction
     from .report import summary_text
 
-    result = run_demo(args.out, force=args.force, quiet=args.quiet or args.json)
+    # the folder is staged and moved into place whole, with its manifest; an existing folder holding
+    # files the demo does not write is never replaced, not even with --force
+    txn = OutputTransaction("demo", force=args.force, expected_bytes=5e6)
+    staged = txn.folder(args.out, own=OWN_FILES, foreign_ok=False)
+    with txn:
+        result = run_demo(staged, force=True, quiet=args.quiet or args.json, public_dir=args.out)
+    result = txn.public(result)
+    print_notes(txn.notes, quiet=args.quiet or args.json)
     out = Path(result["out"])
     listing, tifs = [], [f for f in result["files"] if f.endswith(".tif")]
     for f in result["files"]:

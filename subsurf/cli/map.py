@@ -44,11 +44,26 @@ def summary_text(result: dict, out_dir) -> str:
 
 
 def run(args) -> int:
-    from ..io.maps import run_map
-    from ..io.outputs import CAUTION, print_result
+    from ..io.maps import OWN_FILES, run_map
+    from ..io.outputs import CAUTION, print_notes, print_result
+    from ..io.preflight import map_output_bytes
+    from ..io.transaction import OutputTransaction
 
-    result = run_map(args.survey, args.out, force=args.force, quiet=args.quiet or args.json,
-                     geotiff=not args.no_geotiff)
+    txn = OutputTransaction("map", force=args.force)
+    staged = txn.folder(args.out, own=OWN_FILES)
+
+    def preflight(survey, geotiff):  # free space for the outputs, before any computation
+        from ..site.grid import build_grid
+
+        grid = build_grid(survey)
+        txn.require_space(map_output_bytes(cells=grid.sizes["x"] * grid.sizes["y"], antennas=len(survey.antennas),
+                                           scenarios=len(survey.scenarios), geotiff=geotiff))
+
+    with txn:  # the folder is staged, then moved into place whole with its manifest
+        result = run_map(args.survey, staged, force=True, quiet=args.quiet or args.json,
+                         geotiff=not args.no_geotiff, preflight=preflight)
+    result = txn.public(result)
+    print_notes(txn.notes, quiet=args.quiet or args.json)
     text = summary_text(result, args.out)
     payload = {"caution": CAUTION, **{k: result[k] for k in ("paths", "summary", "inputs", "monte_carlo")},
                "text": text}

@@ -8,6 +8,8 @@ distributed).
 
 from __future__ import annotations
 
+import time
+
 HELP = "feasibility maps over a regional soil raster (or a synthetic region), chunk by chunk with dask"
 EXAMPLE = """subsurf region --synthetic 4000x3000 --target planar --depth 1.5 --out region-map.nc
 subsurf region --synthetic 20000x20000 --write-soil region-soil.nc
@@ -64,6 +66,8 @@ def add_arguments(parser) -> None:
     o.add_argument("--batch", type=int, metavar="N", help="tiles computed at once (default: twice the "
                    "parallel slots); bounds memory")
     o.add_argument("--float64", action="store_true", help="store layers as float64 (default float32)")
+    o.add_argument("--allow-large", action="store_true", help="run even if the memory or time estimate exceeds "
+                   "the limits (75 %% of this machine's memory, 6 h of computing); checked before any work")
 
 
 def _need_dask():
@@ -86,23 +90,9 @@ COLUMNS_SPEC = [
 ]
 
 
-def run(args) -> int:
-    import time
-
-    _need_dask()
+def _check_flags(args) -> None:
+    """Refuse impossible flag values before any work, naming the flag."""
     from ..errors import InputError
-    from ..io.outputs import (
-        CAUTION,
-        check_outputs_free,
-        collect_warnings,
-        print_notes,
-        print_result,
-    )
-    from ..io.regional import map_region, write_soil
-    from ..planning.antennas import get_antenna, load_catalogue
-    from ..site import regional, synthetic
-    from ..units import parse_quantity
-    from .choose import parse_depth, target_from_args
 
     if (args.soil is None) == (args.synthetic is None):
         raise InputError("give the soil as exactly one of --soil FILE.nc or --synthetic NXxNY")
@@ -112,44 +102,96 @@ def run(args) -> int:
         raise InputError("nothing to write: give --out MAP.nc (and/or --write-soil with --synthetic)")
     if args.chunk < 16:
         raise InputError(f"--chunk must be at least 16 cells, got {args.chunk}")
-    if args.out:
-        if args.target is None or args.depth is None:
-            raise InputError("a map needs the target: --target planar|point|line and --depth")
-    outputs = [p for p in (args.out, args.write_soil) if p]
-    check_outputs_free(outputs, force=args.force)
-    layers = [s.strip() for s in args.layers.split(",") if s.strip() and s.strip() != "none"]
+    if args.seed < 0:
+        raise InputError(f"--seed must be an integer >= 0 (random generator seed), got {args.seed}")
+    for flag, value in (("--workers", args.workers), ("--batch", args.batch)):
+        if value is not None and value < 1:
+            raise InputError(f"{flag} must be an integer >= 1, got {value}")
+    if not 0 <= args.nodata_fraction <= 0.5:
+        raise InputError(f"--nodata-fraction must be between 0 and 0.5, got {args.nodata_fraction:g}")
+    if args.out and (args.target is None or args.depth is None):
+        raise InputError("a map needs the target: --target planar|point|line and --depth")
 
-    with collect_warnings() as notes:
+
+def _estimate(args, nx: int, ny: int, n_antennas: int, n_layers: int):
+    """Memory, time and output size of this run, refused beyond the limits unless --allow-large."""
+    import os
+
+    from ..io.preflight import check_estimate, physical_memory_bytes, region_estimate
+    from ..site.synthetic import FIELDS
+
+    slots = args.workers or os.cpu_count() or 1
+    est = region_estimate(cells=nx * ny, antennas=n_antennas, layers=n_layers, chunk=args.chunk,
+                          tiles_in_flight=args.batch or 2 * slots, map_out=bool(args.out),
+                          soil_quantities=len(FIELDS) if args.write_soil else 0)
+    big_tiles = est.memory_bytes > 0.75 * physical_memory_bytes()
+    return check_estimate(est, allow=args.allow_large,
+                          hint="use a smaller --chunk or --batch" if big_tiles else "map a smaller region")
+
+
+def run(args) -> int:
+    import sys
+
+    _need_dask()
+    from ..errors import InputError
+    from ..io.outputs import CAUTION, collect_warnings, print_notes, print_result
+    from ..io.regional import map_region, write_soil
+    from ..io.transaction import OutputTransaction
+    from ..planning.antennas import get_antenna, load_catalogue
+    from ..site import regional, synthetic
+    from ..units import parse_quantity
+    from .choose import parse_depth, target_from_args
+
+    _check_flags(args)
+    layers = [s.strip() for s in args.layers.split(",") if s.strip() and s.strip() != "none"]
+    antennas, depth, target = [], None, None
+    if args.out:  # everything the map needs is read before anything is written
+        depth = parse_depth(args.depth)
+        target = target_from_args(args, depth_m=depth)
+        catalogue = load_catalogue(args.catalogue)
+        antennas = [get_antenna(n, catalogue) for n in args.antenna] if args.antenna else list(catalogue.values())
+    txn = OutputTransaction("region", force=args.force)
+    staged_map = txn.file(args.out) if args.out else None
+    staged_soil = txn.file(args.write_soil) if args.write_soil else None
+    with txn, collect_warnings() as notes:  # both files appear at the end, or neither
         if args.synthetic:
             nx, ny = synthetic.parse_size(args.synthetic)
             cell = parse_quantity(args.cell_size, "length", default_unit="m", name="--cell-size")
+            if not cell > 0:
+                raise InputError(f"--cell-size must be > 0 m, got {args.cell_size!r}")
+            est = _estimate(args, nx, ny, len(antennas), len(layers))
+            soil = None
+        else:
+            soil = regional.open_region(args.soil, chunk=args.chunk)
+            ny, nx = soil.sizes["y"], soil.sizes["x"]
+            est = _estimate(args, nx, ny, len(antennas), len(layers))
+        txn.require_space(est.output_bytes)
+        if est.seconds > 60 and not (args.quiet or args.json):
+            print(f"subsurf region: {est.what}: {est.describe()} (estimate)", file=sys.stderr, flush=True)
+        if soil is None:
             soil = synthetic.synthetic_region(nx, ny, seed=args.seed, cell_size_m=cell, chunk=args.chunk,
                                               nodata_fraction=args.nodata_fraction)
             source = f"synthetic region {nx}x{ny} cells of {cell:g} m, seed {args.seed} (invented data)"
         else:
-            soil = regional.open_region(args.soil, chunk=args.chunk)
             source = str(args.soil)
-        ny, nx = soil.sizes["y"], soil.sizes["x"]
         payload = {"soil": source, "cells": nx * ny, "shape": {"y": ny, "x": nx}, "chunk": args.chunk,
-                   "outputs": {}}
+                   "estimate": {"memory_bytes": est.memory_bytes, "seconds": est.seconds,
+                                "output_bytes": est.output_bytes}, "outputs": {}}
         t0 = time.perf_counter()
         if args.write_soil:
-            write_soil(soil, args.write_soil, force=args.force)
+            write_soil(soil, staged_soil, force=True)
             payload["outputs"]["soil"] = str(args.write_soil)
             payload["soil_write_seconds"] = time.perf_counter() - t0
         if args.out:
-            depth = parse_depth(args.depth)
-            target = target_from_args(args, depth_m=depth)
-            catalogue = load_catalogue(args.catalogue)
-            antennas = ([get_antenna(n, catalogue) for n in args.antenna] if args.antenna
-                        else list(catalogue.values()))
-            payload.update(map_region(soil, antennas, args.out, target=target, target_depth_m=depth,
+            payload.update(map_region(soil, antennas, staged_map, target=target, target_depth_m=depth,
                                       texture=args.texture, model=args.model, layers=layers,
                                       scheduler=args.scheduler, workers=args.workers, batch=args.batch,
-                                      float64=args.float64, force=args.force, quiet=args.quiet))
+                                      float64=args.float64, force=True, quiet=args.quiet or args.json,
+                                      expected_seconds=est.seconds))
             payload["outputs"]["map"] = str(args.out)
     payload["warnings"] = notes
     payload["caution"] = CAUTION
+    print_notes(txn.notes, quiet=args.quiet or args.json)
     print_result(payload, summary_text(payload, args), as_json=args.json)
     print_notes(notes, quiet=args.quiet or args.json)
     return 0

@@ -47,15 +47,29 @@ def summary_text(summary: dict) -> str:
     return "\n".join(lines)
 
 
+#: expected sizes (bytes) for the free-space preflight: the report with its figures embedded (the
+#: example's is about 1 MB), and a map folder (about 2 MB for the example)
+REPORT_BYTES, MAPS_BYTES = 2e6, 3e6
+
+
 def run(args) -> int:
     from pathlib import Path
 
+    from ..io.maps import OWN_FILES
     from ..io.outputs import print_notes, print_result
     from ..io.report import make_report
+    from ..io.transaction import OutputTransaction
 
     out = Path(args.out) if args.out else Path(default_report_name(args.survey))
-    summary = make_report(args.survey, out, force=args.force, quiet=args.quiet or args.json,
-                          maps=not args.no_maps, maps_out=args.maps_out)
+    keep_maps = bool(args.maps_out) and not args.no_maps
+    txn = OutputTransaction("report", force=args.force, expected_bytes=REPORT_BYTES + MAPS_BYTES * keep_maps)
+    html = txn.file(out)
+    maps_dir = txn.folder(args.maps_out, own=OWN_FILES) if keep_maps else None
+    with txn:  # the report and its map folder appear together at the end, or neither does
+        summary = make_report(args.survey, html, force=True, quiet=args.quiet or args.json,
+                              maps=not args.no_maps, maps_out=maps_dir)
+    summary = txn.public(summary)
+    print_notes(txn.notes, quiet=args.quiet or args.json)
     if args.maps_out and not args.no_maps:
         summary["maps_out"] = str(args.maps_out)
     print_result(summary, summary_text(summary) + f"\nOpen it in a browser: {out.resolve().as_uri()}",

@@ -8,7 +8,7 @@ The example is a fictional site with invented data.
 
 from __future__ import annotations
 
-__all__ = ["DEFAULT_OUT", "DESCRIPTIONS", "example_survey_path", "run_demo"]
+__all__ = ["DEFAULT_OUT", "DESCRIPTIONS", "OWN_FILES", "example_survey_path", "run_demo"]
 
 #: default output folder
 DEFAULT_OUT = "subsurf-demo"
@@ -29,6 +29,10 @@ DESCRIPTIONS = {
     "maps/summary.md": "the same as Markdown",
     "maps/summary.json": "the same as JSON",
 }
+
+
+#: glob patterns of every file a demo folder holds
+OWN_FILES = (*DESCRIPTIONS, "maps/geotiff/*.tif")
 
 
 def example_survey_path():
@@ -62,8 +66,13 @@ def _foreign_files(folder) -> list[str]:
     return found
 
 
-def run_demo(out_dir, *, force: bool = False, quiet: bool = False) -> dict:
-    """Write the demo into ``out_dir`` (built in a temporary folder, renamed at the end)."""
+def run_demo(out_dir, *, force: bool = False, quiet: bool = False, public_dir=None) -> dict:
+    """Write the demo into ``out_dir`` (built in a temporary folder, renamed at the end).
+
+    ``public_dir`` is the folder's name as the user will see it, when ``out_dir`` is a staged
+    folder of an output transaction (:mod:`subsurf.io.transaction`); paths written into the
+    demo's files use it.
+    """
     import json
     import os
     import shutil
@@ -93,8 +102,9 @@ def run_demo(out_dir, *, force: bool = False, quiet: bool = False) -> dict:
     os.chmod(tmp, 0o777 & ~umask)
     try:
         summary = make_report(survey, tmp / "report.html", quiet=quiet, maps_out=tmp / "maps", tables_dir=tmp)
-        summary["report"] = str(out / "report.html")
-        summary["tables"] = [str(out / Path(p).name) for p in summary["tables"]]
+        shown = Path(public_dir) if public_dir is not None else out
+        summary["report"] = str(shown / "report.html")
+        summary["tables"] = [str(shown / Path(p).name) for p in summary["tables"]]
         (tmp / "summary.json").write_text(json.dumps(to_jsonable(summary), indent=2, ensure_ascii=False,
                                                      allow_nan=False) + "\n", encoding="utf-8")
         if out.exists():  # --force: replace the old folder only now that the new one is complete

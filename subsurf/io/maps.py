@@ -6,7 +6,8 @@ the encoder ``subsurf region`` uses too), GeoTIFFs per layer (with the optional 
 PNG maps comparing antennas and scenarios and a map of the soil inputs
 (:mod:`subsurf.io.fig_maps`), and the area-fraction summary as CSV, Markdown and JSON.
 Every output is checked for existence first, and each is written to a temporary name and
-renamed when complete.
+renamed when complete; the command writes the folder as one transaction
+(:mod:`subsurf.io.transaction`), with a manifest.
 """
 
 from __future__ import annotations
@@ -15,12 +16,15 @@ from pathlib import Path
 
 from ..detection.verdicts import REACHES_MARGIN_DB
 
-__all__ = ["NETCDF_NAME", "SUMMARY_COLUMNS", "GEOTIFF_LAYERS", "output_paths", "write_map_outputs", "run_map"]
+__all__ = ["NETCDF_NAME", "SUMMARY_COLUMNS", "GEOTIFF_LAYERS", "OWN_FILES", "output_paths", "write_map_outputs",
+           "run_map"]
 
 NETCDF_NAME = "feasibility.nc"
 SUMMARY_STEM = "summary"
 FIGURES = {"antennas": "map_antennas.png", "scenarios": "map_scenarios.png", "inputs": "map_soil_inputs.png"}
 GEOTIFF_LAYERS = ("max_depth", "margin_db", "reach_probability")
+#: glob patterns of every file a map folder holds (an earlier output is recognised by them)
+OWN_FILES = (NETCDF_NAME, f"{SUMMARY_STEM}.*", "map_*.png", "geotiff/*.tif")
 
 #: summary columns: row key, header, unit, number format ("s": text)
 SUMMARY_COLUMNS = (
@@ -174,7 +178,8 @@ def write_map_outputs(maps, out_dir, *, force: bool = False, geotiff: bool = Tru
     return written
 
 
-def run_map(survey_path, out_dir, *, force: bool = False, quiet: bool = False, geotiff: bool = True) -> dict:
+def run_map(survey_path, out_dir, *, force: bool = False, quiet: bool = False, geotiff: bool = True,
+            preflight=None) -> dict:
     """Compute and write every output of ``subsurf map`` for one survey.
 
     Parameters
@@ -189,6 +194,9 @@ def run_map(survey_path, out_dir, *, force: bool = False, quiet: bool = False, g
         No progress bar.
     geotiff : bool
         Also write GeoTIFF layers when rioxarray (geo extra) is installed.
+    preflight : callable, optional
+        Called as ``preflight(survey, geotiff)`` once the survey is read, before any
+        computation (e.g. to check free space for the outputs).
 
     Returns
     -------
@@ -205,6 +213,8 @@ def run_map(survey_path, out_dir, *, force: bool = False, quiet: bool = False, g
     survey = load_survey(survey_path)
     geotiff = geotiff and have_rioxarray()
     check_outputs_free(output_paths(out_dir, survey, geotiff=geotiff).values(), force=force)
+    if preflight is not None:
+        preflight(survey, geotiff)
     maps = compute_maps(survey, quiet=quiet)
     written = write_map_outputs(maps, out_dir, force=force, geotiff=geotiff)
     grid = maps.grid

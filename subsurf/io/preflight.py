@@ -29,7 +29,7 @@ from ..errors import OutputError, ResourceLimitError
 __all__ = [
     "Estimate", "MEMORY_FRACTION", "TIME_LIMIT_S", "ALLOW_FLAG", "check_free_space", "check_estimate",
     "os_error_message", "format_bytes", "format_seconds", "physical_memory_bytes",
-    "map_estimate", "region_estimate", "layered_depth_estimate",
+    "map_output_bytes", "region_estimate", "layered_depth_estimate",
 ]
 
 #: share of physical memory a run may plan to use
@@ -44,10 +44,6 @@ _DISK_MARGIN = 64 * 1024
 # measured costs (see the module docstring)
 _MC_DEPTH_BYTES = 64          # layered depth Monte Carlo, per draw × pick × layer (measured 55 B)
 _MC_DEPTH_SECONDS = 0.5e-6    # ... per draw × pick × layer (measured 0.25-0.43 µs)
-_MAP_BASE_BYTES = 700e6       # map: Monte Carlo blocks of 2e6 draws × cells (measured peak 577 MB)
-_MAP_CELL_BYTES = 400         # ... per cell × antenna × scenario: the layers, float64 then float32
-_MAP_DRAW_SECONDS = 1.5e-6    # ... per cell × antenna × scenario × draw (measured 1.3 µs)
-_MAP_CELL_SECONDS = 2e-6      # ... per cell × antenna × scenario, the chain itself and the outputs
 _REGION_BASE_BYTES = 400e6    # region: interpreter, dask, the scheduler (measured 488 MiB with 4 tiles)
 _REGION_CELL_BYTES = 256      # ... per cell × antenna of a tile in flight (measured ~215 B)
 _REGION_SECONDS = 1 / 2.0e6   # ... per cell × antenna on 2 threads (measured 2.2e6 cell-antennas/s)
@@ -115,8 +111,11 @@ def check_estimate(est: Estimate, *, allow: bool = False, hint: str = "") -> Est
     return est
 
 
-def check_free_space(folder, needed_bytes: float, *, what: str = "the outputs") -> None:
-    """Raise :class:`OutputError` if ``folder``'s file system has less room than ``needed_bytes``."""
+def check_free_space(folder, needed_bytes: float, *, what: str = "the outputs", label: str | None = None) -> None:
+    """Raise :class:`OutputError` if ``folder``'s file system has less room than ``needed_bytes``.
+
+    The message starts with ``label`` (e.g. the outputs as the user named them), else ``folder``.
+    """
     if not needed_bytes or needed_bytes <= 0:
         return
     try:
@@ -125,7 +124,7 @@ def check_free_space(folder, needed_bytes: float, *, what: str = "the outputs") 
         return  # not knowable here: the write itself will say
     free = st.f_bavail * st.f_frsize
     if needed_bytes * 1.05 + _DISK_MARGIN > free:
-        raise OutputError(f"{folder}: {what} need about {format_bytes(needed_bytes)} but only "
+        raise OutputError(f"{label or folder}: {what} need about {format_bytes(needed_bytes)} but only "
                           f"{format_bytes(free)} is free on that file system; free some space or choose "
                           "another folder")
 
@@ -147,22 +146,30 @@ def os_error_message(exc: OSError) -> str:
     return text[:1].lower() + text[1:]
 
 
-def map_estimate(*, cells: int, cells_inside: int, antennas: int, scenarios: int, draws: int) -> Estimate:
-    """Estimate of ``subsurf map``: the chain per cell, antenna and scenario, and its Monte Carlo draws."""
+def map_output_bytes(*, cells: int, antennas: int, scenarios: int, geotiff: bool) -> float:
+    """Expected size of a ``subsurf map`` folder (bytes).
+
+    Measured on the example survey (4452 cells, 4 antennas, 2 scenarios): the zlib-compressed
+    NetCDF 924 kB (26 B per cell × antenna × scenario), GeoTIFF layers 4.2 B per cell and
+    layer (3 layers per antenna and scenario), PNG figures and tables about 0.5 MB; rounded up.
+    """
     n = cells * antennas * scenarios
-    seconds = n * _MAP_CELL_SECONDS + cells_inside * antennas * scenarios * draws * _MAP_DRAW_SECONDS
-    out = n * 4 * 8 * 0.5 + 2e6  # 8 float32 layers, zlib about halves them (common practice); figures, tables
-    return Estimate(f"subsurf map of {cells:,} cells x {antennas} antennas x {scenarios} scenarios x "
-                    f"{draws:,} draws", _MAP_BASE_BYTES + n * _MAP_CELL_BYTES, seconds, out)
+    return n * (32 + (3 * 4.5 if geotiff else 0)) + 0.6e6
 
 
 def region_estimate(*, cells: int, antennas: int, layers: int, chunk: int, tiles_in_flight: int,
                     soil_quantities: int = 0, map_out: bool = True) -> Estimate:
-    """Estimate of ``subsurf region``: tiles in flight for memory, every cell × antenna for time."""
+    """Estimate of ``subsurf region``: tiles in flight for memory, every cell × antenna for time.
+
+    Costs measured with benchmarks/bench_scale.py (2 threads, chunk 256, 6 antennas): about 2.2e6
+    cell-antennas per second end to end and a peak of 488 MiB with 4 tiles in flight.
+    """
     tile = min(chunk * chunk, cells)
     memory = _REGION_BASE_BYTES + tiles_in_flight * tile * max(antennas, 1) * _REGION_CELL_BYTES
     seconds = cells * antennas * _REGION_SECONDS if map_out else cells * soil_quantities * 2e-8
-    out = 0.5 * 4 * cells * ((2 + layers) * antennas * map_out + soil_quantities)  # float32, zlib ~ halves
+    # float32 values uncompressed: an upper bound (measured with zlib level 1: 69 B per cell for 6 antennas and
+    # 2 extra layers against 96 B here; the synthetic soil 9 B per cell against 12 B)
+    out = 4.0 * cells * ((2 + layers) * antennas * map_out + soil_quantities)
     what = f"subsurf region of {cells:,} cells" + (f" x {antennas} antennas" if map_out else "")
     return Estimate(f"{what} (tiles of {chunk}x{chunk} cells, {tiles_in_flight} at once)", memory, seconds, out)
 

@@ -79,12 +79,34 @@ def write_soil(soil, path, *, force: bool = False, batch: int = 4) -> None:
         write_netcdf(soil, path, force=force, dtype="float32", complevel=1, batch=batch)
 
 
-def _tile_bar(quiet: bool):
-    """(progress callback, close) drawing a tqdm bar of tiles on a terminal, or doing nothing."""
+def _tile_lines(started: float):
+    """A progress callback printing a line per tenth of the tiles with the time left (stderr, no terminal)."""
+    import sys
+
+    from .preflight import format_seconds
+
+    shown = [0]
+
+    def progress(done, total):
+        tenth = 10 * done // max(total, 1)
+        if tenth > shown[0] and done < total:
+            shown[0] = tenth
+            left = (time.perf_counter() - started) * (total - done) / max(done, 1)
+            print(f"subsurf region: {done} of {total} tiles ({100 * done // total} %), about "
+                  f"{format_seconds(left)} left", file=sys.stderr, flush=True)
+
+    return progress
+
+
+def _tile_bar(quiet: bool, *, long_run: bool = False):
+    """(progress callback, close) drawing a tqdm bar of tiles on a terminal, or doing nothing.
+
+    A long run (``long_run``) without a terminal prints a line per tenth of the tiles instead.
+    """
     from .progress import progress_enabled
 
     if not progress_enabled(quiet=quiet):
-        return None, lambda: None
+        return (_tile_lines(time.perf_counter()) if long_run and not quiet else None), lambda: None
     from tqdm import tqdm
 
     bar = tqdm(total=1, desc="tiles", leave=False, unit="tile")
@@ -99,8 +121,12 @@ def _tile_bar(quiet: bool):
 
 def map_region(soil, antennas, out, *, target, target_depth_m: float, texture: str, model: str, layers,
                scheduler: str | None = "threads", workers: int | None = None, batch: int | None = None,
-               float64: bool = False, force: bool = False, quiet: bool = False) -> dict:
+               float64: bool = False, force: bool = False, quiet: bool = False,
+               expected_seconds: float = 0.0) -> dict:
     """Evaluate and write the regional map of ``soil`` to ``out``; return what the command reports.
+
+    Progress: a bar of tiles on a terminal; without one, a line per tenth of the tiles with
+    the time left when the run is expected to take over a minute (``expected_seconds``).
 
     Returns
     -------
@@ -118,7 +144,7 @@ def map_region(soil, antennas, out, *, target, target_depth_m: float, texture: s
 
     result = regional.feasibility_region(soil, antennas, target=target, target_depth_m=target_depth_m,
                                          texture=texture, model=model, layers=layers)
-    progress, close = _tile_bar(quiet)
+    progress, close = _tile_bar(quiet, long_run=expected_seconds > 60)
     t1 = time.perf_counter()
     try:
         with regional.scheduler(scheduler, workers=workers) as sched:

@@ -149,6 +149,27 @@ class OutputTransaction:
                 return ", ".join(t.shown for t in self._targets)
         return None
 
+    def public(self, obj):
+        """``obj`` (str, Path, dict, list) with every staged path replaced by its destination as the user named it."""
+        if isinstance(obj, dict):
+            return {k: self.public(v) for k, v in obj.items()}
+        if isinstance(obj, (list, tuple)):
+            return type(obj)(self.public(v) for v in obj)
+        if isinstance(obj, (str, Path)):
+            text = os.fspath(obj)
+            for t in sorted(self._targets, key=lambda t: -len(str(t.staged))):
+                if str(t.staged) in text:
+                    text = text.replace(str(t.staged), t.shown.rstrip("/"))
+            return text if isinstance(obj, str) else Path(text)
+        return obj
+
+    def require_space(self, needed_bytes: float) -> None:
+        """Refuse (before the work) if the destinations' file systems lack ``needed_bytes`` in all."""
+        share = needed_bytes / max(len(self._stages), 1)
+        for parent in self._stages:
+            names = ", ".join(t.shown for t in self._targets if t.dest.parent == parent)
+            check_free_space(parent, share, what=f"the subsurf {self.command} outputs", label=names)
+
     # -- preflight ---------------------------------------------------------------------
     def _check(self, t: _Target) -> None:
         parent, dest, shown = t.dest.parent, t.dest, t.shown
@@ -179,7 +200,8 @@ class OutputTransaction:
         foreign = [f for f in files if f not in own]
         if foreign and not t.foreign_ok:
             raise OutputExistsError(f"{shown} holds files subsurf {self.command} did not write (e.g. {foreign[0]}); "
-                                    "choose another (new or empty) folder")
+                                    f"--force only replaces an earlier {self.command} output, so choose another "
+                                    "(new or empty) folder")
         if own and not self.force:
             raise OutputExistsError(f"output already exists: {os.path.join(shown, own[0])}"
                                     + (f" (and {len(own) - 1} more)" if len(own) > 1 else "")
@@ -198,9 +220,7 @@ class OutputTransaction:
         try:
             for parent, stage in self._stages.items():
                 self._claim(parent, stage, claimed)
-            share = self.expected_bytes // max(len(self._stages), 1)
-            for parent in self._stages:
-                check_free_space(parent, share, what=f"the subsurf {self.command} outputs")
+            self.require_space(self.expected_bytes)
         except BaseException:
             self.rollback()
             raise

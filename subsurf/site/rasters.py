@@ -56,7 +56,14 @@ def read_raster(entry, *, survey_path: Path, where: str) -> RasterLayer:
     if suffix in (".nc", ".nc4", ".netcdf"):
         import xarray as xr
 
-        with xr.open_dataset(path, engine="netcdf4") as ds:  # named: guessing loads every backend plugin (rioxarray, dask.array)
+        try:  # engine named: guessing loads every backend plugin (rioxarray, dask.array)
+            opened = xr.open_dataset(path, engine="netcdf4")
+        except (ValueError, OSError) as exc:
+            if isinstance(exc, (FileNotFoundError, IsADirectoryError, PermissionError)):
+                raise
+            raise FileInputError(path, "not a NetCDF raster that can be read (not NetCDF/HDF5, or damaged)") \
+                from None
+        with opened as ds:
             var = entry.variable or quantity
             if var not in ds:
                 raise FileInputError(path, f"no variable {var!r} (variables: {', '.join(map(str, ds.data_vars))})",

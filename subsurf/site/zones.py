@@ -53,10 +53,16 @@ def geojson_geometries(path: Path, *, survey_path: Path, field: str) -> list[tup
         feats = [data]
     else:
         feats = [{"type": "Feature", "geometry": data, "properties": {}}]
+    if not isinstance(feats, list):
+        raise FileInputError(path, "'features' must be a list of Feature objects", field="features")
     out = []
     for i, feat in enumerate(feats):
+        if not isinstance(feat, dict):
+            raise FileInputError(path, f"not a GeoJSON Feature object: {feat!r:.40}", field=f"features[{i}]")
         geom = feat.get("geometry")
         fld = f"features[{i}].geometry"
+        if geom and not isinstance(geom, dict):
+            raise FileInputError(path, f"not a GeoJSON geometry object: {geom!r:.40}", field=fld)
         if not geom:
             raise FileInputError(path, "feature has no geometry", field=fld)
         if geom.get("type") not in ("Polygon", "MultiPolygon"):
