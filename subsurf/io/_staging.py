@@ -208,3 +208,20 @@ def clean_stale(folder: Path, claimed: set[Path], notes: list[str], busy_command
         what = f"subsurf {journal.get('command', '?')}, pid {journal.get('pid', '?')}"
         notes.append(f"removed {stage.name} in {folder}, the unfinished output of an interrupted run ({what})"
                      + (f"; its half-done commit was rolled back ({undone} moves)" if undone else ""))
+
+
+def merge_one(staged: Path, dest: Path, rel: str, backup: Path, undo: list) -> None:
+    """Move one file of a staged folder into an existing folder (earlier file kept as a hard link in ``backup``)."""
+    src, dst, bak = staged / rel, dest / rel, backup / rel
+    for d in reversed(dst.parents):
+        if d != dest and dest in d.parents and not d.exists():
+            d.mkdir()
+            undo.append(lambda d=d: d.rmdir())
+    if os.path.lexists(dst):
+        bak.parent.mkdir(parents=True, exist_ok=True)
+        os.link(dst, bak)
+        os.replace(src, dst)
+        undo.append(lambda: os.replace(bak, dst))
+    else:
+        os.rename(src, dst)
+        undo.append(lambda: os.unlink(dst))

@@ -63,6 +63,7 @@ from ._staging import (
     files_under,
     fsync_dir,
     hold_signals,
+    merge_one,
     stale_staging,
     write_journal,
 )
@@ -336,7 +337,7 @@ class OutputTransaction:
                 os.replace(old_manifest, backup / MANIFEST_NAME)
                 undo.append(lambda: os.replace(backup / MANIFEST_NAME, old_manifest))
             for rel in [r for r in files_under(t.staged) if r != MANIFEST_NAME] + [MANIFEST_NAME]:
-                self._merge_one(t, rel, backup, undo)  # the manifest last
+                merge_one(t.staged, t.dest, rel, backup, undo)  # the manifest last
         elif os.path.isdir(t.dest) and exchange(t.staged, t.dest):  # staged now holds the old folder
             undo.append(lambda: exchange(t.staged, t.dest))
         elif os.path.isdir(t.dest):
@@ -347,22 +348,6 @@ class OutputTransaction:
         else:
             os.rename(t.staged, t.dest)
             undo.append(lambda: os.rename(t.dest, t.staged))
-
-    @staticmethod
-    def _merge_one(t: _Target, rel: str, backup: Path, undo: list) -> None:
-        src, dst, bak = t.staged / rel, t.dest / rel, backup / rel
-        for d in reversed(dst.parents):
-            if d != t.dest and t.dest in d.parents and not d.exists():
-                d.mkdir()
-                undo.append(lambda d=d: d.rmdir())
-        if os.path.lexists(dst):
-            bak.parent.mkdir(parents=True, exist_ok=True)
-            os.link(dst, bak)
-            os.replace(src, dst)
-            undo.append(lambda: os.replace(bak, dst))
-        else:
-            os.rename(src, dst)
-            undo.append(lambda: os.unlink(dst))
 
     def rollback(self) -> None:
         """Remove everything staged; destinations stay as they were."""

@@ -287,4 +287,7 @@ def test_json_errors_are_one_object_on_stderr(battery):
         assert set(doc) >= {"error", "kind", "exit_code", "command", "path"}, doc
         assert doc["exit_code"] == proc.returncode and proc.stdout == ""
     _, (_, proc) = battery["medium-soil-folder-json"]
-    assert json.loads(proc.stderr)["kind"] == "file" and json.loads(proc.stderr)["path"].endswith("soilfacts")
+    doc = json.loads(proc.stderr)
+    assert doc["kind"] in ("file", "input") and "soilfacts" in doc["error"] and doc["command"] == "medium"
+    _, (_, proc) = battery["map-missing-survey-json"]
+    assert json.loads(proc.stderr)["kind"] == "usage"
