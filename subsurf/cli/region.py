@@ -84,7 +84,7 @@ COLUMNS_SPEC = [
     ("antenna", "antenna", "", ""),
     ("freq_mhz", "f", "MHz", ".4g"),
     ("reach_percent", "reaches", "% of cells", ".1f"),
-    ("headroom_percent", "with headroom", "% of cells", ".1f"),
+    ("marginal_or_better_percent", "margin >= 0 dB", "% of cells", ".1f"),
     ("mean_max_depth_m", "mean max depth", "m", ".3g"),
     ("recommended_percent", "recommended", "% of cells", ".1f"),
 ]
@@ -214,7 +214,8 @@ def summary_text(payload: dict, args) -> str:
                      f"{payload['map_seconds']:.1f} s ({payload['cells_per_second']:,.0f} cells/s)")
         lines.append(format_table(payload["rows"], [Column(*c) for c in COLUMNS_SPEC]))
         lines.append(f"Percentages of the {payload['cells_with_data']:,} cells with soil data; reaches = "
-                     f"margin >= 0 dB, with headroom = margin >= {REACHES_MARGIN_DB:g} dB; no antenna reaches: "
+                     f"margin >= {REACHES_MARGIN_DB:g} dB (the threshold of every subsurf output); 'margin >= 0 dB' "
+                     f"also counts marginal cells; no antenna with margin >= 0 dB: "
                      f"{payload['no_antenna_reaches_percent']:.1f} %.")
         lines.append(f"Wrote {args.out}")
     lines.append(f"Caution: {CAUTION}")

@@ -133,8 +133,8 @@ def map_region(soil, antennas, out, *, target, target_depth_m: float, texture: s
     dict
         ``target`` (its summary), ``scheduler``, ``tiles``, ``batch``, ``cells_with_data``,
         ``map_seconds``, ``cells_per_second``, ``thresholds``, ``rows`` (per antenna:
-        ``freq_mhz``, ``reach_percent`` margin ≥ 0 dB, ``headroom_percent`` margin ≥ the
-        reach threshold, ``mean_max_depth_m``, ``recommended_percent``) and
+        ``freq_mhz``, ``reach_percent`` margin ≥ the reach threshold (``reaches``),
+        ``marginal_or_better_percent`` margin ≥ 0 dB, ``mean_max_depth_m``, ``recommended_percent``) and
         ``no_antenna_reaches_percent``, percentages of the cells with soil data.
     """
     from ..detection.verdicts import REACHES_MARGIN_DB
@@ -156,8 +156,8 @@ def map_region(soil, antennas, out, *, target, target_depth_m: float, texture: s
     seconds = time.perf_counter() - t1
     freqs = {a.name: a.centre_freq_hz for a in antennas}
     rows = [{"antenna": r["antenna"], "freq_mhz": freqs[r["antenna"]] / 1e6,
-             "reach_percent": 100 * r["reach_fraction"],
-             "headroom_percent": 100 * r["reach_with_headroom_fraction"],
+             "reach_percent": 100 * r["reach_with_headroom_fraction"],  # the one "reaches" (verdicts)
+             "marginal_or_better_percent": 100 * r["reach_fraction"],
              "mean_max_depth_m": r["mean_max_depth_m"],
              "recommended_percent": 100 * r["recommended_fraction"]} for r in summary.rows()]
     none = summary.recommended[0] / max(summary.cells_with_data, 1)
