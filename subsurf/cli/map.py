@@ -45,7 +45,7 @@ def summary_text(result: dict, out_dir) -> str:
 
 def run(args) -> int:
     from ..io.maps import OWN_FILES, run_map
-    from ..io.outputs import CAUTION, print_notes, print_result
+    from ..io.outputs import CAUTION, collect_warnings, print_notes, print_result
     from ..io.preflight import map_output_bytes
     from ..io.transaction import OutputTransaction
 
@@ -59,13 +59,14 @@ def run(args) -> int:
         txn.require_space(map_output_bytes(cells=grid.sizes["x"] * grid.sizes["y"], antennas=len(survey.antennas),
                                            scenarios=len(survey.scenarios), geotiff=geotiff))
 
-    with txn:  # the folder is staged, then moved into place whole with its manifest
+    # input notes (ignored columns, partial rasters, kriging ...) and model warnings become note: lines
+    with collect_warnings() as notes, txn:  # the folder is staged, then moved into place whole with its manifest
         result = run_map(args.survey, staged, force=True, quiet=args.quiet or args.json,
                          geotiff=not args.no_geotiff, preflight=preflight)
     result = txn.public(result)
-    print_notes(txn.notes, quiet=args.quiet or args.json)
     text = summary_text(result, args.out)
     payload = {"caution": CAUTION, **{k: result[k] for k in ("paths", "summary", "inputs", "monte_carlo")},
-               "text": text}
+               "text": text, "warnings": notes}
     print_result(payload, text, as_json=args.json)
+    print_notes(list(txn.notes) + notes, quiet=args.quiet or args.json)
     return 0

@@ -43,6 +43,7 @@ __all__ = [
     "crs_variable",
     "transform_points",
     "interpolate_samples",
+    "densify_length",
     "BYTES_PER_CELL_ESTIMATE",
 ]
 
@@ -62,11 +63,28 @@ def transform_points(x, y, crs_from, crs_to):
     return np.asarray(xx), np.asarray(yy)
 
 
-def _transform_geometry(geom, crs_from, crs_to):
+def densify_length(crs, cell_size_m: float) -> float:
+    """Longest edge (in ``crs`` units) to keep before reprojecting: one grid cell.
+
+    A straight edge in one CRS is a curve in another; densifying to at most one cell
+    (converted to degrees with 111 320 m per degree, the length of a degree of latitude
+    to 0.3 %, shorter for longitude, so conservative) keeps the reprojected outline
+    within a small fraction of a cell of the true curve.
+    """
+    if crs.is_geographic:
+        return cell_size_m / 111_320.0
+    unit = crs.axis_info[0].unit_conversion_factor if crs.axis_info else 1.0
+    return cell_size_m / (unit or 1.0)
+
+
+def _transform_geometry(geom, crs_from, crs_to, *, max_segment=None):
+    """Reproject a shapely geometry with pyproj, densifying its edges first (``shapely.segmentize``)."""
     import shapely
 
     if crs_from == crs_to:
         return geom
+    if max_segment is not None and max_segment > 0:
+        geom = shapely.segmentize(geom, max_segment)
 
     def fn(coords):
         xx, yy = transform_points(coords[:, 0], coords[:, 1], crs_from, crs_to)
@@ -106,7 +124,8 @@ def build_grid(survey, *, n_layers: int = 1):
     import xarray as xr
 
     cell = survey.cell_size_m
-    outline = _transform_geometry(survey.outline, survey.outline_crs, survey.grid_crs)
+    outline = _transform_geometry(survey.outline, survey.outline_crs, survey.grid_crs,
+                                  max_segment=densify_length(survey.outline_crs, cell))
     if not outline.is_valid:
         outline = shapely.make_valid(outline)
     minx, miny, maxx, maxy = outline.bounds
@@ -166,7 +185,8 @@ def _zone_and_raster_trend(survey, q: str, px, py):
         for geom, v, s in zip(zs.geometries, zs.values, zs.sd):
             if q not in v:
                 continue
-            g = _transform_geometry(geom, zs.crs, survey.grid_crs)
+            g = _transform_geometry(geom, zs.crs, survey.grid_crs,
+                                    max_segment=densify_length(zs.crs, survey.cell_size_m))
             inside = shapely.contains_xy(g, px, py)
             val = np.where(inside, v[q], val)
             sd = np.where(inside, s.get(q, 0.0), sd)

@@ -103,7 +103,9 @@ class Site(Strict):
 
     name: str | None = Field(None, description="free text (default: the file name)")
     description: str = Field("", description="free text")
-    outline: RelPath | None = Field(None, description="GeoJSON of Polygon/MultiPolygon features; several merge")
+    outline: RelPath | None = Field(None, description="vector file of Polygon/MultiPolygon features (GeoPackage, "
+                                    "Shapefile, KML, GeoJSON); several merge")
+    outline_layer: str | None = Field(None, description="layer of a multi-layer outline file (GeoPackage, KML)")
     bbox: list[float] | None = Field(None, min_length=4, max_length=4,
                                      description="instead of outline: [xmin, ymin, xmax, ymax] in crs")
     crs: Crs
@@ -113,7 +115,7 @@ class Site(Strict):
         if self.outline is not None and self.bbox is not None:
             raise ValueError("give either outline or bbox, not both")
         if self.outline is None and self.bbox is None:
-            raise ValueError("give an outline (GeoJSON file) or a bbox = [xmin, ymin, xmax, ymax]")
+            raise ValueError("give an outline (vector file) or a bbox = [xmin, ymin, xmax, ymax]")
         if self.bbox is not None:
             xmin, ymin, xmax, ymax = self.bbox
             if not (xmax > xmin and ymax > ymin):
@@ -159,10 +161,29 @@ class Samples(Strict):
 
 
 class Zones(Strict):
-    """[[soil.zones]]: a GeoJSON of soil zones."""
+    """[[soil.zones]]: a vector file of soil zones or soil-survey polygons (GeoPackage, Shapefile, KML, GeoJSON)."""
 
     file: RelPath
     crs: Crs
+    layer: str | None = Field(None, description="layer of a multi-layer file (GeoPackage, KML)")
+    attributes: dict[str, str] = Field(default_factory=dict, description="file attribute for a soil quantity, "
+                                       "'name' or 'texture', where the file names it otherwise, "
+                                       "e.g. {texture = 'TEXCL', moisture = 'VWC'}")
+
+    @field_validator("attributes")
+    @classmethod
+    def _known_attributes(cls, value):
+        from .._schema import closest
+
+        allowed = list(QUANTITIES) + [k + SD_SUFFIX for k in QUANTITIES] + ["name", "texture"]
+        for key in value:
+            if key not in allowed:
+                near = closest(key, allowed)
+                raise ValueError(f"attributes: unknown key {key!r}" + (f"; did you mean '{near}'?" if near else "")
+                                 + f" (allowed: {', '.join(allowed)})")
+        if len(set(value.values())) != len(value):
+            raise ValueError("attributes: two keys name the same file attribute")
+        return value
 
 
 class Raster(Strict):

@@ -30,7 +30,9 @@ from .rasters import RasterLayer, read_raster
 from .rasters import raster_dims as _raster_dims  # noqa: F401 - used by subsurf.site.regional
 from .samples import SampleSet, read_samples
 from .schema import QUANTITIES, Quantity, SurveyFile
-from .zones import ZoneSet, check_polygon, geojson_geometries, read_zones
+from .textures_usda import resolve_texture
+from .vectors import check_polygon, read_polygons
+from .zones import ZoneSet, read_zones
 
 __all__ = [
     "QUANTITIES",
@@ -152,7 +154,8 @@ def _outline(site, outline_crs, *, path):
 
     if site.outline is not None:
         opath = (path.parent / site.outline).resolve()
-        feats = geojson_geometries(opath, survey_path=path, field="[site] outline")
+        feats = read_polygons(opath, survey_path=path, field="[site] outline", declared_crs=outline_crs,
+                              layer=site.outline_layer)
         outline = shapely.union_all([g for g, _ in feats])
         check_polygon(outline, path=opath, field="geometry")
     else:
@@ -224,9 +227,11 @@ def load_survey(path) -> Survey:
     values = soil.defaults.model_dump(exclude_none=True)
     defaults = {k: v for k, v in values.items() if k in QUANTITIES}
     default_sd = {k[: -len("_sd")]: v for k, v in values.items() if k not in QUANTITIES}
+    texture = None
     if soil.texture is not None:
         try:
-            preset = texture_preset(soil.texture)
+            texture = resolve_texture(soil.texture)
+            preset = texture_preset(texture)
         except InputError as exc:
             raise fail(path, "[soil] texture", str(exc)) from None
         for q in ("sand", "clay", "bulk_density"):
@@ -254,7 +259,7 @@ def load_survey(path) -> Survey:
     return Survey(path=path, name=spec.site.name if spec.site.name is not None else path.stem,
                   description=spec.site.description, outline=outline, outline_crs=outline_crs, grid_crs=grid_crs,
                   grid_crs_source=source, cell_size_m=spec.grid.cell_size, soil_model=soil.model,
-                  texture=soil.texture, defaults=defaults, default_sd=default_sd, samples=samples, zones=zones,
+                  texture=texture, defaults=defaults, default_sd=default_sd, samples=samples, zones=zones,
                   rasters=rasters, target=target, antennas=list(spec.antennas.names), scenarios=scenarios,
                   draws=spec.monte_carlo.draws, seed=spec.monte_carlo.seed, max_cells=spec.grid.max_cells,
                   catalogue_path=catalogue_path)

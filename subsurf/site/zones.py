@@ -1,26 +1,38 @@
-"""Soil zones and site outlines from GeoJSON (RFC 7946): polygons with soil properties.
+"""Soil zones and soil-survey polygons: polygons with soil properties, from any GDAL vector file.
 
-shapely (it wraps GEOS, the geometry engine most GIS software uses) checks polygon
-validity; errors name the file and the feature.
+The file (GeoPackage, Shapefile, KML, GeoJSON ...) is read by :mod:`.vectors` (pyogrio /
+GDAL), its own CRS checked against the survey's declaration.  Each feature's attributes
+give soil quantities (``moisture``, ``pore_water_ec`` ... each optionally with ``_sd``;
+bare numbers in the quantity's bare unit, strings may carry units), an optional ``name``
+and an optional ``texture`` (a preset, a USDA class name or abbreviation; its sand, clay
+and bulk density fill what the feature does not give).  A feature giving ``sand`` and
+``clay`` but no texture is classified on the USDA triangle for the record.  The survey
+may map the file's attribute names to ours (``attributes = {moisture = "VWC"}``).
+Null values are read as "not given"; attributes that are none of these are listed once
+in a note and ignored.
 """
 
 from __future__ import annotations
 
-import json
 from dataclasses import dataclass
 from pathlib import Path
 
-from .._schema import fail
-from ..errors import FileInputError
-from ._values import _quantity_table, _texture
+from ..errors import FileInputError, InputError
+from ._values import _quantity_table
 from .crs import read_crs
+from .schema import QUANTITIES, SD_SUFFIX
+from .vectors import check_polygon, note, read_polygons
 
-__all__ = ["ZoneSet", "read_zones", "geojson_geometries", "check_polygon"]
+__all__ = ["ZoneSet", "read_zones", "geojson_geometries", "check_polygon", "KML_FORMAT_FIELDS"]
+
+#: Attributes GDAL's KML drivers add to every feature (format machinery, ignored silently).
+KML_FORMAT_FIELDS = frozenset({"id", "Description", "timestamp", "begin", "end", "altitudeMode", "tessellate",
+                               "extrude", "visibility", "drawOrder", "icon", "snippet"})
 
 
 @dataclass(frozen=True)
 class ZoneSet:
-    """Soil zones read from GeoJSON: one shapely polygon per zone with its properties (SI)."""
+    """Soil zones read from a vector file: one shapely polygon per zone with its properties (SI)."""
 
     path: Path
     crs: object
@@ -29,88 +41,78 @@ class ZoneSet:
     values: list[dict[str, float]]
     sd: list[dict[str, float]]
     textures: list[str | None]
+    ignored: tuple[str, ...] = ()  # attributes of the file that were not read
 
 
-def geojson_geometries(path: Path, *, survey_path: Path, field: str) -> list[tuple[object, dict]]:
-    """Read GeoJSON (FeatureCollection, Feature or bare geometry) into (shapely geometry, properties)."""
-    import shapely.geometry
+def geojson_geometries(path: Path, *, survey_path: Path, field: str, crs=None, layer=None) -> list[tuple]:
+    """Polygons of a vector file as (shapely geometry, properties); kept for existing callers.
+
+    ``crs`` is the declared CRS (default WGS 84 longitude/latitude, as RFC 7946).
+    """
+    from pyproj import CRS
+
+    return read_polygons(path, survey_path=survey_path, field=field,
+                         declared_crs=crs if crs is not None else CRS.from_epsg(4326), layer=layer)
+
+
+def _texture_key(raw, *, path, field: str) -> str:
+    from .textures_usda import resolve_texture
 
     try:
-        data = json.loads(path.read_text(encoding="utf-8"))
-    except FileNotFoundError:
-        raise fail(survey_path, field, f"file not found: {path}") from None
-    except IsADirectoryError:
-        raise fail(survey_path, field, f"{path} is a folder, not a GeoJSON file") from None
-    except UnicodeDecodeError:
-        raise FileInputError(path, "not a UTF-8 text (GeoJSON) file") from None
-    except json.JSONDecodeError as exc:
-        raise FileInputError(path, f"not valid JSON: {exc.msg} (line {exc.lineno})") from None
-    if not isinstance(data, dict) or "type" not in data:
-        raise FileInputError(path, "not a GeoJSON object (no 'type')")
-    if data["type"] == "FeatureCollection":
-        feats = data.get("features") or []
-    elif data["type"] == "Feature":
-        feats = [data]
-    else:
-        feats = [{"type": "Feature", "geometry": data, "properties": {}}]
-    if not isinstance(feats, list):
-        raise FileInputError(path, "'features' must be a list of Feature objects", field="features")
-    out = []
-    for i, feat in enumerate(feats):
-        if not isinstance(feat, dict):
-            raise FileInputError(path, f"not a GeoJSON Feature object: {feat!r:.40}", field=f"features[{i}]")
-        geom = feat.get("geometry")
-        fld = f"features[{i}].geometry"
-        if geom and not isinstance(geom, dict):
-            raise FileInputError(path, f"not a GeoJSON geometry object: {geom!r:.40}", field=fld)
-        if not geom:
-            raise FileInputError(path, "feature has no geometry", field=fld)
-        if geom.get("type") not in ("Polygon", "MultiPolygon"):
-            raise FileInputError(path, f"geometry type {geom.get('type')!r} is not a Polygon or MultiPolygon",
-                                 field=fld)
-        try:
-            shape = shapely.geometry.shape(geom)
-        except Exception as exc:  # noqa: BLE001 - shapely raises several kinds
-            raise FileInputError(path, f"cannot read polygon: {exc}", field=fld) from None
-        check_polygon(shape, path=path, field=fld)
-        out.append((shape, feat.get("properties") or {}))
-    if not out:
-        raise FileInputError(path, "no polygon features")
-    return out
-
-
-def check_polygon(shape, *, path, field: str) -> None:
-    import shapely
-
-    if shape.is_empty:
-        raise FileInputError(path, "polygon is empty", field=field)
-    if not shape.is_valid:
-        reason = shapely.is_valid_reason(shape)
-        raise FileInputError(path, f"polygon is not valid ({reason}); fix self-intersections "
-                             "or ring order in a GIS", field=field)
-    if shape.area <= 0:
-        raise FileInputError(path, "polygon has zero area", field=field)
+        return resolve_texture(raw)
+    except InputError as exc:
+        raise FileInputError(path, str(exc), field=field) from None
 
 
 def read_zones(entry, *, survey_path: Path, where: str) -> ZoneSet:
-    """Read the GeoJSON named by ``entry`` (a validated :class:`~subsurf.site.schema.Zones`)."""
+    """Read the vector file named by ``entry`` (a validated :class:`~subsurf.site.schema.Zones`)."""
+    from ..ground.presets import texture_preset
+    from .textures_usda import usda_texture_class
+
     path = (survey_path.parent / entry.file).resolve()
     crs = read_crs(entry.crs, path=survey_path, field=f"{where} crs")
-    feats = geojson_geometries(path, survey_path=survey_path, field=f"{where} file")
-    names, geoms, values, sds, textures = [], [], [], [], []
-    for i, (shape, props) in enumerate(feats):
-        props = dict(props)
+    feats = read_polygons(path, survey_path=survey_path, field=f"{where} file", declared_crs=crs,
+                          layer=getattr(entry, "layer", None))
+    mapping = dict(getattr(entry, "attributes", {}) or {})
+    rename = {file_name: ours for ours, file_name in mapping.items()}
+    all_attrs = {k for _, props in feats for k in props}
+    missing = [f for f in rename if f not in all_attrs]
+    if missing:
+        raise FileInputError(survey_path, f"{where} attributes: {path.name} has no attribute {missing[0]!r} "
+                             f"(its attributes: {', '.join(sorted(all_attrs)) or 'none'})")
+    known = set(QUANTITIES) | {q + SD_SUFFIX for q in QUANTITIES} | {"name", "texture", "description"}
+    names, geoms, values, sds, textures, ignored = [], [], [], [], [], []
+    for i, (shape, raw_props) in enumerate(feats):
+        props = {}
+        for k, v in raw_props.items():
+            key = rename.get(k, k)
+            if key not in known and key.lower() in known and key.lower() not in raw_props:
+                key = key.lower()  # KML's "Name", a Shapefile's upper-case "MOISTURE"
+            if key in known:
+                props[key] = v
+            elif not (path.suffix.lower() in (".kml", ".kmz") and k in KML_FORMAT_FIELDS) and k not in ignored:
+                ignored.append(k)
         name = str(props.pop("name", f"zone {i + 1}"))
         texture = props.pop("texture", None)
         props.pop("description", None)
         v, s = _quantity_table(props, path=path, where=f"features[{i}].properties")
+        key = None
         if texture is not None:
-            preset = _texture(texture, path=path, field=f"features[{i}].properties.texture")
+            key = _texture_key(texture, path=path, field=f"features[{i}].properties.texture")
+            preset = texture_preset(key)
             for q in ("sand", "clay", "bulk_density"):
                 v.setdefault(q, preset[q])
+        elif "sand" in v and "clay" in v:
+            try:
+                key = str(usda_texture_class(v["sand"], v["clay"]))
+            except InputError as exc:
+                raise FileInputError(path, str(exc), field=f"features[{i}].properties.sand") from None
         names.append(name)
         geoms.append(shape)
         values.append(v)
         sds.append(s)
-        textures.append(None if texture is None else str(texture))
-    return ZoneSet(path=path, crs=crs, names=names, geometries=geoms, values=values, sd=sds, textures=textures)
+        textures.append(key)
+    if ignored:
+        note(f"{path.name}: attributes not used (not soil quantities): {', '.join(ignored)}")
+    return ZoneSet(path=path, crs=crs, names=names, geometries=geoms, values=values, sd=sds, textures=textures,
+                   ignored=tuple(ignored))
