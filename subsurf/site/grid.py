@@ -341,6 +341,8 @@ def soil_on_grid(survey, grid):
             sv = np.concatenate([s.values[q] for s in sets])
             ssd = np.concatenate([s.sd.get(q, np.zeros(s.x.size)) for s in sets])
             rows = np.concatenate([s.rows for s in sets])
+            have = np.isfinite(sv)  # a blank cell is missing for this quantity of that sample only
+            sx, sy, sv, ssd, rows = sx[have], sy[have], sv[have], ssd[have], rows[have]
             t_at, _ = _zone_and_raster_trend(survey, q, sx, sy)
             fill = float(np.mean(sv))
             t_at = np.where(np.isfinite(t_at), t_at, fill)

@@ -122,11 +122,14 @@ def test_empty_outline_refused(tmp_path):
         load_survey(p)
 
 
-def test_nan_in_samples_names_row(tmp_path):
-    """A NaN value names the file, its line number and the column."""
+def test_nan_in_samples_is_missing_and_named_by_row(tmp_path):
+    """A NaN value is read as missing for that sample; the note names the file and its line number."""
+    from subsurf.site.vectors import InputNote
+
     p = write(tmp_path, samples=f"x,y,moisture\n{E0 + 1},{N0 + 1},0.2\n{E0 + 2},{N0 + 9},nan\n")
-    with pytest.raises(FileInputError, match=r"s\.csv, row 3, field 'moisture'"):
-        load_survey(p)
+    with pytest.warns(InputNote, match=r"s\.csv: blank or missing cells .*: row 3 \(moisture\)"):
+        s = load_survey(p)
+    assert math.isnan(s.samples[0].values["moisture"][1])
 
 
 def test_missing_coordinate_column(tmp_path):
