@@ -12,18 +12,10 @@ layer so that maps can show where they extrapolate).
 
 Interpolation of point samples
 ------------------------------
-Samples are interpolated as residuals from the zone/raster/default trend with
-``scipy.interpolate.RBFInterpolator`` (thin-plate spline with a linear polynomial, no
-smoothing, so the surface passes through every sample).  The spline is a well-kept
-library method with no tuning parameter to guess; its residual surface is clipped to
-the range of the sample residuals so that it never invents extremes the samples do not
-show.  Interpolation uncertainty is estimated from leave-one-out cross-validation:
-each sample is predicted from the others, and the squared errors e_i² are fitted with
-a linear semivariogram-like model e² = c·d against the distance d_i to the nearest other
-sample (least squares through the origin).  At a cell at distance d from the nearest
-sample the interpolation variance is min(c·d, s²), with s² the variance of the sample
-residuals (the spline cannot know less than the spread of the samples).  The
-measurement standard deviation of the nearest sample is added in quadrature.
+Samples are interpolated as residuals from the zone/raster/default trend by
+:mod:`subsurf.site.interpolation`: ordinary kriging with a fitted variogram
+(:mod:`subsurf.site.kriging`, gstools) where a quantity has enough samples, else the
+thin-plate spline with its leave-one-out uncertainty (``[soil] interpolation``).
 
 Library choices: pyproj (PROJ) for every coordinate transformation; shapely 2
 (``contains_xy``, vectorised GEOS) for point-in-polygon; scipy for interpolation
@@ -36,6 +28,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..errors import FileInputError, InputError
+from .interpolation import interpolate_quantity, interpolate_samples
 
 __all__ = [
     "build_grid",
@@ -207,87 +200,6 @@ def _zone_and_raster_trend(survey, q: str, px, py):
     return val, sd
 
 
-def interpolate_samples(sx, sy, values, px, py, *, sample_sd=None, path="samples", rows=None):
-    """Interpolate scattered samples to points, with an uncertainty estimate.
-
-    Parameters
-    ----------
-    sx, sy : (n,) array_like
-        Sample coordinates (m, projected).
-    values : (n,) array_like
-        Sample values.
-    px, py : array_like
-        Points to predict at (any shape, m).
-    sample_sd : (n,) array_like, optional
-        Measurement standard deviation of each sample (0 when omitted).
-
-    Returns
-    -------
-    estimate, interp_sd, measurement_sd : ndarray
-        Shaped like ``px``.  ``interp_sd`` is the interpolation uncertainty (module notes),
-        ``measurement_sd`` that of the nearest sample.
-
-    Notes
-    -----
-    Thin-plate-spline radial basis function interpolation with a linear polynomial
-    (scipy.interpolate.RBFInterpolator), exact at the samples; uncertainty
-    σ²(d) = min(c·d, s²) with c fitted to leave-one-out errors.
-
-    References
-    ----------
-    Duchon, J. (1977). Splines minimizing rotation-invariant semi-norms in Sobolev
-    spaces. Lect. Notes Math. 571 (Springer), 85–100.
-    Wahba, G. (1990). *Spline Models for Observational Data*. SIAM (cross-validation).
-    """
-    from scipy.interpolate import RBFInterpolator
-    from scipy.spatial import cKDTree
-
-    pts = np.column_stack([np.asarray(sx, float), np.asarray(sy, float)])
-    vals = np.asarray(values, dtype=float)
-    n = vals.size
-    rows = np.arange(n) + 2 if rows is None else np.asarray(rows)
-    sd_meas = np.zeros(n) if sample_sd is None else np.asarray(sample_sd, float)
-    centred = pts - pts.mean(axis=0)
-    sv = np.linalg.svd(centred, compute_uv=False) if n >= 2 else np.zeros(2)
-    spread = sv / np.sqrt(max(n, 1))
-    if n < 3 or spread[1] < 1e-6 * max(spread[0], 1.0) or spread[0] < 1e-3:
-        raise FileInputError(path, f"{n} sample(s) lie on one point or one line; interpolation over an area "
-                             "needs at least 3 samples not all in a line (or give the value as a default/zone)")
-    tree = cKDTree(pts)
-    dd, ii = tree.query(pts, k=2)
-    pairs = tree.query_pairs(0.0, output_type="ndarray")
-    if pairs.size:
-        i, j = pairs[np.argmin(pairs.max(axis=1))]  # the first row that repeats an earlier one
-        first, again = sorted((int(i), int(j)))
-        raise FileInputError(path, f"sample repeats the location of row {int(rows[first])}; "
-                             "average repeated measurements into one row", row=int(rows[again]))
-    flat_x, flat_y = np.ravel(px), np.ravel(py)
-    q = np.column_stack([flat_x, flat_y])
-    rbf = RBFInterpolator(pts, vals, kernel="thin_plate_spline", degree=1)
-    est = np.clip(rbf(q), vals.min(), vals.max())
-    # leave-one-out errors (loop over samples, not cells; n is small)
-    loo = np.full(n, np.nan)
-    if n >= 4:
-        for i in range(n):
-            keep = np.arange(n) != i
-            try:
-                sub = RBFInterpolator(pts[keep], vals[keep], kernel="thin_plate_spline", degree=1)
-            except np.linalg.LinAlgError:  # the others lie on a line: no prediction from them
-                continue
-            loo[i] = float(np.clip(sub(pts[i:i + 1])[0], vals[keep].min(), vals[keep].max())) - vals[i]
-    ok = np.isfinite(loo)
-    if np.any(ok):
-        d_nn = dd[ok, 1]
-        c = float(np.sum(loo[ok]**2 * d_nn) / np.sum(d_nn**2))
-    else:
-        c = float(np.var(vals, ddof=0) / np.max(dd[:, 1]))
-    sill = float(np.var(vals, ddof=1)) if n > 1 else 0.0
-    dist, idx = tree.query(q)
-    interp_var = np.minimum(c * dist, sill)
-    shape = np.shape(px)
-    return est.reshape(shape), np.sqrt(interp_var).reshape(shape), sd_meas[idx].reshape(shape)
-
-
 def soil_on_grid(survey, grid):
     """Every soil quantity of ``survey`` on ``grid`` (from :func:`build_grid`), with uncertainties.
 
@@ -347,13 +259,14 @@ def soil_on_grid(survey, grid):
             fill = float(np.mean(sv))
             t_at = np.where(np.isfinite(t_at), t_at, fill)
             trend = np.where(np.isfinite(trend), trend, fill)
-            resid_est, isd, msd = interpolate_samples(sx, sy, sv - t_at, xx, yy, sample_sd=ssd,
-                                                      path=sets[0].path, rows=rows)
+            resid_est, isd, total_sd, info = interpolate_quantity(
+                q, sx, sy, sv - t_at, xx, yy, sample_sd=ssd, path=sets[0].path, rows=rows,
+                method=getattr(survey, "interpolation", "auto"), variogram=getattr(survey, "variogram", "exponential"),
+                survey_path=survey.path)
             value = np.clip(trend + resid_est, meta.low, meta.high)
-            total_sd = np.sqrt(isd**2 + msd**2)
             out[q + "_interp_sd"] = (("y", "x"), np.where(mask, isd, np.nan),
                                      {"long_name": f"interpolation standard deviation of {meta.long_name}",
-                                      "units": meta.si_unit, "grid_mapping": "crs"})
+                                      "units": meta.si_unit, "grid_mapping": "crs", **info})
         else:
             if np.any(mask & ~np.isfinite(trend)):
                 raise FileInputError(survey.path, f"{q} is given for part of the site only (zones or rasters); "

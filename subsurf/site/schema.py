@@ -201,7 +201,13 @@ class SoilTable(Strict):
     """[soil]: model, texture, defaults and the soil inputs."""
 
     model: Literal["crim", "peplinski", "topp"] = "crim"
-    texture: str | None = Field(None, description="texture preset of configs/textures.toml")
+    texture: str | None = Field(None, description="texture preset of configs/textures.toml, or a USDA texture "
+                                "class name or abbreviation ('silty clay loam', 'SiCL')")
+    interpolation: Literal["auto", "kriging", "spline"] = Field(
+        "auto", description="samples to the grid: ordinary kriging with a fitted variogram (needs 30 samples of "
+                            "a quantity), a thin-plate spline, or 'auto' (kriging where there are enough)")
+    variogram: Literal["exponential", "spherical", "gaussian", "matern"] = Field(
+        "exponential", description="variogram model family fitted for kriging")
     defaults: SoilValues = Field(default_factory=SoilValues)  # type: ignore[valid-type]
     samples: list[Samples] = Field(default_factory=list)
     zones: list[Zones] = Field(default_factory=list)

@@ -96,6 +96,8 @@ class Survey:
     seed: int
     max_cells: int
     catalogue_path: Path | None = None  # the survey's own antenna catalogue (None: the bundled one)
+    interpolation: str = "auto"  # samples to grid: "auto", "kriging" or "spline"
+    variogram: str = "exponential"  # variogram model family for kriging
 
     def describe(self) -> dict:
         """Plain summary of the inputs for reports and JSON (no arrays)."""
@@ -109,6 +111,8 @@ class Survey:
             "grid_crs_source": self.grid_crs_source,
             "cell_size_m": self.cell_size_m,
             "soil_model": self.soil_model,
+            "interpolation": self.interpolation,
+            "variogram": self.variogram,
             "texture": self.texture,
             "defaults": dict(self.defaults),
             "samples": [{"file": str(s.path), "count": int(s.x.size), "quantities": sorted(s.values)}
@@ -262,4 +266,4 @@ def load_survey(path) -> Survey:
                   texture=texture, defaults=defaults, default_sd=default_sd, samples=samples, zones=zones,
                   rasters=rasters, target=target, antennas=list(spec.antennas.names), scenarios=scenarios,
                   draws=spec.monte_carlo.draws, seed=spec.monte_carlo.seed, max_cells=spec.grid.max_cells,
-                  catalogue_path=catalogue_path)
+                  catalogue_path=catalogue_path, interpolation=soil.interpolation, variogram=soil.variogram)
