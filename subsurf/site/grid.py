@@ -168,12 +168,13 @@ def build_grid(survey, *, n_layers: int = 1):
 
 
 def _zone_and_raster_trend(survey, q: str, px, py):
-    """Trend value and its sd of quantity ``q`` at grid-CRS points from defaults, zones and rasters."""
+    """Trend value, its sd and its source (0 default, 1 zone, 2 raster) of ``q`` at grid-CRS points."""
     import shapely
     from scipy.interpolate import RegularGridInterpolator
 
     val = np.full(np.shape(px), survey.defaults.get(q, np.nan))
     sd = np.full(np.shape(px), survey.default_sd.get(q, 0.0))
+    src = np.zeros(np.shape(px), np.int8)
     for zs in survey.zones:
         for geom, v, s in zip(zs.geometries, zs.values, zs.sd):
             if q not in v:
@@ -183,6 +184,7 @@ def _zone_and_raster_trend(survey, q: str, px, py):
             inside = shapely.contains_xy(g, px, py)
             val = np.where(inside, v[q], val)
             sd = np.where(inside, s.get(q, 0.0), sd)
+            src = np.where(inside, np.int8(1), src)
     for r in survey.rasters:
         if r.quantity != q:
             continue
@@ -197,7 +199,24 @@ def _zone_and_raster_trend(survey, q: str, px, py):
         have = np.isfinite(rv)
         val = np.where(have, rv, val)
         sd = np.where(have, r.sd, sd)
-    return val, sd
+        src = np.where(have, np.int8(2), src)
+    return val, sd, src
+
+
+def _report_coverage(survey, q: str, source, mask) -> None:
+    """A note when the rasters of ``q`` cover only part of the site (fraction, and what fills the rest)."""
+    from .vectors import note
+
+    files = [r.path.name for r in survey.rasters if r.quantity == q]
+    inside = int(mask.sum())
+    if not files or inside == 0:
+        return
+    covered = int(np.count_nonzero((source == 2) & mask))
+    if covered < inside:
+        rest = np.unique(source[mask & (source != 2)])
+        fill = " and ".join({0: "the default", 1: "zones"}[int(k)] for k in rest)
+        note(f"{q}: {', '.join(files)} cover {100 * covered / inside:.1f} % of the site ({covered} of {inside} "
+             f"cells); {fill} used elsewhere (layer {q}_trend_source)")
 
 
 def soil_on_grid(survey, grid):
@@ -243,7 +262,8 @@ def soil_on_grid(survey, grid):
                   or any(r.quantity == q for r in survey.rasters)
                   or any(q in s.values for s in survey.samples)]
     for q in quantities:
-        trend, trend_sd = _zone_and_raster_trend(survey, q, xx, yy)
+        trend, trend_sd, source = _zone_and_raster_trend(survey, q, xx, yy)
+        _report_coverage(survey, q, source, mask)
         sets = [s for s in survey.samples if q in s.values]
         meta = QUANTITIES[q]
         attrs = {"long_name": meta.long_name, "units": meta.si_unit, "grid_mapping": "crs"}
@@ -255,7 +275,7 @@ def soil_on_grid(survey, grid):
             rows = np.concatenate([s.rows for s in sets])
             have = np.isfinite(sv)  # a blank cell is missing for this quantity of that sample only
             sx, sy, sv, ssd, rows = sx[have], sy[have], sv[have], ssd[have], rows[have]
-            t_at, _ = _zone_and_raster_trend(survey, q, sx, sy)
+            t_at, _, _ = _zone_and_raster_trend(survey, q, sx, sy)
             fill = float(np.mean(sv))
             t_at = np.where(np.isfinite(t_at), t_at, fill)
             trend = np.where(np.isfinite(trend), trend, fill)
@@ -273,6 +293,10 @@ def soil_on_grid(survey, grid):
                                      f"give soil.defaults.{q} for the rest", field=f"soil.defaults.{q}")
             value, total_sd = trend, trend_sd
         out[q] = (("y", "x"), np.where(mask, value, np.nan), attrs)
+        out[q + "_trend_source"] = (("y", "x"), np.where(mask, source, -1).astype(np.int8), {
+            "long_name": f"source of the {meta.long_name} trend", "flag_values": np.array([-1, 0, 1, 2], np.int8),
+            "flag_meanings": "outside_site default zone raster", "grid_mapping": "crs",
+            "comment": "samples, where given, are interpolated as residuals on top of this trend"})
         out[q + "_sd"] = (("y", "x"), np.where(mask, total_sd, np.nan),
                           {"long_name": f"standard deviation of {meta.long_name}", "units": meta.si_unit,
                            "grid_mapping": "crs"})

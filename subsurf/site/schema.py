@@ -187,11 +187,17 @@ class Zones(Strict):
 
 
 class Raster(Strict):
-    """[[soil.rasters]]: one quantity on a regular raster (NetCDF, or GeoTIFF with the geo extra)."""
+    """[[soil.rasters]]: one quantity on a regular raster (GeoTIFF or NetCDF)."""
 
     file: RelPath
     quantity: Literal[tuple(QUANTITIES)]  # type: ignore[valid-type]
-    variable: str | None = Field(None, description="NetCDF variable (default: the quantity name)")
+    variable: str | None = Field(None, description="NetCDF variable (default: the quantity name, else its CF "
+                                 "standard_name, else the only gridded variable)")
+    band: int | str | None = Field(None, description="GeoTIFF band (1-based number or band description); needed "
+                                   "when the file has several")
+    time: str | None = Field(None, description="time step to use (nearest to this date/time, e.g. '2024-06-01')")
+    time_aggregate: Literal["mean", "median", "min", "max"] | None = Field(
+        None, description="combine the time steps instead (default with several steps and no time: mean, noted)")
     unit: str | None = Field(None, description="unit of the stored numbers (default: the quantity's bare unit)")
     sd: float | str | None = Field(None, description="measurement standard deviation (same units as the quantity)")
     crs: Crs | None = Field(None, description="optional when the file carries a CF grid_mapping or a GeoTIFF CRS")
