@@ -123,6 +123,9 @@ def sniff_table(text: str, *, path) -> tuple[str, str]:
         delim = proposed
     else:
         ok = [d for d in candidates if consistent(d)]
+        if not ok:  # a ragged row: take the delimiter that splits the header most; the row check names the row
+            width = {d: len(next(csv.reader(lines[:1], delimiter=d))) for d in candidates}
+            ok = [d for d in candidates if width[d] > 1 and width[d] == max(width.values())][:1]
         if not ok:
             raise FileInputError(path, "cannot tell the field delimiter: rows have differing numbers of fields "
                                  "for each of , ; tab | (check the file is one table with a header row)")

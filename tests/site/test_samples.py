@@ -162,3 +162,10 @@ def test_cli_map_semicolon_file_exit_0_notes_on_stderr(tmp_path):
     assert proc.returncode == 0, proc.stderr
     assert "note: s.csv: fields separated by ';', decimal commas" in proc.stderr
     assert "note: s.csv: columns not used (not soil quantities): date" in proc.stderr
+
+
+def test_ragged_row_named(tmp_path):
+    """A row with a missing field is named by its line number (the delimiter is still found)."""
+    text = "x,y,moisture\n500010,5700010,0.2\n500050,5700020\n500080,5700050,0.3\n500030,5700045,0.25\n"
+    with pytest.raises(FileInputError, match=r"s\.csv, row 3: expected 3 values, found 2"):
+        load_survey(_survey(tmp_path, text))
