@@ -6,7 +6,7 @@ What is accepted, and reported (an :class:`~subsurf.site.vectors.InputNote` each
   :class:`csv.Sniffer` (standard library) and confirmed by a consistent field count; a
   decimal comma (``0,21``) when the delimiter is not a comma, as spreadsheets write CSV in
   locales whose decimal mark is a comma (``;`` between fields).  Files in UTF-8 (with or
-  without BOM); other text is read as Windows-1252 with a note.
+  without BOM); other encodings are refused (a guessed code page could misread a unit).
 * **Units in headers**: in brackets or parentheses, ``moisture [%]``, ``moisture (%)``,
   ``VWC [%]``; a bare header reads bare numbers in the quantity's bare unit.
 * **Column names**: ours (``moisture``, ``pore_water_ec`` ... each with ``_sd``), or mapped
@@ -92,9 +92,10 @@ def _read_text(path: Path, *, survey_path: Path, field: str) -> str:
         raise FileInputError(path, "not a text (CSV) file (binary content); export the table as CSV")
     try:
         return raw.decode("utf-8-sig")
-    except UnicodeDecodeError:
-        note(f"{path.name}: not UTF-8; read as Windows-1252 text")
-        return raw.decode("cp1252", errors="replace")
+    except UnicodeDecodeError as exc:
+        # guessing a legacy code page could misread a unit or a name silently: refuse, say how to fix
+        raise FileInputError(path, f"not UTF-8 text (byte {exc.start}); save the table as UTF-8 "
+                             "(spreadsheets: 'CSV UTF-8')") from None
 
 
 def sniff_table(text: str, *, path) -> tuple[str, str]:

@@ -130,12 +130,11 @@ def test_texture_column_with_usda_names(tmp_path):
                                                     ("silty_clay_loam", "sandy_loam", "loam", "loamy_sand")]
 
 
-def test_windows_1252_file_read_with_note(tmp_path):
-    """A Windows-1252 file (e.g. 'Sonde Nr.' with a degree sign) is read with a note."""
+def test_non_utf8_file_refused_naming_the_fix(tmp_path):
+    """A Windows-1252 file (a degree sign in a header) is one line asking for UTF-8, not a guess."""
     text = _table(["x", "y", "moisture [%]", "temperature [°C]"], [p[:3] + (11.5,) for p in PTS])
-    s, notes = _load(_survey(tmp_path, text, encoding="cp1252"))
-    assert s.samples[0].values["temperature"].tolist() == pytest.approx([11.5] * 4)
-    assert any("Windows-1252" in n for n in notes)
+    with pytest.raises(FileInputError, match=r"s\.csv: not UTF-8 text.*CSV UTF-8"):
+        load_survey(_survey(tmp_path, text, encoding="cp1252"))
 
 
 def test_mixed_decimal_marks_refused(tmp_path):
