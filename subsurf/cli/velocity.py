@@ -136,6 +136,8 @@ def _velocity(args, staged: dict) -> tuple[dict, str]:
         method = "calibration"
     else:
         offset = q(args.offset, "length", "m", "--offset")
+        if offset < 0:
+            raise InputError(f"--offset (antenna separation) must be >= 0 m, got {args.offset!r}")
         tz = q(args.time_zero, "time", "ns", "--time-zero")
         if str(args.radius).strip().lower() == "fit":
             radius = None

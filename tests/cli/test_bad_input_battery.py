@@ -127,6 +127,7 @@ CASES_ALL = [
     C("velocity-picks-folder", ["velocity", "--picks", "soilfacts"], 1, "soilfacts"),
     C("velocity-picks-not-utf8", ["velocity", "--picks", "picks_latin1.csv"], 1, "picks_latin1.csv"),
     C("velocity-picks-missing", ["velocity", "--picks", "nowhere.csv"], 1, "nowhere.csv"),
+    C("velocity-offset-negative", ["velocity", "--picks", HYP, "--offset", "-1"], 1, "--offset"),
     C("velocity-radius-typo", ["velocity", "--picks", HYP, "--radius", "fitt"], 1, "--radius"),
     C("velocity-known-depth-no-twt", ["velocity", "--known-depth", "1.2"], 1, "--twt"),
     C("velocity-known-depth-negative", ["velocity", "--known-depth", "-1", "--twt", "20"], 1, "depth"),
