@@ -146,6 +146,10 @@ def atomic_write_text(path: os.PathLike | str, text: str, *, force: bool = False
     return Path(path)
 
 
+#: Warning kinds that third-party libraries address to programmers, never shown to a user.
+_LIBRARY_HOUSEKEEPING = (DeprecationWarning, PendingDeprecationWarning, FutureWarning)
+
+
 @contextlib.contextmanager
 def collect_warnings():
     """Collect the project's model warnings raised inside the block as a list of strings.
@@ -162,6 +166,8 @@ def collect_warnings():
             yield messages
         finally:
             for w in caught:
+                if issubclass(w.category, _LIBRARY_HOUSEKEEPING):
+                    continue  # a library's note to its own developers (e.g. rioxarray/affine), not to our user
                 text = str(w.message)
                 if text not in messages:
                     messages.append(text)
