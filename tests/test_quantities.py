@@ -63,3 +63,20 @@ def test_plain_numbers_pass_through_unchanged():
     """Without Quantities the decorated function is the plain function (same value, same type)."""
     assert isinstance(soil.topp_permittivity(0.2), float | np.floating | np.ndarray)
     assert soil.topp_permittivity(0.2) == pytest.approx(3.03 + 9.3 * 0.2 + 146.0 * 0.2**2 - 76.7 * 0.2**3)  # Topp et al. (1980) eq. 1
+
+
+def test_wave_properties_with_a_frequency_quantity():
+    """wave_properties(9, 0.01 S/m, 250 MHz) has v ≈ c/3 (low loss), not the 5e5 m/s stripped units gave."""
+    from subsurf import propagation
+
+    got = propagation.wave_properties(9.0, Q_(10, "mS/m"), Q_(250, "MHz"))
+    ref = propagation.wave_properties(9.0, 0.01, 250e6)
+    assert float(np.asarray(got.velocity)) == pytest.approx(float(np.asarray(ref.velocity)), rel=1e-12)
+    assert float(np.asarray(got.velocity)) == pytest.approx(2.998e8 / 3, rel=0.02)  # lossless limit c/√ε'
+
+
+def test_target_depth_in_centimetres():
+    """make_target(depth_m=120 cm) is a target at 1.2 m, not 120 m."""
+    from subsurf.planning.antennas import make_target
+
+    assert make_target("planar", depth_m=Q_(120, "cm"), material="water_table").depth_m == pytest.approx(1.2)

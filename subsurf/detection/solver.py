@@ -30,6 +30,7 @@ from typing import Literal
 import numpy as np
 
 from ..errors import InputError, check_finite, check_positive
+from ..quantities import accepts_quantities
 from ..waves.propagation import NP_TO_DB, wave_properties
 
 __all__ = [
@@ -283,6 +284,15 @@ def _reflection_power(reflection):
     return mag**2
 
 
+@accepts_quantities(
+    eps_r="dimensionless",
+    sigma="S/m",
+    freq_hz="Hz",
+    performance_db="dimensionless",
+    reflection="dimensionless",
+    gain="dimensionless",
+    rcs_m2="m**2",
+)
 def max_detectable_depth(eps_r, sigma, freq_hz, performance_db, target: Literal["planar", "point"] = "planar",
                          reflection=1.0, gain=1.0, rcs_m2=None):
     """Largest depth (m) at which the plain two-way loss equals the system performance.

@@ -10,6 +10,7 @@ import math
 
 from ..detection.targets import Target
 from ..errors import InputError
+from ..quantities import accepts_quantities
 
 __all__ = ["MATERIAL_ALIASES", "material_names", "make_target", "target_summary"]
 
@@ -40,6 +41,7 @@ def material_names() -> list[str]:
     return sorted(set(load_materials()) | set(MATERIAL_ALIASES))
 
 
+@accepts_quantities(depth_m="m", size_m="m", eps="dimensionless", sigma="S/m", reflection="dimensionless")
 def make_target(kind: str, *, depth_m=None, size_m=None, material: str | None = None,
                 eps: complex | None = None, sigma: float = 0.0, reflection: complex | None = None) -> Target:
     """Build a :class:`~subsurf.detection.Target` from a material name or explicit values.

@@ -30,6 +30,7 @@ from ..errors import (
     check_nonnegative,
     check_positive,
 )
+from ..quantities import accepts_quantities
 
 __all__ = [
     "NP_TO_DB",
@@ -188,6 +189,7 @@ class WaveProperties:
     freq_hz: np.ndarray
 
 
+@accepts_quantities(eps_r="dimensionless", sigma="S/m", freq_hz="Hz", mu_r="dimensionless")
 def wave_properties(eps_r, sigma, freq_hz, mu_r=1.0) -> WaveProperties:
     """Exact plane-wave properties of a lossy medium.
 
@@ -244,6 +246,15 @@ def wave_properties(eps_r, sigma, freq_hz, mu_r=1.0) -> WaveProperties:
     )
 
 
+@accepts_quantities(
+    eps1="dimensionless",
+    sigma1="S/m",
+    eps2="dimensionless",
+    sigma2="S/m",
+    freq_hz="Hz",
+    mu1="dimensionless",
+    mu2="dimensionless",
+)
 def reflection_coefficient(eps1, sigma1, eps2, sigma2, freq_hz, *, mu1=1.0, mu2=1.0):
     """Complex amplitude (electric field) reflection coefficient at normal incidence, 1 → 2.
 
@@ -260,6 +271,15 @@ def reflection_coefficient(eps1, sigma1, eps2, sigma2, freq_hz, *, mu1=1.0, mu2=
     return (z2 - z1) / (z2 + z1)
 
 
+@accepts_quantities(
+    eps1="dimensionless",
+    sigma1="S/m",
+    eps2="dimensionless",
+    sigma2="S/m",
+    freq_hz="Hz",
+    mu1="dimensionless",
+    mu2="dimensionless",
+)
 def transmission_coefficient(eps1, sigma1, eps2, sigma2, freq_hz, *, mu1=1.0, mu2=1.0):
     """Complex amplitude (electric field) transmission coefficient at normal incidence, 1 → 2.
 
@@ -275,6 +295,7 @@ def transmission_coefficient(eps1, sigma1, eps2, sigma2, freq_hz, *, mu1=1.0, mu
     return 2.0 * z2 / (z2 + z1)
 
 
+@accepts_quantities(twt_s="s", velocity="m/s", offset_m="m")
 def depth_from_time(twt_s, velocity, offset_m=0.0):
     """Depth (m) of a reflector from its two-way travel time.
 
@@ -316,6 +337,7 @@ def depth_from_time(twt_s, velocity, offset_m=0.0):
     return np.sqrt(np.maximum(half_path**2 - half_sep**2, 0.0))
 
 
+@accepts_quantities(depth_m="m", velocity="m/s", offset_m="m")
 def time_from_depth(depth_m, velocity, offset_m=0.0):
     """Two-way travel time (s) to a reflector at ``depth_m``; inverse of :func:`depth_from_time`.
 
