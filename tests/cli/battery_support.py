@@ -87,18 +87,45 @@ def make_workspace(ws: Path) -> None:
     os.symlink("nowhere.csv", ws / "dangling.csv")
 
 
+def _in_flight(path: Path) -> bool:
+    """True inside another run's staging folder whose process is still alive.
+
+    The cases run concurrently and share the special mounts, so one case may see another's
+    staging come and go; a staging folder left by a run that has ended is still reported.
+    """
+    for part in path.parts:
+        if part.startswith(".subsurf-staging-"):
+            fields = part.split("-")
+            pid = next((int(f) for f in fields if f.isdigit()), None)
+            if pid is None:
+                return False
+            try:
+                os.kill(pid, 0)
+            except ProcessLookupError:
+                return False
+            except PermissionError:
+                return True
+            return True
+    return False
+
+
 def fingerprint(*folders: Path) -> dict:
     """Every entry under the folders: kind and content digest (files), target (links)."""
     out = {}
     for folder in folders:
         for p in sorted(folder.rglob("*")):
+            if _in_flight(p):
+                continue
             key = str(p)
             if p.is_symlink():
                 out[key] = ("link", os.readlink(p))
             elif p.is_dir():
                 out[key] = ("dir",)
             else:
-                out[key] = ("file", hashlib.sha256(p.read_bytes()).hexdigest())
+                try:
+                    out[key] = ("file", hashlib.sha256(p.read_bytes()).hexdigest())
+                except FileNotFoundError:  # another concurrent case's file, gone while we walked
+                    continue
     return out
 
 
