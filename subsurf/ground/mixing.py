@@ -20,6 +20,9 @@ _TOPP = "Topp et al. (1980)"
 _TOPP_THETA_MAX = 0.55   # highest water content in the published calibration (about 0.55)
 _TOPP_KA_RANGE = (3.0, 40.0)
 
+#: Units of the mixing models' arguments: all dimensionless (fractions and relative permittivities).
+_MIXING_FRACTIONS = dict.fromkeys(("moisture", "porosity", "eps_solid", "eps_water", "eps_air"), "dimensionless")
+
 
 def _out(x):
     return x[()] if isinstance(x, np.ndarray) and x.ndim == 0 else x
@@ -141,14 +144,7 @@ def _sqrt_passive(eps):
     return out
 
 
-@accepts_quantities(
-    moisture="dimensionless",
-    porosity="dimensionless",
-    eps_solid="dimensionless",
-    eps_water="dimensionless",
-    eps_air="dimensionless",
-    exponent="dimensionless",
-)
+@accepts_quantities(**_MIXING_FRACTIONS, exponent="dimensionless")
 def lichtenecker_permittivity(moisture, porosity, eps_solid, eps_water, eps_air=1.0, *,
                               exponent=0.5):
     """Three-phase (solid, water, air) power-law mixing of permittivities.
@@ -202,13 +198,7 @@ def lichtenecker_permittivity(moisture, porosity, eps_solid, eps_water, eps_air=
     return _out(out)
 
 
-@accepts_quantities(
-    moisture="dimensionless",
-    porosity="dimensionless",
-    eps_solid="dimensionless",
-    eps_water="dimensionless",
-    eps_air="dimensionless",
-)
+@accepts_quantities(**_MIXING_FRACTIONS)
 def crim_permittivity(moisture, porosity, eps_solid, eps_water, eps_air=1.0):
     """Complex refractive index model (CRIM): Lichtenecker–Rother mixing with exponent 1/2.
 
