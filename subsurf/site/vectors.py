@@ -124,6 +124,35 @@ def _file_crs(path: Path, meta_crs, suffix: str):
         return None
 
 
+def _refuse_lonlat_under_projected(path: Path, geoms, declared_crs, field: str) -> None:
+    """Refuse a GeoJSON with no ``crs`` member whose coordinates are longitude/latitude under a projected declaration.
+
+    RFC 7946 GeoJSON is lon/lat, so a file exported "as GeoJSON" often is, while the survey
+    names a projected CRS. Such coordinates read as metres would put the whole site within a
+    metre or so of the projection's false origin. Taken as lon/lat when every vertex lies
+    within [-180, 180] x [-90, 90], the whole extent spans under 1 declared unit (a survey area
+    under a metre across is not a survey area) and, where PROJ knows the declared CRS's area of
+    use, the centre lies inside it.
+    """
+    import shapely
+
+    if not getattr(declared_crs, "is_projected", False):
+        return
+    valid = [g for g in geoms if g is not None and not g.is_empty]
+    if not valid:
+        return
+    x0, y0, x1, y1 = shapely.total_bounds(np.asarray(valid, dtype=object))
+    if not (-180 <= x0 <= x1 <= 180 and -90 <= y0 <= y1 <= 90) or max(x1 - x0, y1 - y0) >= 1.0:
+        return
+    area = declared_crs.area_of_use
+    cx, cy = (x0 + x1) / 2, (y0 + y1) / 2
+    if area is not None and not (area.west <= cx <= area.east and area.south <= cy <= area.north):
+        return
+    raise FileInputError(path, f"the coordinates ({cx:.5f}, {cy:.5f}) are longitude/latitude (WGS 84, "
+                         f"EPSG:4326, as RFC 7946 GeoJSON is) but the survey declares {_crs_label(declared_crs)} "
+                         f"({field.replace(' file', '')} crs); declare crs = \"EPSG:4326\" or reproject the file")
+
+
 def _choose_layer(path: Path, layer: str | None, *, survey_path: Path, field: str) -> str | None:
     import pyogrio
 
@@ -216,6 +245,8 @@ def read_polygons(path, *, survey_path: Path, field: str, declared_crs, layer: s
     if wkb is None or len(wkb) == 0:
         raise FileInputError(path, "no polygon features")
     geoms = shapely.from_wkb(np.asarray(wkb, dtype=object))
+    if own is None and suffix in (".geojson", ".json"):
+        _refuse_lonlat_under_projected(path, geoms, declared_crs, field)
     out = []
     for i, geom in enumerate(geoms):
         fld = f"features[{i}].geometry"

@@ -132,6 +132,32 @@ def test_geojson_legacy_crs_member_honoured(tmp_path):
     assert load_survey(survey).zones[0].names == ["upper terrace", "lower hollow"]
 
 
+def test_geojson_lonlat_under_projected_declaration_refused(tmp_path):
+    """Zones reprojected to lon/lat (RFC 7946 GeoJSON, no 'crs' member) under a survey still saying EPSG:32630.
+
+    The reprojection is pyproj's (the reference); before this check the file was accepted and
+    the zones sat a fraction of a metre from UTM 30N's false origin.
+    """
+    from subsurf.site.survey import load_survey
+
+    survey = _site(tmp_path, "geojson")
+    _write(EXAMPLE / "zones.geojson", survey.parent / "zones_ll.geojson", driver="GeoJSON",
+           crs_from="EPSG:32630", crs_to="EPSG:4326")
+    data = json.loads((survey.parent / "zones_ll.geojson").read_text())
+    data.pop("crs", None)  # RFC 7946 drops the member
+    (survey.parent / "zones.geojson").write_text(json.dumps(data))
+    with pytest.raises(FileInputError) as err:
+        load_survey(survey)
+    msg = str(err.value)
+    assert "zones.geojson" in msg and "EPSG:4326" in msg and "EPSG:32630" in msg and "\n" not in msg
+    # the same lon/lat file under a lon/lat declaration is accepted
+    text = survey.read_text()
+    assert 'file = "zones.geojson"\ncrs = "EPSG:32630"' in text
+    survey.write_text(text.replace('file = "zones.geojson"\ncrs = "EPSG:32630"',
+                                   'file = "zones.geojson"\ncrs = "EPSG:4326"'))
+    assert load_survey(survey).zones[0].names == ["upper terrace", "lower hollow"]
+
+
 def test_kml_needs_wgs84_declaration(tmp_path):
     """KML is WGS 84 lon/lat by definition (OGC KML 2.2); declaring a UTM CRS for it is refused."""
     from subsurf.site.survey import load_survey
