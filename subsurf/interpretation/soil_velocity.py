@@ -40,8 +40,11 @@ def velocity_from_soil(soil, freq_hz: float, *, sd: dict | None = None, draws: i
     sd : dict, optional
         Standard deviation of each uncertain input, keyed by the Soil field name
         (e.g. ``{"moisture": 0.03, "temp_c": 3.0}``), in the field's own units.
-        Draws are normal, clipped to be non-negative (fractions also ≤ 1; moisture
-        also at most the soil's porosity).
+        Bounded inputs (moisture up to the soil's porosity, fractions, temperature) are
+        drawn from the normal truncated to their range, positive ones (conductivities,
+        salinity) from a log-normal with the given mean and standard deviation
+        (:mod:`subsurf.ground.spread`): every draw is a possible soil and none piles up
+        on a bound.
     draws : int, optional
         Number of Monte Carlo draws (≥ 100).
     seed : int, optional
@@ -68,9 +71,11 @@ def velocity_from_soil(soil, freq_hz: float, *, sd: dict | None = None, draws: i
     seed = check_seed(seed)
     eps, sigma = soil.electrical(f)
     v_nom = float(np.asarray(wave_properties(eps, sigma, f).velocity).ravel()[0])
+    from ..ground.spread import draw_soil_input
+
     rng = np.random.default_rng(seed)
     changes = {}
-    fractions = {"moisture", "sand", "clay", "porosity"}
+    porosity = getattr(soil, "porosity_value", None)
     for name, s in (sd or {}).items():
         if not hasattr(soil, name):
             raise InputError(f"sd: the soil description has no field {name!r}")
@@ -80,13 +85,13 @@ def velocity_from_soil(soil, freq_hz: float, *, sd: dict | None = None, draws: i
         if isinstance(base, str) or np.size(base) != 1:
             raise InputError(f"sd: field {name!r} must be a single number to vary, got {base!r}")
         s = float(check_nonnegative(f"sd[{name!r}]", s))
-        val = rng.normal(float(np.asarray(base, dtype=float)), s, int(draws))
-        val = np.clip(val, 0.0, 1.0 if name in fractions else None)
-        changes[name] = val
-    porosity = getattr(soil, "porosity_value", None)
-    if "moisture" in changes and "porosity" not in changes and porosity is not None:
-        # water cannot exceed the pore space: clip the draws there (Soil refuses θ > φ)
-        changes["moisture"] = np.minimum(changes["moisture"], porosity)
+        # water cannot exceed the pore space (Soil refuses θ > φ)
+        upper = porosity if name == "moisture" and "porosity" not in (sd or {}) else None
+        changes[name] = draw_soil_input(rng, name, float(np.asarray(base, dtype=float)), s, int(draws),
+                                        upper=None if upper is None else float(upper))
+    if "moisture" in changes and "porosity" in changes:
+        # both vary: a draw's water still fits its own pores
+        changes["moisture"] = np.minimum(changes["moisture"], changes["porosity"])
     if changes:
         varied = dataclasses.replace(soil, **changes)
         eps_d, sigma_d = varied.electrical(f)

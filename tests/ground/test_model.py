@@ -105,7 +105,31 @@ def test_tables_load_with_sources():
                  "limestone", "shale", "silt", "clay", "granite", "dry_salt", "ice", "metal", "pvc"):
         assert mat[name]["source"]
     assert mat["metal"]["perfect_conductor"]
-    assert mat["sea_water"]["conductivity"][0] == pytest.approx(30.0)
+
+
+def test_sea_water_row_matches_teos10_and_lossy_medium_closed_form():
+    """The sea-water row: conductivity from TEOS-10, velocity and attenuation from Maxwell's equations.
+
+    Outside sources: TEOS-10 via gsw.C_from_SP (SP 35, 10 and 25 degC, 0 dbar, mS/cm); the
+    propagation constant gamma = j*omega*sqrt(mu0*eps0*(eps' - j*sigma/(omega*eps0))) of a
+    plane wave in a lossy medium, written out here with scipy.constants.
+    """
+    import gsw
+    from scipy.constants import epsilon_0, mu_0
+
+    row = load_materials()["sea_water"]
+    lo, hi = row["conductivity"]
+    assert lo == pytest.approx(gsw.C_from_SP(35.0, 10.0, 0.0) * 0.1, rel=0.002)
+    assert hi == pytest.approx(gsw.C_from_SP(35.0, 25.0, 0.0) * 0.1, rel=0.002)
+    omega = 2 * np.pi * 100e6
+    eps_hi, eps_lo = row["relative_permittivity"][1], row["relative_permittivity"][0]
+    alphas, vels = [], []
+    for eps, sig in ((eps_hi, lo), (eps_lo, hi)):   # 10 degC: higher eps, lower sigma
+        gamma = 1j * omega * np.sqrt(mu_0 * epsilon_0 * (eps - 1j * sig / (omega * epsilon_0)))
+        alphas.append(gamma.real * 20 / np.log(10))
+        vels.append(omega / gamma.imag)
+    np.testing.assert_allclose(row["attenuation_db_per_m"], alphas, rtol=0.01)
+    assert min(vels) <= row["velocity"] <= max(vels)
 
 
 def test_bad_table_names_file_and_key(tmp_path, monkeypatch):

@@ -51,14 +51,17 @@ def velocity_draws(soil, sd: dict, freq_hz: float, *, draws: int, seed: int):
     """Nominal phase velocity and seeded Monte Carlo draws from the soil-input spread.
 
     Each input in ``sd`` (Soil field names among moisture, pore-water EC/salinity and
-    temperature) is drawn from a normal distribution, independently; fractions are
-    clipped to [0, 1], conductivities to ≥ 0 and moisture to 0.995 × porosity (a soil
-    cannot hold more water than its pores), as the feasibility maps do.  Texture
+    temperature) is drawn independently with a distribution that respects its bounds
+    (:mod:`subsurf.ground.spread`): moisture from the normal truncated to
+    [0, 0.995 × porosity] (a soil cannot hold more water than its pores), temperature
+    truncated to liquid water, conductivities and salinity log-normal with the stated
+    mean and standard deviation.  Texture
     fractions are not varied: independent draws of sand and clay can be impossible
     (sand + clay > 1), and their effect on velocity is small beside moisture's.
     """
     import dataclasses
 
+    from ...ground.spread import draw_soil_input
     from ...waves.propagation import wave_properties
 
     rng = np.random.default_rng(seed)
@@ -70,14 +73,10 @@ def velocity_draws(soil, sd: dict, freq_hz: float, *, draws: int, seed: int):
         base = getattr(soil, name, None)
         if not s or base is None:
             continue
-        val = rng.normal(float(base), float(s), int(draws))
-        if name == "moisture":
-            phi = soil.porosity_value
-            upper = 1.0 if phi is None else 0.995 * float(phi)
-            val = np.clip(val, 0.0, upper)
-        else:  # conductivities, salinity >= 0; temperature >= 0 degC (liquid pore water)
-            val = np.clip(val, 0.0, None)
-        changes[name] = val
+        upper = None
+        if name == "moisture" and soil.porosity_value is not None:
+            upper = 0.995 * float(soil.porosity_value)
+        changes[name] = draw_soil_input(rng, name, float(base), float(s), int(draws), upper=upper)
     if not changes:
         return v_nom, np.full(int(draws), v_nom), []
     varied = dataclasses.replace(soil, **changes)
