@@ -1,8 +1,10 @@
 """Per-cell probability that the target depth is reached, from the uncertainty of the soil inputs.
 
 The margin M (dB) of :func:`subsurf.site.feasibility.feasibility_chain` is a smooth
-function of the soil quantities x = μ + σ·z (z standard normal, independent per cell and
-quantity, clipped to each quantity's accepted range).  The probability P(M ≥ 0) is
+function of the soil quantities x, independent per cell and quantity: normal with mean μ
+and standard deviation σ truncated to the quantity's accepted range (``_truncated``; not
+clipped, so no draw sits on a bound), log-normal with that mean and σ for the pore-water
+conductivity and salinity (``_lognormal``).  The probability P(M ≥ 0) is
 estimated per cell and antenna by one of two methods:
 
 ``"linearised"`` (first-order second-moment, the delta method)
@@ -262,6 +264,46 @@ def _tile_normals(seed: int, tile: int, n_uncertain: int, draws: int) -> np.ndar
     return rng.standard_normal((n_uncertain, draws, TILE_CELLS))
 
 
+#: Survey quantities drawn from a log-normal with the stated mean and sd (positive and
+#: right-skewed, as subsurf.ground.spread draws conductivities and salinity).
+_LOGNORMAL = frozenset({"pore_water_ec", "salinity"})
+
+
+def _lognormal(mean, sd, z, low, high):
+    """Log-normal draws with arithmetic mean ``mean`` and sd ``sd`` from standard normals ``z``.
+
+    σ_ln² = ln(1 + sd²/mean²), μ_ln = ln(mean) − σ_ln²/2; kept within [low, high].  A zero
+    mean with a spread falls back to the truncated normal (a log-normal needs mean > 0).
+    """
+    pos = (mean > 0) & (sd > 0)
+    m = np.where(pos, mean, 1.0)
+    s2 = np.log1p((np.where(pos, sd, 0.0) / m) ** 2)
+    x = np.exp(np.log(m) - s2 / 2.0 + np.sqrt(s2) * z)
+    x = np.clip(x, -np.inf if low is None else low, np.inf if high is None else high)
+    return np.where(pos, x, _truncated(mean, sd, z, low, high))
+
+
+def _truncated(mean, sd, z, low, high):
+    """Draws of normal(mean, sd) truncated to [low, high], made from standard normals ``z``.
+
+    The inverse-CDF map u = Φ(a) + Φ(z)(Φ(b) − Φ(a)), x = mean + sd·Φ⁻¹(u), with
+    a = (low − mean)/sd and b = (high − mean)/sd, turns each standard normal into a draw of
+    the truncated normal (Robert 1995, Statistics and Computing 5:121), so the keyed streams
+    of the module docstring still decide every draw, and no draw piles up on a bound as
+    clipping would.  Where sd is 0 the draw is the mean.
+    """
+    from scipy.special import ndtr, ndtri
+
+    sd_safe = np.where(sd > 0, sd, 1.0)
+    lo_cdf = ndtr((low - mean) / sd_safe) if low is not None else 0.0
+    hi_cdf = ndtr((high - mean) / sd_safe) if high is not None else 1.0
+    u = lo_cdf + ndtr(z) * (hi_cdf - lo_cdf)
+    x = mean + sd_safe * ndtri(np.clip(u, 1e-300, 1.0 - 1e-16))
+    lo = -np.inf if low is None else low
+    hi = np.inf if high is None else high
+    return np.where(sd > 0, np.clip(x, lo, hi), mean)
+
+
 def _sampled(prob: _Problem, cells: np.ndarray, draws: int, seed: int):
     """Monte Carlo probability and standard error at ``cells`` (flat indices, ascending)."""
     k = len(prob.uncertain)
@@ -281,7 +323,9 @@ def _sampled(prob: _Problem, cells: np.ndarray, draws: int, seed: int):
         for q, v in prob.flat.items():
             base = v[blk][None, :]
             if q in prob.uncertain:
-                fields[q] = base + prob.sd[q][blk][None, :] * z[prob.uncertain.index(q)]
+                draw = _lognormal if q in _LOGNORMAL else _truncated
+                fields[q] = draw(base, prob.sd[q][blk][None, :], z[prob.uncertain.index(q)],
+                                 prob.low[q], prob.high[q][blk][None, :])
             else:
                 fields[q] = np.broadcast_to(base, (draws, blk.size))
         hits[:, done:done + blk.size] = np.mean(prob.margins(fields) >= 0.0, axis=1)

@@ -232,3 +232,33 @@ def test_blind_zone_counts_as_not_reached_and_is_sampled():
     assert np.all(chain["too_shallow"])  # 2 cm is inside a 100 MHz antenna's blind zone
     r = pr.reach_probability(vals, sds, ANTS[:1], **kw)
     assert np.all(r.probability == 0.0)
+
+
+def test_sampled_draws_are_truncated_normals_not_clipped():
+    """The map's Monte Carlo draws of a bounded quantity follow scipy.stats.truncnorm.
+
+    Outside reference: scipy.stats.truncnorm (Kolmogorov-Smirnov on 20,000 draws); a clipped
+    normal with mean 0.02 and sd 0.05 would put 34 % of the draws exactly on 0.
+    """
+    from scipy import stats
+
+    from subsurf.site.probability import _truncated
+
+    z = np.random.default_rng(4).standard_normal(20_000)
+    x = _truncated(np.array(0.02), np.array(0.05), z, 0.0, np.array(0.35))
+    assert np.count_nonzero(x <= 0.0) == 0 and x.max() < 0.35
+    ref = stats.truncnorm(-0.4, 6.6, loc=0.02, scale=0.05)
+    assert stats.kstest(x, ref.cdf).pvalue > 0.01
+    # no spread: the draw is the mean
+    np.testing.assert_array_equal(_truncated(np.array(0.2), np.array(0.0), z[:5], 0.0, np.array(0.35)),
+                                  np.full(5, 0.2))
+
+
+def test_sampled_conductivity_draws_are_lognormal_with_the_stated_mean_and_sd():
+    """Pore-water EC 0.05 +/- 0.05 S/m: positive draws, sample mean and sd within 3 % (400,000 draws)."""
+    from subsurf.site.probability import _lognormal
+
+    z = np.random.default_rng(8).standard_normal(400_000)
+    x = _lognormal(np.array(0.05), np.array(0.05), z, 0.0, np.array(25.0))
+    assert x.min() > 0
+    assert x.mean() == pytest.approx(0.05, rel=0.03) and x.std() == pytest.approx(0.05, rel=0.03)
