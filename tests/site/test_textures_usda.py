@@ -67,3 +67,24 @@ def test_fractions_out_of_range_refused():
     """sand + clay > 1 is refused with the values."""
     with pytest.raises(InputError, match="sand"):
         usda_texture_class(0.7, 0.5)
+
+
+def test_texture_presets_sit_near_their_usda_class_centroid():
+    """Each preset of configs/textures.toml lies inside its USDA class, within 0.03 of its centroid.
+
+    Outside reference: the USDA class polygons of the soiltexture package (Soil Survey
+    Division Staff 1993, USDA Handbook 18); centroid by shapely.
+    """
+    import shapely
+    from soiltexture.texture import tables
+
+    from subsurf.ground import load_textures
+
+    polys = {k.strip().replace(" ", "_"): shapely.Polygon(p.vertices) for k, p in tables["USDA"].items()}
+    presets = load_textures()
+    assert set(presets) <= set(polys)
+    for name, tex in presets.items():
+        sand, clay = float(tex["sand"]) * 100, float(tex["clay"]) * 100
+        assert polys[name].contains(shapely.Point(sand, clay)), name
+        c = polys[name].centroid
+        assert abs(sand - c.x) <= 3.0 and abs(clay - c.y) <= 3.0, (name, sand, clay, c.x, c.y)
