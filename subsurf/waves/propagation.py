@@ -143,6 +143,34 @@ def _alpha_beta(eps_real, eps_imag, sigma, omega, mu_r=1.0):
     return alpha, beta
 
 
+def _alpha_wavelength(eps_r, sigma, freq_hz):
+    """α (Np/m) and wavelength λ = 2π/β (m) of a validated medium, without the rest of WaveProperties.
+
+    Validates as :func:`wave_properties` does (same messages; μ_r = 1), but a real ε' is not
+    converted to complex and only α and β are formed, so a caller that needs α and λ alone
+    (:func:`subsurf.detection.solver.max_detectable_depth`) skips the complex impedance, skin
+    depth, loss tangent and copies.  Equal to ``wave_properties(...).alpha`` and ``.wavelength``.
+    """
+    eps = np.asarray(eps_r)
+    if np.iscomplexobj(eps):
+        eps, sigma_a, freq, _ = _check_medium(eps, sigma, freq_hz, 1.0)
+        eps_real, eps_imag = eps.real, -eps.imag
+    else:
+        eps_real = check_finite("eps_r", eps)
+        if np.any(eps_real < 1.0 - 1e-12):
+            bad = eps_real[eps_real < 1.0 - 1e-12].ravel()[0]
+            raise InputError(f"eps_r (real part) must be >= 1 (vacuum), got {bad:.6g}")
+        eps_imag = 0.0
+        sigma_a = check_nonnegative("sigma", sigma, unit="S/m")
+        freq = check_positive("freq_hz", freq_hz, unit="Hz")
+        check_broadcast(eps_r=eps_real, sigma=sigma_a, freq_hz=freq)
+    alpha, beta = _alpha_beta(eps_real, eps_imag, sigma_a, 2.0 * np.pi * freq)
+    shape = np.broadcast_shapes(np.shape(eps_real), np.shape(sigma_a), np.shape(freq))
+    if alpha.shape != shape:  # e.g. a scalar sigma = 0 with an array ε'
+        alpha, beta = np.broadcast_to(alpha, shape), np.broadcast_to(beta, shape)
+    return alpha, 2.0 * np.pi / beta
+
+
 def _reflection_power_from_gamma(alpha1, beta1, alpha2, beta2, mu1=1.0, mu2=1.0):
     """|R|² at normal incidence from the propagation constants of both media; inputs NOT validated.
 

@@ -241,6 +241,54 @@ def test_point_max_depth_matches_brentq(eps, sig, f, perf):
     assert d == pytest.approx(ref, rel=1e-9)
 
 
+def _soil_grid():
+    """A grid of soils: ε' 1-81 (real and with a dielectric loss ε''), σ 0 and 1e-5-1 S/m, 10 MHz-2 GHz."""
+    eps_re = np.array([1.0, 3.0, 9.0, 25.0, 81.0])
+    eps = np.concatenate([eps_re, eps_re - 1j * 0.05 * eps_re])[:, None, None]
+    sig = np.array([0.0, 1e-5, 1e-3, 0.03, 1.0])[None, :, None]
+    f = np.array([10e6, 100e6, 500e6, 2e9])[None, None, :]
+    return eps, sig, f
+
+
+def _max_depth_from_wave_properties(eps, sig, f, perf, refl, gain):
+    # the path before the lean α/λ one: full WaveProperties, then the same loss terms and solver
+    from subsurf.propagation import depth_from_loss_terms
+    w = wave_properties(eps, sig, f)
+    k0 = -10.0 * np.log10(gain**2 * w.wavelength**2 * refl**2 / ((4 * np.pi) ** 2 * 4.0))
+    return depth_from_loss_terms(k0, 2.0, w.alpha, perf)
+
+
+def test_max_depth_lean_path_equals_wave_properties_path():
+    """The α/λ-only path gives the depths of the full-WaveProperties path to 1e-12 (grid of soils)."""
+    eps, sig, f = _soil_grid()
+    for e in (eps, eps.real):  # complex ε (own validation branch) and real ε'
+        lean = max_detectable_depth(e, sig, f, 140.0, reflection=0.4, gain=2.0)
+        full = _max_depth_from_wave_properties(e, sig, f, 140.0, 0.4, 2.0)
+        assert lean.shape == full.shape == (10, 5, 4)
+        np.testing.assert_allclose(lean, full, rtol=1e-12, atol=0.0)
+
+
+def test_max_depth_grid_matches_brentq_on_hand_written_budget():
+    """Every cell of the soil grid against scipy's brentq on the scalar range equation written here
+    (cmath complex square root, DESIGN.md's planar L(d)), including ε'' > 0 and σ = 0."""
+    eps, sig, f = _soil_grid()
+    perf = 140.0
+    d = max_detectable_depth(eps, sig, f, perf, reflection=0.4, gain=2.0)
+    e_b, s_b, f_b = np.broadcast_arrays(eps, sig, f)
+    for idx in np.ndindex(d.shape):
+        e, s, fr = complex(e_b[idx]), float(s_b[idx]), float(f_b[idx])
+
+        def budget(x, e=e, s=s, fr=fr):
+            om = 2 * math.pi * fr
+            g = cmath.sqrt(1j * om * MU0 * (s + 1j * om * EPS0 * e))
+            lam = 2 * math.pi / g.imag
+            spread = -10 * math.log10(2.0**2 * lam**2 * 0.4**2 / ((4 * math.pi) ** 2 * (2 * x) ** 2))
+            return spread + 2 * (20 / math.log(10)) * g.real * x - perf
+
+        ref = brentq(budget, 1e-12, 1e9, xtol=1e-15, rtol=1e-14, maxiter=500)
+        assert d[idx] == pytest.approx(ref, rel=1e-9), idx
+
+
 def test_max_depth_lossless_closed_form():
     """Lossless planar: d = G·λ·|R|·10^(P/20)/(8π) exactly."""
     eps, f, perf, refl, gain = 4.0, 100e6, 120.0, 0.5, 1.5
