@@ -45,7 +45,8 @@ def refresh_images(work: Path, images: Path) -> None:
     """Copy the example map and screenshot the demo report's first screen (headless Chromium)."""
     import shutil
 
-    m = work / "maps-example" / "map_antennas.png"
+    # one depth map per scenario; the README shows the example's wet season, the harder one for the antennas
+    m = work / "maps-example" / "map_antennas__wet.png"
     if m.exists():
         shutil.copyfile(m, images / "map_antennas_example.png")
     report = work / "subsurf-demo" / "report.html"

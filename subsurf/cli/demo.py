@@ -21,6 +21,7 @@ def add_arguments(parser) -> None:
 
 
 def run(args) -> int:
+    import fnmatch
     from pathlib import Path
 
     from ..io.demo import DESCRIPTIONS, OWN_FILES, run_demo
@@ -45,7 +46,7 @@ def run(args) -> int:
                 listing.append((folder, f"{len(tifs)} GeoTIFF layers (max depth, margin, reach probability "
                                         "per scenario and antenna)"))
             continue
-        listing.append((f, DESCRIPTIONS.get(f, "")))
+        listing.append((f, next((d for pat, d in DESCRIPTIONS.items() if fnmatch.fnmatchcase(f, pat)), "")))
     width = max(len(f) for f, _ in listing)
     lines = [f"subsurf demo: the bundled fictional example site ({Path(result['survey']).name} in "
              f"{Path(result['survey']).parent.name}/; invented data, no real place).",

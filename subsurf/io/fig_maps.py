@@ -71,8 +71,11 @@ def _mesh(ax, grid, data, *, cmap, vmin, vmax):
 
 @styled
 def antenna_figure(grid, result, *, scenario: str, target_depth_m: float, outline, samples, crs_name: str,
-                   title: str = ""):
+                   description: str = "", title: str = ""):
     """Maximum detectable depth per antenna for one scenario, with the target-depth contour.
+
+    One figure per scenario (``subsurf map`` writes one for each); the title names the scenario
+    and its description.
 
     Parameters
     ----------
@@ -99,8 +102,11 @@ def antenna_figure(grid, result, *, scenario: str, target_depth_m: float, outlin
         _decorate(ax, grid, outline=outline, samples=samples, extrapolated=result["extrapolated"].values,
                   crs_name=crs_name, first_col=(i % ncols == 0), last_row=(i >= len(names) - ncols))
     fig.colorbar(mesh, ax=list(axes), label="maximum detectable depth (m)", shrink=0.85)
-    fig.suptitle(title or f"Maximum detectable depth per antenna, scenario '{scenario}' "
-                 "(red: target depth; hatched: extrapolated soil)", fontsize=SIZES["suptitle"])
+    import textwrap
+
+    lines = [f"Scenario '{scenario}': maximum detectable depth per antenna",
+             *textwrap.wrap(description, 100), "(red: target depth; hatched: extrapolated soil)"]
+    fig.suptitle(title or "\n".join(lines), fontsize=SIZES["suptitle"])
     return fig
 
 

@@ -17,11 +17,13 @@ from pathlib import Path
 from ..detection.verdicts import REACHES_MARGIN_DB
 
 __all__ = ["NETCDF_NAME", "SUMMARY_COLUMNS", "GEOTIFF_LAYERS", "OWN_FILES", "output_paths", "write_map_outputs",
-           "run_map"]
+           "run_map", "scenario_tags", "antenna_figure_key"]
 
 NETCDF_NAME = "feasibility.nc"
 SUMMARY_STEM = "summary"
-FIGURES = {"antennas": "map_antennas.png", "scenarios": "map_scenarios.png", "inputs": "map_soil_inputs.png"}
+#: the site-wide figures; the per-antenna depth maps are one file per scenario, ``map_antennas__<scenario>.png``
+FIGURES = {"scenarios": "map_scenarios.png", "inputs": "map_soil_inputs.png"}
+ANTENNA_FIGURE = "map_antennas__{tag}.png"
 GEOTIFF_LAYERS = ("max_depth", "margin_db", "reach_probability")
 #: glob patterns of every file a map folder holds (an earlier output is recognised by them)
 OWN_FILES = (NETCDF_NAME, f"{SUMMARY_STEM}.*", "map_*.png", "geotiff/*.tif")
@@ -45,6 +47,23 @@ def have_rioxarray() -> bool:
     return True
 
 
+def scenario_tags(names) -> dict[str, str]:
+    """Scenario name -> the part of a file name that names it (letters, digits, '-', '.', '_'; unique).
+
+    Other characters (spaces, slashes ...) become '_'; a tag that two names would share gets the
+    scenario's position appended, so every scenario keeps a file of its own.
+    """
+    import re
+
+    raw = [re.sub(r"[^A-Za-z0-9._-]+", "_", n).strip("._") or "scenario" for n in names]
+    return {n: (t if raw.count(t) == 1 else f"{t}_{i + 1}") for i, (n, t) in enumerate(zip(names, raw))}
+
+
+def antenna_figure_key(scenario: str) -> str:
+    """Output kind of the per-antenna depth map of one scenario (a key of :func:`output_paths`)."""
+    return f"png_antennas:{scenario}"
+
+
 def output_paths(out_dir, survey, *, geotiff: bool) -> dict[str, Path]:
     """Output kind -> path of every file ``subsurf map`` writes for ``survey``."""
     out = Path(out_dir)
@@ -52,13 +71,16 @@ def output_paths(out_dir, survey, *, geotiff: bool) -> dict[str, Path]:
              "summary_csv": out / f"{SUMMARY_STEM}.csv",
              "summary_md": out / f"{SUMMARY_STEM}.md",
              "summary_json": out / f"{SUMMARY_STEM}.json"}
+    tags = scenario_tags([s.name for s in survey.scenarios])
+    for s in survey.scenarios:  # every scenario mapped, in the survey's order
+        paths[antenna_figure_key(s.name)] = out / ANTENNA_FIGURE.format(tag=tags[s.name])
     for key, name in FIGURES.items():
         paths[f"png_{key}"] = out / name
     if geotiff:
         for layer in GEOTIFF_LAYERS:
             for s in survey.scenarios:
                 for a in survey.antennas:
-                    paths[f"tif_{layer}_{s.name}_{a}"] = out / "geotiff" / f"{layer}__{s.name}__{a}.tif"
+                    paths[f"tif_{layer}_{s.name}_{a}"] = out / "geotiff" / f"{layer}__{tags[s.name]}__{a}.tif"
     return paths
 
 
@@ -118,12 +140,15 @@ def _figures(maps):
     outline = shapely.from_wkt(grid.attrs["site_outline_wkt"])
     common = {"outline": outline, "samples": sample_points(survey), "crs_name": survey.grid_crs.name}
     depth = survey.target.depth_m
-    return {
-        "antennas": lambda: fig_maps.antenna_figure(grid, ds, scenario=survey.scenarios[0].name,
-                                                    target_depth_m=depth, **common),
-        "scenarios": lambda: fig_maps.scenario_figure(grid, ds, target_depth_m=depth, **common),
-        "inputs": lambda: fig_maps.inputs_figure(grid, maps.soil, **common),
-    }
+
+    def antennas(sc):
+        return lambda: fig_maps.antenna_figure(grid, ds, scenario=sc.name, description=sc.description,
+                                               target_depth_m=depth, **common)
+
+    figs = {antenna_figure_key(sc.name): antennas(sc) for sc in survey.scenarios}
+    figs["png_scenarios"] = lambda: fig_maps.scenario_figure(grid, ds, target_depth_m=depth, **common)
+    figs["png_inputs"] = lambda: fig_maps.inputs_figure(grid, maps.soil, **common)
+    return figs
 
 
 def _write_geotiffs(maps, paths, *, force: bool, written: dict) -> None:
@@ -172,7 +197,7 @@ def write_map_outputs(maps, out_dir, *, force: bool = False, geotiff: bool = Tru
     written["summary_json"] = atomic_write_text(
         paths["summary_json"], json.dumps(to_jsonable(summary_json), indent=2, allow_nan=False), force=force)
     for key, make in _figures(maps).items():
-        written[f"png_{key}"] = figstyle.save_png(make(), paths[f"png_{key}"], force=force)
+        written[key] = figstyle.save_png(make(), paths[key], force=force)
     if geotiff:
         _write_geotiffs(maps, paths, force=force, written=written)
     return written

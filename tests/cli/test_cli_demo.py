@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import html
 import json
 import subprocess
 import sys
@@ -29,7 +30,8 @@ def test_demo_exits_zero_and_names_the_report(demo):
     report = cwd / "subsurf-demo" / "report.html"
     assert report.is_file()
     assert report.resolve().as_uri() in res.stdout
-    for name in ("report.html", "summary.json", "time_to_depth.csv", "maps/feasibility.nc", "maps/map_antennas.png"):
+    for name in ("report.html", "summary.json", "time_to_depth.csv", "maps/feasibility.nc",
+                 "maps/map_antennas__dry.png", "maps/map_antennas__wet.png"):
         assert name in res.stdout
         assert (cwd / "subsurf-demo" / name).is_file()
     assert "fictional" in res.stdout
@@ -56,7 +58,9 @@ def test_demo_report_embeds_the_maps(demo):
     """The report embeds the map figures and the scenario comparison of the example (dry, wet)."""
     cwd, _ = demo
     page = (cwd / "subsurf-demo" / "report.html").read_text(encoding="utf-8")
-    assert page.count('src="data:image/png;base64,') >= 7
+    assert page.count('src="data:image/png;base64,') >= 8
+    for scenario in ("'dry' (late summer", "'wet' (winter"):  # a depth map per scenario, captioned with it
+        assert f"for each antenna, scenario {scenario}" in html.unescape(page)
     assert "Scenario and antenna comparison" in page
     assert ">dry<" in page and ">wet<" in page
 

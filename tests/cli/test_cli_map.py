@@ -50,13 +50,22 @@ def test_exit_zero_and_json_caution(mapped):
 
 
 def test_all_outputs_written(mapped):
-    """NetCDF, three PNGs and CSV/Markdown/JSON summaries exist; no temporary files are left."""
+    """NetCDF, a depth map per scenario, two site PNGs and CSV/Markdown/JSON summaries exist; no temporary files."""
     _, out, _ = mapped
-    for name in ("feasibility.nc", "map_antennas.png", "map_scenarios.png", "map_soil_inputs.png",
-                 "summary.csv", "summary.md", "summary.json"):
+    for name in ("feasibility.nc", "map_antennas__dry.png", "map_antennas__wet.png", "map_scenarios.png",
+                 "map_soil_inputs.png", "summary.csv", "summary.md", "summary.json"):
         assert (out / name).stat().st_size > 0, name
     assert not list(out.rglob("*.partial"))
-    assert (out / "map_antennas.png").read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+    assert (out / "map_antennas__wet.png").read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+
+
+def test_every_scenario_has_its_depth_map(mapped):
+    """One per-antenna depth map per scenario, named after it, and no unnamed 'first scenario' map."""
+    proc, out, _ = mapped
+    paths = json.loads(proc.stdout)["paths"]
+    depth_maps = sorted(Path(p).name for k, p in paths.items() if k.startswith("png_antennas"))
+    assert depth_maps == ["map_antennas__dry.png", "map_antennas__wet.png"]
+    assert not (out / "map_antennas.png").exists()
 
 
 def test_netcdf_cf_attributes(mapped):

@@ -245,11 +245,18 @@ def maps_section(map_result: dict | None) -> dict | None:
     if not map_result:
         return None
     figs = []
+    described = {s["name"]: s.get("description", "") for s in (map_result.get("inputs") or {}).get("scenarios", [])}
     for key, path in map_result.get("paths", {}).items():
         path = Path(path)
-        if key.startswith("png_") and path.is_file():
-            figs.append({"caption": MAP_CAPTIONS.get(key, path.stem.replace("_", " ")), "png": path.read_bytes(),
-                         "file": path.name})
+        if not (key.startswith("png_") and path.is_file()):
+            continue
+        if key.startswith("png_antennas:"):  # one depth map per scenario, each captioned with its scenario
+            name = key.split(":", 1)[1]
+            what = f"'{name}'" + (f" ({described[name]})" if described.get(name) else "")
+            caption = MAP_CAPTIONS["png_antennas"].format(scenario=what)
+        else:
+            caption = MAP_CAPTIONS.get(key, path.stem.replace("_", " "))
+        figs.append({"caption": caption, "png": path.read_bytes(), "file": path.name})
     return {"figures": figs, "summary": list(map_result.get("summary", [])),
             "files": (sorted(str(Path(p).relative_to(Path(map_result["out_dir"]))) if map_result.get("out_dir")
                              else Path(p).name for p in map_result.get("paths", {}).values())

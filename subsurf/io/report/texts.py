@@ -78,7 +78,7 @@ MODEL_VALIDITY = {
 
 
 MAP_CAPTIONS = {
-    "png_antennas": "Maximum detectable depth of the target across the site for each antenna (first scenario).",
+    "png_antennas": "Maximum detectable depth of the target across the site for each antenna, scenario {scenario}.",
     "png_scenarios": "How each scenario changes where the target can be reached.",
     "png_inputs": "The soil inputs on the survey grid, with the sample positions.",
 }

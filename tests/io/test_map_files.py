@@ -1,0 +1,30 @@
+"""File names of ``subsurf map``: one depth map per scenario, each scenario's own name in it."""
+
+from __future__ import annotations
+
+from types import SimpleNamespace
+
+from subsurf.io.maps import output_paths, scenario_tags
+
+
+def test_tags_keep_plain_names():
+    """Names made of letters, digits, '-', '_' are used as they are."""
+    assert scenario_tags(["dry", "wet-2024", "base_case"]) == {"dry": "dry", "wet-2024": "wet-2024",
+                                                              "base_case": "base_case"}
+
+
+def test_tags_are_file_safe_and_unique():
+    """Spaces and slashes become '_'; two names that would share a tag each keep a file of their own."""
+    tags = scenario_tags(["late summer/dry", "late summer dry", "wet"])
+    assert all("/" not in t and " " not in t for t in tags.values())
+    assert len(set(tags.values())) == 3
+    assert tags["wet"] == "wet"
+
+
+def test_one_depth_map_per_scenario(tmp_path):
+    """output_paths lists a per-antenna depth map for every scenario, in the survey's order."""
+    survey = SimpleNamespace(scenarios=[SimpleNamespace(name=n) for n in ("spring", "summer", "winter")],
+                             antennas=["a"])
+    paths = output_paths(tmp_path, survey, geotiff=False)
+    names = [p.name for k, p in paths.items() if k.startswith("png_antennas")]
+    assert names == ["map_antennas__spring.png", "map_antennas__summer.png", "map_antennas__winter.png"]
