@@ -161,7 +161,11 @@ def run(args) -> int:
     from ..io.transaction import OutputTransaction
 
     txn = OutputTransaction("depth", force=args.force)
-    staged = {k: txn.file(p) for k, p in (("csv", args.out_csv), ("geojson", args.out_geojson)) if p}
+    from ..io.tables import declare_table
+
+    staged = {"geojson": txn.file(args.out_geojson)} if args.out_geojson else {}
+    if args.out_csv:  # the CSV and its sidecars (CSVW metadata, OGR types; .prj when the picks have coordinates)
+        staged["csv"] = declare_table(txn, args.out_csv, coordinates=None)
     with txn:  # outputs checked and claimed before any work; written together or not at all
         payload, text = _depth(args, staged)
     print_notes(txn.notes, quiet=args.quiet or args.json)
@@ -326,13 +330,23 @@ def _depth(args, staged: dict) -> tuple[dict, str]:
         inputs["crs"] = out_crs.to_string()
     written = []
     if args.out_csv:
-        comments = ["subsurf depth output. CAUTION: " + CAUTION, "velocity: " + velocity_text]
-        if out_crs is not None:
-            comments.append(f"crs: {out_crs.to_string()}")
-        ccols = [(c.key, c.fmt if c.fmt else "") for c in cols]
-        ccols = [(k, ".4f" if k.startswith("depth") or k == "target_elev_m" else f) for k, f in ccols]
-        picks.write_csv(staged["csv"], rows, ccols, force=True, comments=comments)
-        written.append(args.out_csv)
+        from ..io.tables import TableColumn, sidecar_listing, write_table_files
+
+        tcols = []
+        for c in cols:
+            if c.key == "line":
+                tcols.append(TableColumn("line", "survey line", datatype="string", fmt=""))
+            elif c.key == "row":
+                tcols.append(TableColumn("row", "line number in the pick file", datatype="integer"))
+            else:
+                fmt = ".4f" if c.key.startswith("depth") or c.key == "target_elev_m" else c.fmt
+                unit = {"deg": "degree"}.get(c.unit, c.unit)
+                tcols.append(TableColumn(c.key, c.label(), unit, fmt=fmt,
+                                         axis="x" if c.key == xk else "y" if c.key == yk else ""))
+        write_table_files(args.out_csv, rows, tcols, title="subsurf depth: depths from two-way travel times",
+                          crs=out_crs if xs is not None else None, notes=["velocity: " + velocity_text],
+                          force=True, targets=staged["csv"])
+        written += sidecar_listing(args.out_csv, staged["csv"])
     if args.out_geojson:
         props = [{k: v for k, v in r.items() if k not in (xk, yk)} for r in rows]
         picks.write_geojson(staged["geojson"], xs, ys, props, out_crs, force=True,

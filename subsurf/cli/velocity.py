@@ -96,13 +96,35 @@ def _layered_model(fits, cmp_picks, source):
     return model, warnings
 
 
+def _csv_columns() -> dict:
+    """The --out-csv columns: name -> TableColumn (units for the CSVW metadata)."""
+    from ..io.tables import TableColumn as C
+
+    return {c.name: c for c in (
+        C("target", "target id", datatype="string", fmt=""), C("method", "fit method", datatype="string", fmt=""),
+        C("velocity_m_per_ns", "velocity", "m/ns", fmt=".5g"),
+        C("velocity_se_m_per_ns", "velocity standard error", "m/ns", fmt=".5g"),
+        C("permittivity", "relative permittivity (c/v)^2", "1", fmt=".5g"),
+        C("x0_m", "apex position along the line", "m", fmt=".5g"),
+        C("x0_se_m", "apex position standard error", "m", fmt=".5g"),
+        C("t0_ns", "zero-offset two-way time", "ns", fmt=".5g"),
+        C("t0_se_ns", "zero-offset two-way time standard error", "ns", fmt=".5g"),
+        C("depth_m", "depth", "m", fmt=".5g"), C("depth_se_m", "depth standard error", "m", fmt=".5g"),
+        C("radius_m", "target radius", "m", fmt=".5g"), C("radius_se_m", "target radius standard error", "m",
+                                                          fmt=".5g"),
+        C("rms_ns", "rms residual", "ns", fmt=".5g"), C("n_picks", "picks used", datatype="integer"))}
+
+
 def run(args) -> int:
     from ..io.outputs import print_notes, print_result
     from ..io.transaction import OutputTransaction
 
     txn = OutputTransaction("velocity", force=args.force)
-    staged = {k: txn.file(p) for k, p in (("json", args.out_json), ("csv", args.out_csv), ("figure", args.figure))
-              if p}
+    from ..io.tables import declare_table
+
+    staged = {k: txn.file(p) for k, p in (("json", args.out_json), ("figure", args.figure)) if p}
+    if args.out_csv:  # the CSV and its sidecars (CSVW metadata with the units, OGR field types)
+        staged["csv"] = declare_table(txn, args.out_csv, coordinates=False)
     with txn:  # outputs checked and claimed before any work; written together or not at all
         payload, text = _velocity(args, staged)
     print_notes(txn.notes, quiet=args.quiet or args.json)
@@ -243,10 +265,11 @@ def _velocity(args, staged: dict) -> tuple[dict, str]:
         keys = ["target", "method", "velocity_m_per_ns", "velocity_se_m_per_ns", "permittivity", "x0_m", "x0_se_m",
                 "t0_ns", "t0_se_ns", "depth_m", "depth_se_m", "radius_m", "radius_se_m", "rms_ns", "n_picks"]
         keys = [k for k in keys if any(k in r for r in fits)]
-        fmt = {"target": "", "method": "", "n_picks": "d"}
-        picks.write_csv(staged["csv"], fits, [(k, fmt.get(k, ".5g")) for k in keys], force=True,
-                        comments=["subsurf velocity output. CAUTION: " + CAUTION])
-        written.append(args.out_csv)
+        from ..io.tables import sidecar_listing, write_table_files
+
+        write_table_files(args.out_csv, fits, [_csv_columns()[k] for k in keys],
+                          title=f"subsurf velocity: {method} fits of {args.picks}", force=True, targets=staged["csv"])
+        written += sidecar_listing(args.out_csv, staged["csv"])
     if args.out_json:
         import json
 

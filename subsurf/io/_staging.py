@@ -146,6 +146,13 @@ def undo(journal: dict, stage: Path) -> int:
     for m in reversed(journal.get("moves", [])):
         dest, staged = Path(m["dest"]), stage / m["staged"]
         backup = stage / m["backup"] if m.get("backup") else None
+        if m["mode"] == "skip":
+            continue
+        if m["mode"] == "remove":  # an optional file not written this time: its earlier file was removed
+            if backup is not None and backup.exists() and not os.path.lexists(dest):
+                os.replace(backup, dest)
+                undone += 1
+            continue
         if m["mode"] == "merge":
             for rel in reversed(m["files"]):
                 d, b = dest / rel, backup / rel

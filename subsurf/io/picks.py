@@ -1,5 +1,5 @@
 """Pick tables: reading and validating travel-time pick CSV files, coordinate handling
-(pyproj) and writing results as CSV and GeoJSON.  An edge module (files in, files out).
+(pyproj) and writing results as GeoJSON (CSV tables: :mod:`subsurf.io.tables`).  An edge module (files in, files out).
 
 Pick CSV schema (our own; units in the column names; one header row; lines starting
 with ``#`` are comments; ``# crs: EPSG:32633`` in a comment names the coordinates' CRS):
@@ -43,8 +43,8 @@ __all__ = [
     "parse_crs",
     "transform_xy",
     "raise_row_problems",
-    "write_csv",
     "write_geojson",
+    "COORDINATE_DECIMALS",
     "MAX_LISTED",
 ]
 
@@ -260,48 +260,34 @@ def read_picks(path, *, coords_crs=None, kind: str = "depth") -> PickTable:
     return table
 
 
-def _fmt(v, fmt):
-    if v is None:
-        return ""
-    if isinstance(v, (float, np.floating)):
-        return "" if not math.isfinite(v) else format(float(v), fmt)
-    return str(v)
-
-
-def write_csv(path, rows: list[dict], columns: list[tuple[str, str]], *, force: bool = False,
-              comments: list[str] = ()) -> Path:
-    """Write ``rows`` (dicts) as CSV with ``columns`` = [(key, number format)], atomically.
-
-    ``comments`` become leading ``# `` lines (e.g. the caution and the CRS).
-    """
-    import io
-
-    buf = io.StringIO()
-    for c in comments:
-        buf.write(f"# {c}\n")
-    w = csv.writer(buf, lineterminator="\n")
-    w.writerow([k for k, _ in columns])
-    for r in rows:
-        w.writerow([_fmt(r.get(k), f) for k, f in columns])
-    with atomic_path(path, force=force) as tmp:
-        Path(tmp).write_text(buf.getvalue(), encoding="utf-8")
-    return Path(path)
+#: Decimal places of written coordinates.  RFC 7946 §11.2: precision beyond what is
+#: meaningful only adds size; 6 decimals of a degree are about 0.11 m at the equator
+#: (the RFC's own example), and a millimetre is far finer than a GPR pick is placed
+#: (common practice: decimetre positioning from GNSS/total station).
+COORDINATE_DECIMALS = {"geographic": 6, "projected": 3}
 
 
 def write_geojson(path, x, y, properties: list[dict], crs, *, force: bool = False,
                   collection_properties: dict | None = None) -> Path:
     """Write points as a GeoJSON FeatureCollection in ``crs``, atomically.
 
-    Coordinates are written in ``crs`` (easting, northing or longitude, latitude).  When
-    ``crs`` is not WGS 84 the collection carries a named ``crs`` member (as GDAL/QGIS
-    read it); RFC 7946 readers expect WGS 84, so choose EPSG:4326 for strict RFC 7946.
+    Coordinates are written in ``crs`` (easting, northing or longitude, latitude), rounded
+    to :data:`COORDINATE_DECIMALS` (6 decimals of a degree, 3 of a metre).  When ``crs`` is
+    not WGS 84 the collection carries a named ``crs`` member (as GDAL/QGIS read it);
+    RFC 7946 readers expect WGS 84, so choose EPSG:4326 for strict RFC 7946.  Every
+    feature's properties carry the safety caution (a GIS user sees feature attributes,
+    not collection members).
     """
+    from ..safety import CAUTION
     from .outputs import to_jsonable
 
+    decimals = COORDINATE_DECIMALS["geographic" if crs.is_geographic else "projected"]
     feats = []
     for xi, yi, props in zip(np.asarray(x, dtype=float), np.asarray(y, dtype=float), properties):
-        feats.append({"type": "Feature", "geometry": {"type": "Point", "coordinates": [float(xi), float(yi)]},
-                      "properties": to_jsonable(props)})
+        feats.append({"type": "Feature",
+                      "geometry": {"type": "Point", "coordinates": [round(float(xi), decimals),
+                                                                    round(float(yi), decimals)]},
+                      "properties": {**to_jsonable(props), "caution": CAUTION}})
     doc: dict = {"type": "FeatureCollection"}
     epsg = crs.to_epsg()
     if epsg != 4326:

@@ -82,6 +82,7 @@ class _Target:
     foreign_ok: bool = True          # folder: may it hold files of others (merged into)?
     mode: str = "new"                # new | replace (file or whole folder) | merge (files into a folder)
     shown: str = ""                  # the path as the user gave it, for messages
+    optional: bool = False           # file: the command may leave it unwritten (an earlier one is then removed)
 
 
 class OutputTransaction:
@@ -123,9 +124,16 @@ class OutputTransaction:
         self._targets.append(_Target(dest, kind, staged, shown=os.fspath(path), **kw))
         return staged
 
-    def file(self, path) -> Path:
-        """Declare an output file; returns the staged path to write instead."""
-        return self._add(path, "file")
+    def file(self, path, *, optional: bool = False) -> Path:
+        """Declare an output file; returns the staged path to write instead.
+
+        An ``optional`` file is one whose need is known only from the inputs (e.g. the
+        ``.prj`` beside a CSV that turns out to have coordinates): it is checked like any
+        output, and if the command does not write it, an earlier file of that name
+        (replaced with ``force``) is removed at commit, so no stale sidecar of an earlier
+        run is left describing the new output.
+        """
+        return self._add(path, "file", optional=bool(optional))
 
     def folder(self, path, *, own=(), foreign_ok: bool = True) -> Path:
         """Declare an output folder; returns the staged folder to fill instead.
@@ -297,6 +305,8 @@ class OutputTransaction:
     def _seal(self) -> None:
         """Flush staged files, write the folders' manifests (last), check nothing appeared meanwhile."""
         for t in self._targets:
+            if t.optional and not os.path.lexists(t.staged):
+                continue
             if not os.path.lexists(t.staged):
                 raise SubsurfError(f"subsurf {self.command}: the output {t.shown} was declared but not written")
             if t.kind == "folder":
@@ -305,6 +315,8 @@ class OutputTransaction:
                 with open(t.staged, "rb+") as fh:
                     os.fsync(fh.fileno())
         for t in self._targets:  # a writer other than subsurf may have created a destination meanwhile
+            if t.optional and not os.path.lexists(t.staged):
+                continue
             if t.mode == "new" and os.path.lexists(t.dest) and not (t.kind == "folder" and t.dest.is_dir()
                                                                     and not any(t.dest.iterdir())):
                 raise OutputExistsError(f"{t.shown} appeared while subsurf {self.command} was running; nothing "
@@ -312,8 +324,11 @@ class OutputTransaction:
 
     def _plan(self, t: _Target) -> dict:
         stage = self._stages[t.dest.parent]
-        m = {"dest": str(t.dest), "kind": t.kind, "mode": t.mode, "staged": t.staged.name,
-             "backup": f"old-{t.staged.name}" if t.mode != "new" else None}
+        mode = t.mode
+        if t.optional and not os.path.lexists(t.staged):
+            mode = "remove" if t.mode == "replace" else "skip"
+        m = {"dest": str(t.dest), "kind": t.kind, "mode": mode, "staged": t.staged.name,
+             "backup": f"old-{t.staged.name}" if mode not in ("new", "skip") else None}
         if t.mode == "merge":
             m["files"] = files_under(t.staged)
             (stage / m["backup"]).mkdir()
@@ -323,7 +338,12 @@ class OutputTransaction:
         """Move one staged output into place, appending its undo steps to ``undo`` as it goes."""
         stage = self._stages[t.dest.parent]
         backup = stage / f"old-{t.staged.name}"
-        if t.kind == "file":
+        if t.kind == "file" and t.optional and not os.path.lexists(t.staged):
+            if t.mode == "replace" and os.path.lexists(t.dest):  # an earlier run's file: remove, undoably
+                os.link(t.dest, backup)
+                os.unlink(t.dest)
+                undo.append(lambda: os.replace(backup, t.dest))
+        elif t.kind == "file":
             if t.mode == "replace" and os.path.lexists(t.dest):
                 os.link(t.dest, backup)
                 os.replace(t.staged, t.dest)

@@ -35,8 +35,86 @@ def test_depth_table_writes_csv_and_geojson(tmp_path):
     p = f0["properties"]
     assert p["target_elev_m"] == pytest.approx(p["surface_elev_m"] - p["depth_m"])
     assert "excavation" in gj["caution"]
-    csv_text = (tmp_path / "d.csv").read_text()
-    assert "CAUTION" in csv_text and "depth_sd_m" in csv_text
+    import pandas as pd
+
+    from subsurf.safety import CAUTION
+
+    df = pd.read_csv(tmp_path / "d.csv")  # no options: no comment line above the header
+    assert "depth_sd_m" in df.columns and (df["caution"] == CAUTION).all()
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["d.csv", "d.csv-metadata.json", "d.csvt", "d.geojson",
+                                                          "d.prj"]
+
+
+def test_depth_csv_opens_in_pandas_csvw_and_ogr(tmp_path):
+    """depths.csv: pandas reads numbers with no options and they match √((v·τ/2)² − (x/2)²) for the example's
+    times; the CSVW metadata names every column with its unit; OGR reads points in the picks' CRS."""
+    import csv
+
+    import pandas as pd
+    from pyproj import CRS
+
+    from subsurf.safety import CAUTION
+
+    r = _run("depth", "--picks", str(EXAMPLES / "fictional_utility_picks.csv"), "--velocity", "0.095",
+             "--time-zero", "2", "--offset", "0.14", "--out-csv", "depths.csv", "--json", cwd=tmp_path)
+    assert r.returncode == 0, r.stderr
+    assert json.loads(r.stdout)["written"] == ["depths.csv", "depths.csv-metadata.json", "depths.csvt",
+                                               "depths.prj"]
+    df = pd.read_csv(tmp_path / "depths.csv")
+    for c in ("twt_ns", "depth_m", "depth_sd_m", "easting_m", "northing_m"):
+        assert df[c].dtype.kind == "f", c
+    assert df["row"].dtype.kind == "i"
+    with open(EXAMPLES / "fictional_utility_picks.csv", encoding="utf-8") as fh:
+        twt = [float(row["twt_ns"]) for row in csv.DictReader(ln for ln in fh if not ln.startswith("#"))]
+    # common-midpoint geometry: d = sqrt((v·(t − t0)/2)² − (x/2)²), v in m/ns, t in ns (textbook two-way time)
+    expected = [((0.095 * (t - 2) / 2) ** 2 - 0.07**2) ** 0.5 for t in twt]
+    assert df["depth_m"].tolist() == pytest.approx(expected, abs=5e-5)  # written to 4 decimals
+    meta = json.loads((tmp_path / "depths.csv-metadata.json").read_text(encoding="utf-8"))
+    assert meta["url"] == "depths.csv" and CAUTION in meta["dc:description"]
+    cols = {c["name"]: c for c in meta["tableSchema"]["columns"]}
+    assert list(cols) == list(df.columns)
+    assert cols["depth_m"]["schema:unitText"] == "m" and cols["twt_ns"]["schema:unitText"] == "ns"
+    assert any("velocity: 0.095" in n for n in meta["rdfs:comment"])
+    try:
+        from pyogrio.raw import read
+    except ImportError:
+        print("pyogrio not installed: OGR read of depths.csv skipped")
+        return
+    info, _, geometry, _ = read(tmp_path / "depths.csv")
+    assert CRS.from_user_input(info["crs"]).to_epsg() == 32633  # the '# crs:' of the picks, now in depths.prj
+    assert len(geometry) == len(df)
+
+
+def test_depth_geojson_rounded_and_caution_per_feature(tmp_path):
+    """GeoJSON coordinates carry at most 6 decimals in degrees / 3 in metres (RFC 7946 §11.2) and every
+    feature's properties carry the caution."""
+    from subsurf.safety import CAUTION
+
+    for crs, decimals in (("EPSG:4326", 6), ("EPSG:32633", 3)):
+        name = f"p{decimals}.geojson"
+        r = _run("depth", "--picks", str(EXAMPLES / "fictional_lonlat_picks.csv"), "--velocity", "0.1",
+                 "--crs", crs, "--out-geojson", name, cwd=tmp_path)
+        assert r.returncode == 0, r.stderr
+        doc = json.loads((tmp_path / name).read_text(encoding="utf-8"))
+        assert doc["features"]
+        for f in doc["features"]:
+            assert f["properties"]["caution"] == CAUTION
+            for v in f["geometry"]["coordinates"]:
+                assert round(v, decimals) == v
+                text = repr(v)
+                assert "e" not in text and len(text.split(".")[1]) <= decimals, text
+
+
+def test_depth_rerun_without_coordinates_removes_earlier_prj(tmp_path):
+    """--force over an earlier depths.csv with coordinates: the new table has none, so its stale .prj goes."""
+    picks = EXAMPLES / "fictional_utility_picks.csv"
+    r = _run("depth", "--picks", str(picks), "--velocity", "0.1", "--out-csv", "d.csv", cwd=tmp_path)
+    assert r.returncode == 0 and (tmp_path / "d.prj").exists()
+    r = _run("depth", "--picks", str(picks), "--velocity", "0.1", "--out-csv", "d.csv", cwd=tmp_path)
+    assert r.returncode == 3  # the sidecars are outputs too: not overwritten without --force
+    r = _run("depth", "--twt", "20 ns", "--velocity", "0.1", "--out-csv", "d.csv", "--force", cwd=tmp_path)
+    assert r.returncode == 0, r.stderr
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["d.csv", "d.csv-metadata.json", "d.csvt"]
 
 
 def test_depth_reprojects_to_survey_crs(tmp_path):
@@ -103,6 +181,24 @@ def test_velocity_hyperbola_example(tmp_path):
     assert any(d["row"] == 7 for d in fits[0]["downweighted"])  # the deliberate mis-pick
     assert (tmp_path / "f.png").read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
     assert json.loads((tmp_path / "f.json").read_text())["fits"][0]["target"] == "P1"
+
+
+def test_velocity_csv_opens_in_pandas_with_units_beside_it(tmp_path):
+    """velocity --out-csv: pandas reads the fits with no options (same numbers as the JSON), the CSVW
+    metadata gives m/ns for the velocity columns; no .prj (no coordinates)."""
+    import pandas as pd
+
+    r = _run("velocity", "--picks", str(EXAMPLES / "fictional_hyperbolas.csv"), "--offset", "0.14",
+             "--out-csv", "v.csv", "--json", cwd=tmp_path)
+    assert r.returncode == 0, r.stderr
+    fits = json.loads(r.stdout)["fits"]
+    df = pd.read_csv(tmp_path / "v.csv")
+    assert df["velocity_m_per_ns"].dtype.kind == "f" and df["n_picks"].dtype.kind == "i"
+    assert df["velocity_m_per_ns"].tolist() == pytest.approx([f["velocity_m_per_ns"] for f in fits], rel=1e-4)
+    meta = json.loads((tmp_path / "v.csv-metadata.json").read_text(encoding="utf-8"))
+    units = {c["name"]: c.get("schema:unitText") for c in meta["tableSchema"]["columns"]}
+    assert list(units) == list(df.columns) and units["velocity_m_per_ns"] == "m/ns"
+    assert not (tmp_path / "v.prj").exists()
 
 
 def test_velocity_cmp_dix():

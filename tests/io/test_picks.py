@@ -6,8 +6,8 @@ import numpy as np
 import pytest
 from pyproj import Transformer
 
-from subsurf.errors import FileInputError, InputError, OutputExistsError
-from subsurf.io.picks import parse_crs, read_picks, transform_xy, write_csv
+from subsurf.errors import FileInputError, InputError
+from subsurf.io.picks import parse_crs, read_picks, transform_xy
 
 EXAMPLES = Path(__file__).resolve().parents[2] / "surveys" / "picks"
 
@@ -74,14 +74,3 @@ def test_coordinates_need_a_crs(tmp_path):
     p.write_text("line,easting_m,northing_m,twt_ns\nA,1,2,10\n")
     with pytest.raises(FileInputError, match="--coords-crs"):
         read_picks(p)
-
-
-def test_write_csv_refuses_overwrite(tmp_path):
-    """An existing output is kept unless force is given."""
-    p = tmp_path / "out.csv"
-    p.write_text("keep")
-    with pytest.raises(OutputExistsError):
-        write_csv(p, [{"a": 1.0}], [("a", ".2f")])
-    assert p.read_text() == "keep"
-    write_csv(p, [{"a": 1.0}], [("a", ".2f")], force=True)
-    assert p.read_text() == "a\n1.00\n"

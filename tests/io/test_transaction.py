@@ -201,3 +201,26 @@ def test_journal_names_the_run(tmp_path):
         j = json.loads((stage / "journal.json").read_text())
         assert j["command"] == "region" and j["pid"] == os.getpid() and j["destinations"] == [str(tmp_path / "m.nc")]
         t._targets[0].staged.write_text("1")
+
+
+def test_optional_file_left_unwritten(tmp_path):
+    """An optional output the command does not write is no error; with force an earlier file of that name
+    is removed at commit (no stale sidecar), and kept when the run fails."""
+    (tmp_path / "a.prj").write_text("old")
+    txn = OutputTransaction("t", force=True)
+    a, b = txn.file(tmp_path / "a.csv"), txn.file(tmp_path / "a.prj", optional=True)
+    with pytest.raises(RuntimeError), txn:
+        a.write_text("1")
+        raise RuntimeError("boom")
+    assert _listing(tmp_path) == ["a.prj"] and (tmp_path / "a.prj").read_text() == "old"
+    txn = OutputTransaction("t", force=True)
+    a, b = txn.file(tmp_path / "a.csv"), txn.file(tmp_path / "a.prj", optional=True)
+    with txn:
+        a.write_text("1")
+    assert _listing(tmp_path) == ["a.csv"]
+    txn = OutputTransaction("t")
+    a, b = txn.file(tmp_path / "b.csv"), txn.file(tmp_path / "b.prj", optional=True)
+    with txn:
+        a.write_text("2")
+        b.write_text("crs")
+    assert _listing(tmp_path) == ["a.csv", "b.csv", "b.prj"]
