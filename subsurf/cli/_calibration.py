@@ -132,8 +132,8 @@ def replan_inputs(args, medium, antennas):
 
 def add_model_columns(rows, model_rows) -> None:
     """Beside each calibrated row, the soil model's maximum depth and margin (prediction vs site)."""
-    by_name = {r["name"]: r for r in model_rows}
+    by_name = {r["antenna"]: r for r in model_rows}
     for r in rows:
-        m = by_name.get(r["name"])
+        m = by_name.get(r["antenna"])
         r["model_max_depth_m"] = None if m is None else m["max_depth_m"]
         r["model_margin_db"] = None if m is None else m["margin_db"]

@@ -134,8 +134,8 @@ def add_arguments(parser) -> None:
 
 
 COLUMNS_SPEC = [
-    ("name", "antenna", "", ""),
-    ("freq_mhz", "f", "MHz", ".4g"),
+    ("antenna", "antenna", "", ""),
+    ("centre_frequency_mhz", "f", "MHz", ".4g"),
     ("performance_db", "perf", "dB", ".0f"),
     ("min_depth_m", "min depth", "m", ".2g"),
     ("max_depth_m", "max depth", "m", ".3g"),
@@ -152,6 +152,7 @@ def compute(medium, target, antennas, *, surface_loss_db=None, layers=()) -> dic
     """Rows (human units) and recommendation for ``target`` in ``medium`` (under ``layers``)."""
     from ..detection.blindzone import NEAR_FIELD_WAVELENGTHS
     from ..detection.verdicts import REACHES_MARGIN_DB, reach_definition
+    from ..io.jsonstyle import soil_facts_json
     from ..planning.antennas import rank_antennas, recommend, target_summary
     from ..safety import CAUTION
 
@@ -159,8 +160,8 @@ def compute(medium, target, antennas, *, surface_loss_db=None, layers=()) -> dic
     rows = []
     for r in rows_si:
         row = {
-            "name": r["name"],
-            "freq_mhz": r["centre_freq_hz"] / 1e6,
+            "antenna": r["name"],
+            "centre_frequency_mhz": r["centre_freq_hz"] / 1e6,
             "performance_db": r["performance_db"],
             "stacks": r["stacks"],
             "eps_real": r["eps_real"],
@@ -186,7 +187,7 @@ def compute(medium, target, antennas, *, surface_loss_db=None, layers=()) -> dic
     name, reason = recommend(rows_si)
     return {
         "ground": medium.label,
-        "facts": medium.facts,
+        "facts": soil_facts_json(medium.facts),
         "layers": [{"thickness_m": lay.thickness_m, "material": lay.label, "eps_real": complex(lay.eps).real,
                     "sigma_ms_per_m": lay.sigma * 1e3} for lay in layers],
         "target": target_summary(target),
@@ -243,7 +244,7 @@ def run(args) -> int:
     text += f"\nverdict: {result['reach_definition']}."
     text += ("\nperf includes the clutter-limited stacking gain; min depth = blind zone (pulse length, separation, "
              "direct wave); f at depth and vert res (λ/4) from the spectrum received from the target depth.")
-    near = [r["name"] for r in result["rows"] if r["near_field"]]
+    near = [r["antenna"] for r in result["rows"] if r["near_field"]]
     if near:
         text += (f"\nNear field: the target is within {result['thresholds']['near_field_wavelengths']:g} wavelength "
                  f"of {', '.join(near)}; the far-field budget departs from a full-wave solution by more than 2 dB there.")
@@ -251,7 +252,7 @@ def run(args) -> int:
     if pen and t.get("orientation", "parallel") == "parallel":
         worst = max(pen, key=lambda r: r["orientation_penalty_db"])
         text += (f"\nOrientation: assumes the antenna dipoles parallel to the pipe; across it the return is up to "
-                 f"{worst['orientation_penalty_db']:.1f} dB weaker ({worst['name']}); use --orientation unknown "
+                 f"{worst['orientation_penalty_db']:.1f} dB weaker ({worst['antenna']}); use --orientation unknown "
                  "if the pipe direction is not known.")
     if any(r["illustrative"] for r in result["rows"]):
         text += "\nCatalogue figures are ILLUSTRATIVE demo values; use your instrument's measured figures."

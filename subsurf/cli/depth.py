@@ -320,7 +320,15 @@ def _depth(args, staged: dict) -> tuple[dict, str]:
     if any("target_elev_m" in r for r in rows):
         cols += [Column("surface_elev_m", "surface", "m", ".2f"), Column("target_elev_m", "target elev.", "m", ".3f")]
 
-    inputs = {"velocity": velocity_text, "offset_m": offset, "time_zero_ns": tz * 1e9, "time_zero_source": tz_source,
+    if mode == "homogeneous":
+        v_json = {"velocity_m_per_ns": model * 1e-9, "velocity_se_m_per_ns": v_se * 1e-9, "layers": []}
+    else:  # layered: one entry per layer, the last the half-space below (thickness null)
+        v_json = {"velocity_m_per_ns": None, "velocity_se_m_per_ns": None,
+                  "layers": [{"thickness_m": float(h) if math.isfinite(h) else None,
+                              "velocity_m_per_ns": float(v) * 1e-9, "velocity_se_m_per_ns": float(s) * 1e-9}
+                             for v, s, h in zip(model.velocity, model.velocity_se,
+                                                list(model.thickness) + [math.inf])]}
+    inputs = {"velocity_model": mode, **v_json, "velocity_source": v_source, "offset_m": offset, "time_zero_ns": tz * 1e9, "time_zero_source": tz_source,
               "time_zero_sd_ns": tz_sd * 1e9, "pick_sd_default_ns": pick_sd_default * 1e9,
               "uncertainty": "first order (linearised), "
               + ("layer parameters with their covariance, pick and time zero independent"

@@ -23,6 +23,7 @@ def compute(medium, freqs_hz) -> dict:
     """Wave-property rows (human units) for ``medium`` at ``freqs_hz``."""
     import numpy as np
 
+    from ..io.jsonstyle import soil_facts_json
     from ..waves.attenuation import medium_loss_by_mechanism
     from ..waves.propagation import wave_properties
 
@@ -30,31 +31,26 @@ def compute(medium, freqs_hz) -> dict:
     eps, sigma = medium.electrical(f)
     w = wave_properties(eps, sigma, f)
     loss = medium_loss_by_mechanism(medium, f)
+    in_eps = bool(getattr(medium.soil, "conduction_in_eps", False))
     rows = []
     for i in range(f.size):
         rows.append({
             "freq_mhz": f[i] / 1e6,
             "eps_real": float(w.eps_real[i]),
             "eps_imag": float(w.eps_imag[i]),
-            "sigma_dc_ms_per_m": float(w.sigma[i]) * 1e3,
+            # a model whose ε'' carries conduction has no separate σ_DC (null, not a misleading 0)
+            "sigma_dc_ms_per_m": None if in_eps else float(w.sigma[i]) * 1e3,
             "sigma_eff_ms_per_m": float(w.effective_conductivity[i]) * 1e3,
             "loss_tangent": float(w.loss_tangent[i]),
             "velocity_m_per_ns": float(w.velocity[i]) / 1e9,
             "wavelength_m": float(w.wavelength[i]),
             "attenuation_db_per_m": float(w.attenuation_db_per_m[i]),
             "skin_depth_m": float(w.skin_depth[i]),
-            "loss_db_per_m": {k: float(np.ravel(v)[i]) for k, v in loss.items()},
+            **{f"loss_{k}_db_per_m": float(np.ravel(v)[i]) for k, v in loss.items()},
         })
-        rows[-1].update({f"loss_{k}_db_per_m": v for k, v in rows[-1]["loss_db_per_m"].items()})
-    return {"medium": medium.label, "facts": _json_facts(medium.facts), "rows": rows,
-            "conduction_in_eps": bool(getattr(medium.soil, "conduction_in_eps", False)),
+    return {"medium": medium.label, "facts": soil_facts_json(medium.facts), "rows": rows,
+            "conduction_in_eps": in_eps,
             "loss_note": medium.loss_note}
-
-
-def _json_facts(facts: dict) -> dict:
-    import math
-
-    return {k: (None if isinstance(v, float) and not math.isfinite(v) else v) for k, v in facts.items()}
 
 
 COLUMNS_SPEC = [

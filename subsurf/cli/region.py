@@ -82,11 +82,11 @@ def _need_dask():
 
 COLUMNS_SPEC = [
     ("antenna", "antenna", "", ""),
-    ("freq_mhz", "f", "MHz", ".4g"),
-    ("reach_percent", "reaches", "% of cells", ".1f"),
-    ("marginal_or_better_percent", "margin >= 0 dB", "% of cells", ".1f"),
+    ("centre_frequency_mhz", "f", "MHz", ".4g"),
+    ("reach_pct", "reaches", "% of cells", ".1f"),
+    ("marginal_or_better_pct", "margin >= 0 dB", "% of cells", ".1f"),
     ("mean_max_depth_m", "mean max depth", "m", ".3g"),
-    ("recommended_percent", "recommended", "% of cells", ".1f"),
+    ("recommended_pct", "recommended", "% of cells", ".1f"),
 ]
 
 
@@ -175,13 +175,13 @@ def run(args) -> int:
         else:
             source = str(args.soil)
         payload = {"soil": source, "cells": nx * ny, "shape": {"y": ny, "x": nx}, "chunk": args.chunk,
-                   "estimate": {"memory_bytes": est.memory_bytes, "seconds": est.seconds,
+                   "estimate": {"memory_bytes": est.memory_bytes, "duration_s": est.seconds,
                                 "output_bytes": est.output_bytes}, "outputs": {}}
         t0 = time.perf_counter()
         if args.write_soil:
             write_soil(soil, staged_soil, force=True)
             payload["outputs"]["soil"] = str(args.write_soil)
-            payload["soil_write_seconds"] = time.perf_counter() - t0
+            payload["soil_write_duration_s"] = time.perf_counter() - t0
         if args.out:
             payload.update(map_region(soil, antennas, staged_map, target=target, target_depth_m=depth,
                                       texture=args.texture, model=args.model, layers=layers,
@@ -205,18 +205,18 @@ def summary_text(payload: dict, args) -> str:
     nx, ny = payload["shape"]["x"], payload["shape"]["y"]
     lines = [f"Soil: {payload['soil']}; {nx} x {ny} = {nx * ny:,} cells, chunk {args.chunk}"]
     if args.write_soil:
-        lines.append(f"Wrote synthetic soil raster {args.write_soil} ({payload['soil_write_seconds']:.1f} s)")
+        lines.append(f"Wrote synthetic soil raster {args.write_soil} ({payload['soil_write_duration_s']:.1f} s)")
     if args.out:
         t = payload["target"]
         what = f"{t['kind']} target, {t['material']}" + (f", {t['size_m']:g} m across" if t["size_m"] else "")
         lines.append(f"Target: {what}, at {t['depth_m']:g} m; ground: {args.model} model, texture {args.texture}")
         lines.append(f"Computed on {payload['scheduler']}: {payload['tiles']} tiles in "
-                     f"{payload['map_seconds']:.1f} s ({payload['cells_per_second']:,.0f} cells/s)")
+                     f"{payload['map_duration_s']:.1f} s ({payload['cells_per_second']:,.0f} cells/s)")
         lines.append(format_table(payload["rows"], [Column(*c) for c in COLUMNS_SPEC]))
         lines.append(f"Percentages of the {payload['cells_with_data']:,} cells with soil data; reaches = "
                      f"margin >= {REACHES_MARGIN_DB:g} dB (the threshold of every subsurf output); 'margin >= 0 dB' "
                      f"also counts marginal cells; no antenna with margin >= 0 dB: "
-                     f"{payload['no_antenna_reaches_percent']:.1f} %.")
+                     f"{payload['no_antenna_marginal_or_better_pct']:.1f} %.")
         lines.append(f"Wrote {args.out}")
     lines.append(f"Caution: {CAUTION}")
     return "\n".join(lines)

@@ -38,9 +38,8 @@ def summary_text(summary: dict) -> str:
     if summary["recommended"]:
         lines.append(f"Recommended antenna: {summary['recommended']}")
     lines.append(f"Reason: {summary['reason']}")
-    v = summary["velocity_m_per_s"] * 1e-9
-    lines.append(f"Ground velocity (site median): {v:.3f} m/ns "
-                 f"(5-95 %: {summary['velocity_p05_m_per_s'] * 1e-9:.3f}-{summary['velocity_p95_m_per_s'] * 1e-9:.3f})")
+    lines.append(f"Ground velocity (site median): {summary['velocity_m_per_ns']:.3f} m/ns "
+                 f"(5-95 %: {summary['velocity_p05_m_per_ns']:.3f}-{summary['velocity_p95_m_per_ns']:.3f})")
     if summary["warnings"]:
         lines.append(f"{len(summary['warnings'])} model warning(s) are listed in the report.")
     lines.append("Caution: " + summary["caution"])

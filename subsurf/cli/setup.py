@@ -64,6 +64,9 @@ def run(args) -> int:
         result = acquisition_for_antenna(medium, antenna, target=target, depth_m=depth, surface_loss_db=surface,
                                          stacks=args.stacks, area_m2=area, line_length_m=line_length,
                                          speed_m_per_s=speed, imaging=args.grid_3d, layers=layers_from_args(args))
+    from ..io.jsonstyle import soil_facts_json
+
+    result["facts"] = soil_facts_json(result["facts"])
     result["warnings"] = warns
     result["calibration"] = calibration
     rows = [{"setting": label, "value": result["settings"][k], "unit": unit, "rule": rule, "_fmt": fmt}

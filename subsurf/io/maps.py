@@ -31,8 +31,8 @@ OWN_FILES = (NETCDF_NAME, f"{SUMMARY_STEM}.*", "map_*.png", "geotiff/*.tif")
 #: summary columns: row key, header, unit, number format ("s": text)
 SUMMARY_COLUMNS = (
     ("scenario", "scenario", "", "s"), ("antenna", "antenna", "", "s"),
-    ("centre_frequency_mhz", "f_c", "MHz", ".0f"), ("reach_pct", "reaches", "% area", ".0f"),
-    ("reach_headroom_pct", f"reaches +{REACHES_MARGIN_DB:g} dB", "% area", ".0f"),
+    ("centre_frequency_mhz", "f_c", "MHz", ".0f"), ("reach_pct", f"reaches (+{REACHES_MARGIN_DB:g} dB)", "% area", ".0f"),
+    ("marginal_or_better_pct", "margin >= 0 dB", "% area", ".0f"),
     ("expected_reach_pct", "mean P(reach)", "%", ".0f"), ("reach_p90_pct", "P(reach)>=0.9", "% area", ".0f"),
     ("median_max_depth_m", "median max depth", "m", ".2f"), ("recommended_pct", "recommended", "% area", ".0f"),
 )

@@ -132,10 +132,11 @@ def map_region(soil, antennas, out, *, target, target_depth_m: float, texture: s
     -------
     dict
         ``target`` (its summary), ``scheduler``, ``tiles``, ``batch``, ``cells_with_data``,
-        ``map_seconds``, ``cells_per_second``, ``thresholds``, ``rows`` (per antenna:
-        ``freq_mhz``, ``reach_percent`` margin ≥ the reach threshold (``reaches``),
-        ``marginal_or_better_percent`` margin ≥ 0 dB, ``mean_max_depth_m``, ``recommended_percent``) and
-        ``no_antenna_reaches_percent``, percentages of the cells with soil data.
+        ``map_duration_s``, ``cells_per_second``, ``thresholds``, ``rows`` (per antenna:
+        ``centre_frequency_mhz``, ``reach_pct`` margin ≥ the reach threshold (``reaches``),
+        ``marginal_or_better_pct`` margin ≥ 0 dB, ``mean_max_depth_m``, ``recommended_pct``) and
+        ``no_antenna_marginal_or_better_pct``, percentages of the cells with soil data (the keys
+        ``subsurf map`` uses for the same quantities).
     """
     from ..detection.verdicts import REACHES_MARGIN_DB
     from ..planning.antennas import target_summary
@@ -155,17 +156,17 @@ def map_region(soil, antennas, out, *, target, target_depth_m: float, texture: s
         close()
     seconds = time.perf_counter() - t1
     freqs = {a.name: a.centre_freq_hz for a in antennas}
-    rows = [{"antenna": r["antenna"], "freq_mhz": freqs[r["antenna"]] / 1e6,
-             "reach_percent": 100 * r["reach_with_headroom_fraction"],  # the one "reaches" (verdicts)
-             "marginal_or_better_percent": 100 * r["reach_fraction"],
+    rows = [{"antenna": r["antenna"], "centre_frequency_mhz": freqs[r["antenna"]] / 1e6,
+             "reach_pct": 100 * r["reach_with_headroom_fraction"],  # the one "reaches" (verdicts)
+             "marginal_or_better_pct": 100 * r["reach_fraction"],
              "mean_max_depth_m": r["mean_max_depth_m"],
-             "recommended_percent": 100 * r["recommended_fraction"]} for r in summary.rows()]
+             "recommended_pct": 100 * r["recommended_fraction"]} for r in summary.rows()]
     none = summary.recommended[0] / max(summary.cells_with_data, 1)
     return {
         "target": target_summary(target), "texture": texture, "soil_model": model,
         "scheduler": sched["scheduler"], "tiles": summary.tiles, "batch": batch,
-        "cells_with_data": summary.cells_with_data, "map_seconds": seconds,
+        "cells_with_data": summary.cells_with_data, "map_duration_s": seconds,
         "cells_per_second": summary.cells / seconds if seconds > 0 else None,
-        "thresholds": {"reaches_margin_db": 0.0, "headroom_margin_db": REACHES_MARGIN_DB},
-        "rows": rows, "no_antenna_reaches_percent": 100 * none,
+        "thresholds": {"reaches_margin_db": REACHES_MARGIN_DB, "marginal_margin_db": 0.0},
+        "rows": rows, "no_antenna_marginal_or_better_pct": 100 * none,
     }

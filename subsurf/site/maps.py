@@ -172,8 +172,8 @@ def compute_maps(survey, *, quiet: bool = True) -> FeasibilityMaps:
 def summary_rows(maps: FeasibilityMaps) -> list[dict]:
     """Area fractions per scenario and antenna, in percent of the cells inside the site.
 
-    Keys: ``scenario``, ``antenna``, ``centre_frequency_mhz``, ``reach_pct`` (margin ≥ 0),
-    ``reach_headroom_pct`` (margin ≥ the reach threshold, :data:`subsurf.detection.verdicts.REACHES_MARGIN_DB`), ``expected_reach_pct``
+    Keys: ``scenario``, ``antenna``, ``centre_frequency_mhz``, ``marginal_or_better_pct`` (margin ≥ 0),
+    ``reach_pct`` (margin ≥ the reach threshold, :data:`subsurf.detection.verdicts.REACHES_MARGIN_DB`), ``expected_reach_pct``
     (mean reach probability), ``reach_p90_pct`` (probability ≥ 0.9), ``median_max_depth_m``
     and ``recommended_pct`` (area where the antenna is the recommended one).
     """
@@ -188,8 +188,8 @@ def summary_rows(maps: FeasibilityMaps) -> list[dict]:
             md = ds["max_depth"].values[si, ai][inside]
             rows.append({
                 "scenario": sc.name, "antenna": a.name, "centre_frequency_mhz": a.centre_freq_hz / 1e6,
-                "reach_pct": 100 * float(fr["reach"][ai]),
-                "reach_headroom_pct": 100 * float(fr["reach_with_headroom"][ai]),
+                "marginal_or_better_pct": 100 * float(fr["reach"][ai]),
+                "reach_pct": 100 * float(fr["reach_with_headroom"][ai]),
                 "expected_reach_pct": 100 * float(fr["expected_reach"][ai]),
                 "reach_p90_pct": 100 * float(fr["reach_p90"][ai]),
                 "median_max_depth_m": float(np.median(md)),

@@ -100,7 +100,9 @@ class Survey:
     variogram: str = "exponential"  # variogram model family for kriging
 
     def describe(self) -> dict:
-        """Plain summary of the inputs for reports and JSON (no arrays)."""
+        """Plain summary of the inputs for reports and JSON (no arrays; defaults under keys with units)."""
+        from ..io.jsonstyle import soil_values_json
+
         return {
             "survey": str(self.path),
             "name": self.name,
@@ -114,7 +116,8 @@ class Survey:
             "interpolation": self.interpolation,
             "variogram": self.variogram,
             "texture": self.texture,
-            "defaults": dict(self.defaults),
+            "defaults": soil_values_json({**self.defaults,
+                                          **{k + "_sd": v for k, v in self.default_sd.items()}}),
             "samples": [{"file": str(s.path), "count": int(s.x.size), "quantities": sorted(s.values)}
                         for s in self.samples],
             "zones": [{"file": str(z.path), "names": list(z.names)} for z in self.zones],

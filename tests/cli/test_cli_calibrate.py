@@ -80,7 +80,7 @@ def test_choose_with_calibration_says_so(calibration):
     out = json.loads(js.stdout)
     assert out["calibration"]["file"] == str(path)
     rec = json.loads(path.read_text())
-    row = next(r for r in out["rows"] if r["name"] == "midband-250")
+    row = next(r for r in out["rows"] if r["antenna"] == "midband-250")
     stacks = rec["effective_performance"]["stacks"]
     from subsurf.planning.antennas import CLUTTER_LIMIT_DB, clutter_limited_stacking_gain_db
 

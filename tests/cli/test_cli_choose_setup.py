@@ -104,7 +104,7 @@ def test_blind_zone_case_no_longer_reaches():
     p = run("choose", "--eps", "9", "--sigma", "5", "--target", "line", "--depth", "0.05", "--size", "0.02", "--json")
     assert p.returncode == 0, p.stderr
     out = json.loads(p.stdout)
-    low = next(r for r in out["rows"] if r["name"] == "lowband-50")
+    low = next(r for r in out["rows"] if r["antenna"] == "lowband-50")
     # hand calculation: v = c/3 = 0.0999 m/ns, τ = 30 ns, x = 2 m -> d_min = ½√(3.0·(4 + 3.0)) = 2.29 m
     assert low["verdict"] == "too shallow" and low["min_depth_m"] == pytest.approx(2.29, abs=0.02)
     assert all(r["verdict"] != "reaches" for r in out["rows"]) and out["recommendation"]["antenna"] is None

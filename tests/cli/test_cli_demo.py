@@ -51,7 +51,7 @@ def test_demo_summary_json_has_caution_and_ranking(demo):
     data = json.loads((cwd / "subsurf-demo" / "summary.json").read_text(encoding="utf-8"))
     assert data["caution"] == CAUTION
     assert "reason" in data and data["reason"]
-    assert {r["name"] for r in data["ranking"]} == {"lowband-100", "midband-250", "midband-500", "highband-1000"}
+    assert {r["antenna"] for r in data["ranking"]} == {"lowband-100", "midband-250", "midband-500", "highband-1000"}
 
 
 def test_demo_report_embeds_the_maps(demo):
@@ -120,7 +120,7 @@ def test_demo_report_site_sentence_uses_the_6db_rule(demo):
     rows = json.loads((cwd / "subsurf-demo" / "maps" / "summary.json").read_text(encoding="utf-8"))["summary"]
     page = (cwd / "subsurf-demo" / "report.html").read_text(encoding="utf-8")
     for sc in ("dry", "wet"):
-        best = max(r["reach_headroom_pct"] for r in rows if r["scenario"] == sc)
+        best = max(r["reach_pct"] for r in rows if r["scenario"] == sc)
         m = re.search(rf"{sc}: \S+ reaches the target with 6 dB to spare over (\d+) %", page)
         assert m and int(m.group(1)) == round(best), sc
 

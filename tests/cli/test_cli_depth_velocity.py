@@ -278,7 +278,7 @@ def test_cmp_layered_model_feeds_depth(tmp_path):
     pick = out["picks"][0]
     assert abs(pick["depth_m"] - 7.5) < 0.03 * 7.5
     assert abs(pick["depth_m"] - 7.5) < 3 * pick["depth_sd_m"]  # one seeded draw: 3-sd bar
-    assert "layered model of 2 layers" in out["inputs"]["velocity"] and "covariance" in out["inputs"]["uncertainty"]
+    assert "layered model of 2 layers" in out["inputs"]["velocity_source"] and "covariance" in out["inputs"]["uncertainty"]
 
 
 def test_velocity_from_multi_cmp_without_model_refused(tmp_path):
@@ -304,3 +304,14 @@ def test_fitted_radius_flag_shown(tmp_path):
     assert r.returncode == 0, r.stderr
     flags = json.loads(r.stdout)["fits"][0]["flags"]
     assert any(f.startswith("radius poorly constrained") for f in flags)
+
+
+def test_depth_json_gives_velocity_as_numbers():
+    """The velocity used is a number and its standard error another (m/ns), not a '0.1 ± 0.003' string."""
+    res = subprocess.run([sys.executable, "-m", "subsurf", "depth", "--twt", "20", "--velocity", "0.1 m/ns",
+                          "--velocity-se", "3 mm/ns", "--json"], capture_output=True, text=True, timeout=120)
+    assert res.returncode == 0, res.stderr
+    inputs = json.loads(res.stdout)["inputs"]
+    assert inputs["velocity_m_per_ns"] == pytest.approx(0.1, rel=1e-12)
+    assert inputs["velocity_se_m_per_ns"] == pytest.approx(0.003, rel=1e-12)  # 3 mm/ns = 0.003 m/ns
+    assert inputs["velocity_source"] == "--velocity" and inputs["velocity_model"] == "homogeneous"

@@ -128,7 +128,8 @@ def test_medium_json_has_loss_per_mechanism_summing_to_total():
             "--freq", "100", "--freq", "1000", "--json")
     assert p.returncode == 0, p.stderr
     for row in json.loads(p.stdout)["rows"]:
-        loss = row["loss_db_per_m"]
+        loss = {k: row[f"loss_{k}_db_per_m"]
+                for k in ("conduction", "water_relaxation", "interface_relaxation", "scattering", "total")}
         parts = loss["conduction"] + loss["water_relaxation"] + loss["interface_relaxation"] + loss["scattering"]
         assert parts == pytest.approx(loss["total"], rel=1e-12)
         assert loss["total"] - loss["scattering"] == pytest.approx(row["attenuation_db_per_m"], rel=1e-12)
@@ -193,3 +194,24 @@ def test_bad_loss_input_is_one_line_exit_1(args, flag):
     assert p.stdout == ""
     lines = p.stderr.strip().splitlines()
     assert len(lines) == 1 and flag in lines[0], p.stderr
+
+
+def test_medium_json_facts_carry_their_unit_in_the_key():
+    """Facts as typed come back in the unit their key names: 1.4 g/cm³ = 1400 kg/m³ (SI definition), 30 mS/m, 12 %."""
+    p = run("medium", "--texture", "loam", "--moisture", "12 %", "--pore-water-ec", "30 mS/m", "--bulk-density",
+            "1.4", "--temp", "12", "--freq", "250", "--json")
+    assert p.returncode == 0, p.stderr
+    facts = json.loads(p.stdout)["facts"]
+    assert facts["moisture_pct"] == pytest.approx(12.0, rel=1e-12)
+    assert facts["pore_water_ec_ms_per_m"] == pytest.approx(30.0, rel=1e-12)
+    assert facts["bulk_density_kg_per_m3"] == pytest.approx(1400.0, rel=1e-12)
+    assert facts["temperature_c"] == pytest.approx(12.0, rel=1e-12)
+    assert not {"moisture", "pore_water_ec25", "bulk_density", "temp_c"} & set(facts)
+
+
+def test_peplinski_sigma_dc_is_null_not_zero():
+    """A model whose ε'' carries conduction reports no separate σ_DC (null), while σ_eff stays a number."""
+    p = run("medium", "--model", "peplinski", "--texture", "loam", "--moisture", "20 %", "--freq", "500", "--json")
+    assert p.returncode == 0, p.stderr
+    row = json.loads(p.stdout)["rows"][0]
+    assert row["sigma_dc_ms_per_m"] is None and row["sigma_eff_ms_per_m"] > 0

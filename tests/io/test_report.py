@@ -193,7 +193,7 @@ def test_cli_report_json_and_exit_codes(survey_path, tmp_path):
     payload = json.loads(res.stdout)
     assert payload["report"] == str(out)
     assert payload["caution"] == CAUTION
-    assert {r["name"] for r in payload["ranking"]} == {"lowband-100", "midband-250", "midband-500"}
+    assert {r["antenna"] for r in payload["ranking"]} == {"lowband-100", "midband-250", "midband-500"}
     assert out.read_text(encoding="utf-8").startswith("<!DOCTYPE html>")
     again = _run("report", str(survey_path), "--out", str(out), "--no-maps")
     assert again.returncode == 3

@@ -215,7 +215,7 @@ def test_cli_synthetic_map_json_and_file(tmp_path):
     assert payload["cells"] == 90 * 60 and payload["tiles"] == 3 * 2
     assert len(payload["rows"]) == 7 and "excavation" in payload["caution"]
     for row in payload["rows"]:
-        assert 0.0 <= row["reach_percent"] <= 100.0
+        assert 0.0 <= row["reach_pct"] <= 100.0
     with xr.open_dataset(tmp_path / "m.nc") as ds:
         assert ds["max_depth"].shape == (7, 60, 90)
 

@@ -63,8 +63,9 @@ def summary_payload(data: dict, report_path) -> dict:
     """The JSON-able summary printed by the commands (no arrays, no images)."""
     from ...safety import CAUTION
 
-    rows = [{k: r[k] for k in ("name", "centre_freq_hz", "performance_db", "max_depth_m", "margin_db",
-                                "verdict", "recommended")} for r in data["ranking"]]
+    rows = [{"antenna": r["name"], "centre_frequency_mhz": r["centre_freq_hz"] / 1e6,
+             **{k: r[k] for k in ("performance_db", "max_depth_m", "margin_db", "verdict", "recommended")}}
+            for r in data["ranking"]]
     c = data["depth_chart"]
     return {
         "report": str(report_path),
@@ -74,9 +75,9 @@ def summary_payload(data: dict, report_path) -> dict:
         "recommended": data["recommended"],
         "reason": data["reason"],
         "ranking": rows,
-        "velocity_m_per_s": c["velocity"],
-        "velocity_p05_m_per_s": c["velocity_p05"],
-        "velocity_p95_m_per_s": c["velocity_p95"],
+        "velocity_m_per_ns": c["velocity"] * 1e-9,
+        "velocity_p05_m_per_ns": c["velocity_p05"] * 1e-9,
+        "velocity_p95_m_per_ns": c["velocity_p95"] * 1e-9,
         "warnings": data["warnings"],
         "caution": CAUTION,
     }

@@ -101,13 +101,13 @@ def summary(data) -> dict:
         # "reaches" means >= REACHES_MARGIN_DB to spare everywhere else in the report; margin >= 0 is only "marginal"
         best = {}
         for r in maps["summary"]:
-            key = (r["reach_headroom_pct"], r["reach_pct"])
-            if r["scenario"] not in best or key > (best[r["scenario"]]["reach_headroom_pct"],
-                                                   best[r["scenario"]]["reach_pct"]):
+            key = (r["reach_pct"], r["marginal_or_better_pct"])
+            if r["scenario"] not in best or key > (best[r["scenario"]]["reach_pct"],
+                                                   best[r["scenario"]]["marginal_or_better_pct"]):
                 best[r["scenario"]] = r
         across = "; ".join(f"{sc}: {r['antenna']} reaches the target with {REACHES_MARGIN_DB:g} dB to spare over "
-                           f"{r['reach_headroom_pct']:.0f} % of the area (at least marginally over "
-                           f"{r['reach_pct']:.0f} %)" for sc, r in best.items())
+                           f"{r['reach_pct']:.0f} % of the area (at least marginally over "
+                           f"{r['marginal_or_better_pct']:.0f} %)" for sc, r in best.items())
     return {"description": data["survey"].get("description") or "",
             "cards": [{"k": k, "v": v, "s": s, "bad": bad} for k, v, s, bad in cards],
             "target_text": f"{t['kind']} target of {t['material'].replace('_', ' ')}{size}, top at {t['depth_m']:.2f} m",

@@ -86,7 +86,8 @@ MAP_CAPTIONS = {
 #: map summary columns shown in the scenario comparison: key, header, format
 MAP_COLUMNS = (
     ("scenario", "scenario", "s"), ("antenna", "antenna", "s"),
-    ("reach_pct", "area reached (%)", ".0f"), ("reach_headroom_pct", f"reached with {REACHES_MARGIN_DB:g} dB to spare (%)", ".0f"),
+    ("reach_pct", f"reached with {REACHES_MARGIN_DB:g} dB to spare (%)", ".0f"),
+    ("marginal_or_better_pct", "at least marginal, margin ≥ 0 dB (%)", ".0f"),
     ("expected_reach_pct", "mean probability of reaching (%)", ".0f"),
     ("median_max_depth_m", "median max depth (m)", ".2f"), ("recommended_pct", "area where recommended (%)", ".0f"),
 )
