@@ -436,8 +436,9 @@ def map_schema() -> dict:
     }, "how the reach probability was estimated")
     paths = {"type": "object", "description": "output kind -> file written",
              "properties": {k: text(f"{k} file") for k in ("netcdf", "summary_csv", "summary_md", "summary_json",
-                                                           "png_antennas", "png_scenarios", "png_inputs")},
-             "patternProperties": {"^tif_(max_depth|margin_db|reach_probability)_.+$": text("a GeoTIFF layer")},
+                                                           "png_scenarios", "png_inputs")},
+             "patternProperties": {"^png_antennas:.+$": text("the per-antenna depth map of one scenario (PNG)"),
+                                   "^tif_(max_depth|margin_db|reach_probability)_.+$": text("a GeoTIFF layer")},
              "additionalProperties": False}
     paths["required"] = list(paths["properties"])
     return obj({"caution": CAUTION, "paths": paths, "summary": array(row, "area fractions per scenario and antenna"),
