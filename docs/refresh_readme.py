@@ -81,6 +81,13 @@ def main() -> int:
             new = run_block(body, work)
             if new != body:
                 stale += 1
+                if args.check:  # say which example and how it differs
+                    import difflib
+
+                    first = next(ln for ln in body.splitlines() if ln.startswith("$ "))
+                    diff = difflib.unified_diff(body.splitlines(), new.splitlines(), "README.md", "now printed",
+                                                lineterm="", n=1)
+                    print(f"stale: {first}\n" + "\n".join(list(diff)[:40]))
             return "```console\n" + new + "```"
 
         new_text = BLOCK.sub(replace, text)
