@@ -137,6 +137,8 @@ def medium_from_args(args, *, required: bool = True) -> Medium | None:
 
     mapping: dict = {}
     source = "command line"
+    from ..ground.schema import SOIL_FACTS
+
     if args.soil:
         from ..ground.schema import load_soil_file
 
@@ -155,6 +157,7 @@ def medium_from_args(args, *, required: bool = True) -> Medium | None:
                 raise InputError(f"{flag} must be a fraction between 0 and 1, got {val!r}; "
                                  f"for a percentage write '{val} %'" if str(val).strip().replace(".", "").isdigit()
                                  else f"{flag} must be between 0 and 100 %, got {val!r}")
+            _check_flag_range(flag, val, mapping[fld], SOIL_FACTS.get(attr) or SOIL_FACTS[fld], unit)
     for attr, fld in _LOSS_FLAGS.items():
         val = getattr(args, attr, None)
         if val is not None:
@@ -177,6 +180,21 @@ def medium_from_args(args, *, required: bool = True) -> Medium | None:
     parts.append(f"θ={float(theta) * 100:g} %" if theta.ndim == 0
                  else f"θ={theta.min() * 100:g}-{theta.max() * 100:g} %")
     return Medium(label=", ".join(parts), facts=dict(mapping), soil=soil)
+
+
+def _check_flag_range(flag: str, text, value: float, fact, unit: str) -> None:
+    """Refuse a soil flag's SI ``value`` outside the range declared in ground/schema.py, naming the flag.
+
+    Without it a --temp of '400 K' reached the water relaxation formulas, whose fitted
+    relaxation time turns negative above ~100 degC, and was blamed on an internal ε''.
+    """
+    from .._schema import display_range
+    from ..errors import InputError
+
+    if (fact.low is not None and value < fact.low) or (fact.high is not None and value > fact.high):
+        kind = "temperature" if fact.kind == "temperature" else fact.kind
+        raise InputError(f"{flag} must be {display_range(fact.low, fact.high, unit, kind)}, got {text!r} "
+                         f"({fact.doc})")
 
 
 def _plain_number(text, flag: str) -> float:

@@ -29,7 +29,7 @@ from .losses import SoilLossMixin, resolve_loss_facts
 from .mixing import crim_permittivity, topp_permittivity
 from .peplinski import peplinski_permittivity
 from .presets import texture_preset
-from .water import _temperature, water_conductivity, water_permittivity
+from .water import _relaxation_temperature, _temperature, water_conductivity, water_permittivity
 
 __all__ = ["Soil", "DEFAULT_PORE_WATER_EC25", "DEFAULT_PARTICLE_DENSITY", "DEFAULT_PEPLINSKI_BULK_DENSITY"]
 
@@ -153,7 +153,7 @@ class Soil(SoilLossMixin):
         preset = texture_preset(self.texture) if self.texture is not None else {}
         r: dict[str, Any] = {}
         r["moisture"] = check_range("moisture", self.moisture, 0.0, 1.0, unit="m³/m³")
-        r["temp_c"] = _temperature(self.temp_c)
+        r["temp_c"] = _relaxation_temperature(self.temp_c)
         for name in ("sand", "clay"):
             v = getattr(self, name)
             v = preset.get(name) if v is None else v

@@ -15,7 +15,7 @@ from .._codata import epsilon_0  # scipy.constants value without its import cost
 from ..errors import InputError, check_broadcast, check_positive, check_range
 from ..quantities import accepts_quantities
 from ._validity import BULK_DENSITY_RANGE, PARTICLE_DENSITY_RANGE, check_density, warn_validity
-from .water import _debye, _temperature
+from .water import _debye, _relaxation_temperature
 
 __all__ = ["peplinski_permittivity", "peplinski_effective_conductivity", "PEPLINSKI_VALIDITY"]
 
@@ -155,7 +155,7 @@ def peplinski_permittivity(freq_hz, moisture, sand, clay, bulk_density=1.5e3,
     Geosci. Remote Sens., GE-23(1), 35–46. doi:10.1109/TGRS.1985.289498
     """
     f = check_positive("freq_hz", freq_hz, unit="Hz")
-    t = _temperature(temp_c)
+    t = _relaxation_temperature(temp_c)
     mv, s, c, rb, rs = _check_soil(moisture, sand, clay, bulk_density, particle_density)
     check_broadcast(freq_hz=f, temp_c=t, moisture=mv, sand=s, clay=c, bulk_density=rb, particle_density=rs)
     v = PEPLINSKI_VALIDITY

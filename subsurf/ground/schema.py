@@ -25,6 +25,7 @@ from pydantic import Field, create_model, model_validator
 from .._schema import Strict, json_schema, quantity_type, validate_file
 from ..errors import FileInputError, InputError
 from ._validity import BULK_DENSITY_RANGE, PARTICLE_DENSITY_RANGE
+from .water import WATER_RELAXATION_T_LIMIT
 
 __all__ = ["SoilFact", "SOIL_FACTS", "SoilFile", "load_soil_file", "soil_json_schema", "soil_fact"]
 
@@ -46,6 +47,9 @@ class SoilFact:
     field: str | None = None
 
 
+#: Ground temperatures the water relaxation model can describe (°C; see water.py).
+_T_HIGH = WATER_RELAXATION_T_LIMIT
+
 #: Every soil fact a soil file or mapping may give (one line each).
 SOIL_FACTS: dict[str, SoilFact] = {
     "moisture": SoilFact("fraction", "dimensionless", 0.0, 1.0, "volumetric water content (m³/m³)"),
@@ -54,7 +58,7 @@ SOIL_FACTS: dict[str, SoilFact] = {
     "porosity": SoilFact("fraction", "dimensionless", 0.0, 1.0, "porosity"),
     "bulk_density": SoilFact("density", "kg/m**3", *BULK_DENSITY_RANGE, "dry bulk density"),
     "particle_density": SoilFact("density", "kg/m**3", *PARTICLE_DENSITY_RANGE, "particle (grain) density"),
-    "temp_c": SoilFact("temperature", "degC", 0.0, 100.0, "ground temperature (liquid pore water)"),
+    "temp_c": SoilFact("temperature", "degC", 0.0, _T_HIGH, "ground temperature (liquid pore water)"),
     "pore_water_salinity_psu": SoilFact("salinity", "dimensionless", 0.0, 50.0, "pore-water practical salinity"),
     "pore_water_ec25": SoilFact("conductivity", "S/m", 0.0, 10.0, "pore-water EC at 25 degC"),
     "pore_water_tds": SoilFact("mass_concentration", "kg/m**3", 0.0, 60.0, "pore-water total dissolved solids"),
@@ -75,8 +79,8 @@ SOIL_FACTS: dict[str, SoilFact] = {
                                   "standard deviation of ln(stone diameter), log-normal by volume"),
     "surface_roughness": SoilFact("length", "m", 0.0, 1.0, "rms height of the ground surface (m)"),
     # flag-named keys: bare numbers in the command-line flags' units
-    "temp": SoilFact("temperature", "degC", 0.0, 100.0, "ground temperature (as --temp)", field="temp_c"),
-    "temperature": SoilFact("temperature", "degC", 0.0, 100.0, "ground temperature", field="temp_c"),
+    "temp": SoilFact("temperature", "degC", 0.0, _T_HIGH, "ground temperature (as --temp)", field="temp_c"),
+    "temperature": SoilFact("temperature", "degC", 0.0, _T_HIGH, "ground temperature", field="temp_c"),
     "salinity": SoilFact("salinity", "dimensionless", 0.0, 50.0, "pore-water salinity, PSU (as --salinity)",
                          field="pore_water_salinity_psu"),
     "pore_water_ec": SoilFact("conductivity", "mS/m", 0.0, 10.0, "pore-water EC at 25 degC (as --pore-water-ec)",

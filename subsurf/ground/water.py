@@ -37,6 +37,12 @@ _KS_MODEL = "Klein & Swift (1977) water model"
 _T_MAX = 40.0    # °C, upper end of the range checked against IAPWS (0-40 °C)
 _S_MAX = 35.0    # psu, upper end of the Klein & Swift saline fit (4-35 psu)
 
+#: Highest temperature (°C) the Klein & Swift relaxation-time fit can describe at all: its
+#: fresh-water 2πτ polynomial (eq. 14) falls to zero at 74.78 °C (the cubic's one real root,
+#: checked with numpy.roots in tests/ground/test_water.py), above which τ and ε'' would change
+#: sign.  Between 40 °C and this limit the fit is extrapolated (a ModelRangeWarning).
+WATER_RELAXATION_T_LIMIT = 74.7
+
 
 def _temperature(temp_c, name: str = "temp_c") -> np.ndarray:
     t = check_finite(name, temp_c)
@@ -45,6 +51,18 @@ def _temperature(temp_c, name: str = "temp_c") -> np.ndarray:
         raise InputError(
             f"{name} must be >= 0 °C for liquid water, got {bad:.6g} °C; "
             "frozen ground is not modelled by the liquid-water formulas"
+        )
+    return t
+
+
+def _relaxation_temperature(temp_c, name: str = "temp_c") -> np.ndarray:
+    """:func:`_temperature`, also refusing temperatures beyond the relaxation-time fit."""
+    t = _temperature(temp_c, name)
+    if np.any(t > WATER_RELAXATION_T_LIMIT):
+        bad = t[t > WATER_RELAXATION_T_LIMIT].ravel()[0]
+        raise InputError(
+            f"{name} must be between 0 and {WATER_RELAXATION_T_LIMIT:g} °C, got {bad:.6g} °C; the Klein & Swift "
+            "(1977) water relaxation time turns negative beyond that"
         )
     return t
 
@@ -118,7 +136,7 @@ def water_relaxation_time(temp_c=20.0, salinity_psu=0.0):
     Parameters
     ----------
     temp_c : float or array_like
-        Temperature in °C, >= 0. Warns above 40 °C.
+        Temperature in °C, 0 to 74.7 (where the fit's τ reaches zero). Warns above 40 °C.
     salinity_psu : float or array_like
         Practical salinity, >= 0. Warns above 35.
 
@@ -140,7 +158,7 @@ def water_relaxation_time(temp_c=20.0, salinity_psu=0.0):
     Stogryn, A. (1971). Equations for calculating the dielectric constant of saline
     water. IEEE Trans. Microwave Theory Tech., 19(8), 733–736. doi:10.1109/TMTT.1971.1127617
     """
-    t = _temperature(temp_c)
+    t = _relaxation_temperature(temp_c)
     s = check_nonnegative("salinity_psu", salinity_psu)
     warn_validity(_KS_MODEL, [("temp_c", t, 0.0, _T_MAX, "°C"),
                               ("salinity_psu", s, 0.0, _S_MAX, "")])
@@ -156,7 +174,8 @@ def water_permittivity(freq_hz, temp_c=20.0, salinity_psu=0.0):
     freq_hz : float or array_like
         Frequency in Hz, >= 0.
     temp_c : float or array_like
-        Temperature in °C, >= 0 (liquid water; an error below). Warns above 40 °C.
+        Temperature in °C, 0 to 74.7 (liquid water; an error outside, where the fit's τ
+        would turn negative above). Warns above 40 °C.
     salinity_psu : float or array_like
         Practical salinity, >= 0. Warns above 35 (the saline fit covers 4–35; below 4
         the salinity factors tend continuously to 1).
@@ -182,7 +201,7 @@ def water_permittivity(freq_hz, temp_c=20.0, salinity_psu=0.0):
     doi:10.1109/TMTT.1971.1127617
     """
     f = check_nonnegative("freq_hz", freq_hz, unit="Hz")
-    t = _temperature(temp_c)
+    t = _relaxation_temperature(temp_c)
     s = check_nonnegative("salinity_psu", salinity_psu)
     check_broadcast(freq_hz=f, temp_c=t, salinity_psu=s)
     warn_validity(_KS_MODEL, [("temp_c", t, 0.0, _T_MAX, "°C"),

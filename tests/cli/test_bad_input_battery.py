@@ -54,6 +54,11 @@ CASES_ALL = [
     C("medium-sand-clay-over-one", ["medium", "--moisture", "0.2", "--sand", "0.8", "--clay", "0.5"], 1, "sand"),
     C("medium-moisture-unit", ["medium", "--texture", "loam", "--moisture", "20 kg"], 1, "moisture"),
     C("medium-salinity-negative", ["medium", *MED, "--salinity", "-3"], 1, "salinity"),
+    C("medium-temp-400-k", ["medium", *MED, "--temp", "400 K"], 1, "--temp", "74.7 degC"),
+    C("medium-temp-373-k-peplinski", ["medium", *MED, "--model", "peplinski", "--temp", "373 K"], 1, "--temp",
+      "74.7"),
+    C("medium-ec-50-s-per-m", ["medium", *MED, "--pore-water-ec", "50 S/m"], 1, "--pore-water-ec", "10000 mS/m"),
+    C("medium-stone-size-20-m", ["medium", *MED, "--stone-size", "20 m"], 1, "--stone-size", "10000 mm"),
     # -- choose / setup ------------------------------------------------------------------
     C("choose-no-depth", ["choose", *MED, "--target", "planar"], 2, "--depth"),
     C("choose-negative-depth", ["choose", *MED, "--target", "planar", "--depth", "-1"], 1, "depth"),

@@ -178,8 +178,8 @@ def test_clay_and_archie_flags_change_conductivity():
 @pytest.mark.parametrize("args, flag", [
     (["--texture", "sand", "--moisture", "0.1", "--stone-fraction", "1.5"], "stone-fraction"),
     (["--texture", "sand", "--moisture", "0.1", "--stone-fraction", "0.7"], "1 - porosity"),
-    (["--texture", "sand", "--moisture", "0.1", "--stone-size", "-2"], "stone_size"),
-    (["--texture", "sand", "--moisture", "0.1", "--roughness", "-1"], "surface_roughness"),
+    (["--texture", "sand", "--moisture", "0.1", "--stone-size", "-2"], "--stone-size"),
+    (["--texture", "sand", "--moisture", "0.1", "--roughness", "-1"], "--roughness"),
     (["--eps", "5", "--q-star", "0"], "--q-star"),
     (["--eps", "5", "--attenuation-at", "100=2", "--attenuation-at", "500=1"], "negative dielectric loss"),
     (["--eps", "5", "--attenuation-at", "100=0.5", "--attenuation-at", "200=3"], "negative conduction loss"),

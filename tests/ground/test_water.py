@@ -8,11 +8,14 @@ from iapws._iapws import _Dielectric
 
 from subsurf.errors import InputError, ModelRangeWarning, SubsurfError
 from subsurf.ground import (
+    Soil,
     salinity_from_conductivity,
     water_conductivity,
     water_permittivity,
+    water_relaxation_time,
     water_static_permittivity,
 )
+from subsurf.ground import water as water_module
 
 
 @pytest.mark.parametrize("temp_c", [0.01, 5.0, 10.0, 20.0, 25.0, 30.0, 40.0])
@@ -55,6 +58,23 @@ def test_water_refuses_ice_and_warns_when_hot():
         water_permittivity(1e8, -1.0)
     with pytest.warns(ModelRangeWarning, match="temp_c"):
         water_permittivity(1e8, 60.0)
+
+
+def test_water_refuses_temperatures_where_the_relaxation_fit_turns_negative():
+    """Above the refusal limit Klein & Swift's τ would be negative (ε'' > 0): refused, named, with the range."""
+    # Outside source: the published coefficients of Klein & Swift (1977) eq. (14), typed here
+    # from the paper, 2πτ(T) = 1.1109e-10 - 3.824e-12 T + 6.938e-14 T² - 5.096e-16 T³ s; its
+    # one real root by numpy.roots is where τ = 0 (~74.78 °C).
+    roots = np.roots([-5.096e-16, 6.938e-14, -3.824e-12, 1.1109e-10])
+    zero = float(roots[np.isreal(roots)].real[0])
+    limit = water_module.WATER_RELAXATION_T_LIMIT
+    assert limit < zero < limit + 0.1
+    with pytest.warns(ModelRangeWarning):  # still allowed just below the limit, extrapolated
+        assert water_permittivity(250e6, limit).imag <= 0
+    for call in (lambda: water_permittivity(250e6, zero + 0.5), lambda: water_relaxation_time(126.85),
+                 lambda: Soil(moisture=0.2, texture="loam", temp_c=90.0)):
+        with pytest.raises(InputError, match=r"temp_c must be between 0 and 74\.7 °C"):
+            call()
 
 
 @pytest.mark.parametrize("temp_c", [0.0, 5.0, 10.0, 15.0, 20.0, 25.0, 30.0])
