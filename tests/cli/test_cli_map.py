@@ -119,7 +119,13 @@ def test_geotiff_layers_have_crs(mapped):
     with xr.open_dataset(out / "feasibility.nc") as ds:
         ds = ds.set_xindex("scenario_name").set_xindex("antenna_name")
         ref = ds["max_depth"].sel(scenario_name="dry", antenna_name="midband-250").values
+        x_nc, y_nc, long_name = ds["x"].values, ds["y"].values, ds["max_depth"].attrs["long_name"]
     assert np.allclose(da.values, ref, equal_nan=True)
+    # cell centres as rioxarray derives them from the GeoTIFF's geotransform = the NetCDF's x, y
+    np.testing.assert_allclose(da["x"].values, x_nc, rtol=0, atol=1e-6)
+    np.testing.assert_allclose(da["y"].values, y_nc, rtol=0, atol=1e-6)
+    assert np.isnan(da.rio.nodata) and da.dtype == np.float32
+    assert da.attrs["long_name"] == long_name and da.attrs["units"] == "m"
 
 
 def test_existing_outputs_not_overwritten(mapped, tmp_path):
