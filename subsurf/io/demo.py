@@ -28,6 +28,9 @@ DESCRIPTIONS = {
     "maps/summary.csv": "area each antenna reaches, per scenario",
     "maps/summary.md": "the same as Markdown",
     "maps/summary.json": "the same as JSON",
+    # beside every CSV (subsurf.io.tables)
+    "*.csv-metadata.json": "that CSV's columns, units and caution (W3C CSV on the Web)",
+    "*.csvt": "that CSV's field types, for GDAL/OGR",
 }
 
 

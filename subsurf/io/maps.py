@@ -15,6 +15,7 @@ from __future__ import annotations
 from pathlib import Path
 
 from ..detection.verdicts import REACHES_MARGIN_DB
+from .tables import sidecar_names
 
 __all__ = ["NETCDF_NAME", "SUMMARY_COLUMNS", "GEOTIFF_LAYERS", "OWN_FILES", "output_paths", "write_map_outputs",
            "run_map", "scenario_tags", "antenna_figure_key"]
@@ -71,6 +72,7 @@ def output_paths(out_dir, survey, *, geotiff: bool) -> dict[str, Path]:
     out = Path(out_dir)
     paths = {"netcdf": out / NETCDF_NAME,
              "summary_csv": out / f"{SUMMARY_STEM}.csv",
+             **{f"summary_{k}": out / n for k, n in sidecar_names(f"{SUMMARY_STEM}.csv", coordinates=False).items()},
              "summary_md": out / f"{SUMMARY_STEM}.md",
              "summary_json": out / f"{SUMMARY_STEM}.json"}
     tags = scenario_tags([s.name for s in survey.scenarios])
@@ -104,17 +106,24 @@ def summary_markdown(rows, survey, caution: str) -> str:
         head, sep, *body, "", f"> **Caution.** {caution}", ""])
 
 
-def summary_csv(rows, caution: str) -> str:
-    """The summary rows as CSV (4 significant digits) with a caution column."""
-    import csv
-    import io
+def summary_table_columns():
+    """The summary CSV's columns (:class:`~subsurf.io.tables.TableColumn`: names, titles, units, 4 significant
+    digits), in :data:`SUMMARY_COLUMNS` order."""
+    from .tables import TableColumn
 
-    buf = io.StringIO()
-    writer = csv.DictWriter(buf, fieldnames=list(rows[0]) + ["caution"])
-    writer.writeheader()
-    for r in rows:
-        writer.writerow({**{k: (f"{v:.4g}" if isinstance(v, float) else v) for k, v in r.items()}, "caution": caution})
-    return buf.getvalue()
+    units = {"% area": "%", "%": "%"}  # the CSVW unit; what the percentage is of stays in the title
+    return [TableColumn(k, f"{h} ({u})" if u else h, units.get(u, u), datatype="string" if f == "s" else "number",
+                        fmt="" if f == "s" else ".4g") for k, h, u, f in SUMMARY_COLUMNS]
+
+
+def summary_csv_files(rows, csv_path, survey) -> dict[Path, str]:
+    """Path -> text of the summary CSV (caution column on every row) and its CSVW/.csvt sidecars."""
+    from .tables import table_files
+
+    return table_files(csv_path, rows, summary_table_columns(),
+                       title=f"subsurf map: area each antenna reaches, per scenario ({survey.name})",
+                       notes=[f"target: {survey.target.kind} at {survey.target.depth_m:g} m depth",
+                              f"grid: {survey.cell_size_m:g} m cells in {survey.grid_crs.name}"])
 
 
 def _netcdf_attrs(survey) -> dict:
@@ -211,9 +220,11 @@ def write_map_outputs(maps, out_dir, *, force: bool = False, geotiff: bool = Tru
     written: dict[str, Path] = {}
     write_netcdf(maps.dataset, paths["netcdf"], force=force, attrs=_netcdf_attrs(survey))
     written["netcdf"] = paths["netcdf"]
-    for key, content in (("summary_csv", summary_csv(rows, CAUTION)),
-                         ("summary_md", summary_markdown(rows, survey, CAUTION))):
-        written[key] = atomic_write_text(paths[key], content, force=force)
+    by_path = {p: k for k, p in paths.items()}
+    for path, content in summary_csv_files(rows, paths["summary_csv"], survey).items():
+        written[by_path[path]] = atomic_write_text(path, content, force=force)
+    written["summary_md"] = atomic_write_text(paths["summary_md"], summary_markdown(rows, survey, CAUTION),
+                                              force=force)
     grid = maps.grid
     summary_json = {"caution": CAUTION, "inputs": survey.describe(), "summary": rows, "monte_carlo": maps.monte_carlo,
                     "grid": {"nx": int(grid.sizes["x"]), "ny": int(grid.sizes["y"]),

@@ -37,6 +37,21 @@ def test_demo_exits_zero_and_names_the_report(demo):
     assert "fictional" in res.stdout
 
 
+def test_demo_csv_tables_open_cleanly(demo):
+    """Every CSV of the demo (report tables and the map summary) opens in pandas with no options, with its CSVW
+    metadata beside it naming each column and the caution on every row."""
+    from output_checks import assert_plain_csv
+
+    cwd, res = demo
+    assert res.returncode == 0, res.stderr
+    found = sorted((cwd / "subsurf-demo").rglob("*.csv"))
+    assert sorted(p.name for p in found) == ["antenna_ranking.csv", "ground_properties.csv", "summary.csv",
+                                             "time_to_depth.csv"]
+    for p in found:
+        assert_plain_csv(p)
+        assert p.with_suffix(".csvt").is_file()
+
+
 def test_demo_leaves_no_temporary_folder(demo):
     """Only the finished folder remains in the working folder (temporary build renamed)."""
     cwd, _ = demo

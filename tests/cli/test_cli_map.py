@@ -59,6 +59,23 @@ def test_all_outputs_written(mapped):
     assert (out / "map_antennas__wet.png").read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
 
 
+def test_summary_csv_opens_cleanly(mapped):
+    """summary.csv: pandas reads it with no options, its CSVW metadata names every column with units, and the
+    percentages equal the JSON summary's (4 significant digits)."""
+    import pandas as pd
+    from output_checks import assert_plain_csv
+
+    proc, out, _ = mapped
+    assert_plain_csv(out / "summary.csv")
+    df = pd.read_csv(out / "summary.csv")
+    rows = json.loads(proc.stdout)["summary"]
+    assert df["reach_pct"].tolist() == pytest.approx([r["reach_pct"] for r in rows], rel=5e-4, abs=1e-9)
+    meta = json.loads((out / "summary.csv-metadata.json").read_text(encoding="utf-8"))
+    units = {c["name"]: c.get("schema:unitText") for c in meta["tableSchema"]["columns"]}
+    assert units["centre_frequency_mhz"] == "MHz" and units["median_max_depth_m"] == "m"
+    assert (out / "summary.csvt").is_file()
+
+
 def test_every_scenario_has_its_depth_map(mapped):
     """One per-antenna depth map per scenario, named after it, and no unnamed 'first scenario' map."""
     proc, out, _ = mapped

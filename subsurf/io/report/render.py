@@ -23,7 +23,8 @@ from .content import collect
 from .sections import SECTION_BUILDERS, Verdict
 from .texts import SECTIONS
 
-__all__ = ["render_html", "summary_payload", "report_tables", "write_report", "TABLE_NAMES"]
+__all__ = ["render_html", "summary_payload", "report_tables", "report_table_specs", "table_file_names", "write_report",
+           "TABLE_NAMES"]
 
 #: CSV tables written beside a report (``tables_dir``)
 TABLE_NAMES = ("antenna_ranking.csv", "time_to_depth.csv", "ground_properties.csv")
@@ -83,40 +84,63 @@ def summary_payload(data: dict, report_path) -> dict:
     }
 
 
-def report_tables(data: dict) -> dict[str, str]:
-    """The report's main tables as CSV text: file name -> content (human units, caution column)."""
-    import csv
-    import io
+def report_table_specs(data: dict) -> dict[str, tuple[str, list, list[dict]]]:
+    """The report's main tables: file name -> (title, columns, rows), human units in the column names."""
+    from ..tables import TableColumn as C
 
-    from ...safety import CAUTION
+    def rows_of(cols, values):
+        return [dict(zip((c.name for c in cols), v)) for v in values]
 
-    def to_csv(header, rows):
-        buf = io.StringIO()
-        w = csv.writer(buf, lineterminator="\n")
-        w.writerow(header + ["caution"])
-        for i, r in enumerate(rows):
-            w.writerow([f"{v:.6g}" if isinstance(v, float) else v for v in r] + [CAUTION if i == 0 else ""])
-        return buf.getvalue()
-
+    text = {"datatype": "string", "fmt": ""}
     c = data["depth_chart"]
-    ranking = to_csv(
-        ["antenna", "centre_frequency_mhz", "performance_db", "max_depth_m", "margin_db", "verdict",
-         "vertical_resolution_m", "horizontal_resolution_m", "recommended"],
-        [[r["name"], r["centre_freq_hz"] / 1e6, r["performance_db"], r["max_depth_m"], r["margin_db"],
-          r["verdict"], r["vertical_resolution_m"], r["fresnel_radius_m"], "yes" if r["recommended"] else "no"]
-         for r in data["ranking"]])
-    depth = to_csv(["two_way_time_ns", "depth_m", "depth_p05_m", "depth_p95_m", "antenna", "velocity_m_per_ns",
-                    "antenna_separation_m"],
-                   [[r["twt_ns"], r["depth_m"], r["depth_p05_m"], r["depth_p95_m"], data["chart_antenna"],
-                     c["velocity"] * 1e-9, c["offset_m"]] for r in c["table"]])
+    ranking_cols = [C("antenna", "antenna", **text), C("centre_frequency_mhz", "centre frequency", "MHz"),
+                    C("performance_db", "system performance", "dB"),
+                    C("max_depth_m", "maximum detectable depth", "m"),
+                    C("margin_db", "margin at the target depth", "dB"), C("verdict", "verdict", **text),
+                    C("vertical_resolution_m", "vertical resolution", "m"),
+                    C("horizontal_resolution_m", "horizontal resolution (first Fresnel zone radius)", "m"),
+                    C("recommended", "recommended (yes/no)", **text)]
+    ranking = rows_of(ranking_cols, [
+        [r["name"], r["centre_freq_hz"] / 1e6, r["performance_db"], r["max_depth_m"], r["margin_db"], r["verdict"],
+         r["vertical_resolution_m"], r["fresnel_radius_m"], "yes" if r["recommended"] else "no"]
+        for r in data["ranking"]])
+    depth_cols = [C("two_way_time_ns", "two-way travel time", "ns"), C("depth_m", "depth", "m"),
+                  C("depth_p05_m", "depth, 5th percentile", "m"), C("depth_p95_m", "depth, 95th percentile", "m"),
+                  C("antenna", "antenna", **text), C("velocity_m_per_ns", "velocity", "m/ns"),
+                  C("antenna_separation_m", "antenna separation", "m")]
+    depth = rows_of(depth_cols, [[r["twt_ns"], r["depth_m"], r["depth_p05_m"], r["depth_p95_m"], data["chart_antenna"],
+                                  c["velocity"] * 1e-9, c["offset_m"]] for r in c["table"]])
     g = data["ground"]
     idx = np.unique(np.searchsorted(g["freq_hz"], [25e6, 50e6, 100e6, 200e6, 250e6, 400e6, 500e6, 1e9, 2e9]))
-    ground = to_csv(["frequency_mhz", "eps_real", "eps_imag", "sigma_eff_ms_per_m", "loss_tangent",
-                     "velocity_m_per_ns", "attenuation_db_per_m", "skin_depth_m"],
-                    [[g["freq_hz"][i] / 1e6, g["eps_real"][i], g["eps_imag"][i], g["sigma_eff"][i] * 1e3,
-                      g["loss_tangent"][i], g["velocity"][i] * 1e-9, g["attenuation_db_per_m"][i],
-                      g["skin_depth"][i]] for i in idx if i < g["freq_hz"].size])
-    return {"antenna_ranking.csv": ranking, "time_to_depth.csv": depth, "ground_properties.csv": ground}
+    ground_cols = [C("frequency_mhz", "frequency", "MHz"), C("eps_real", "relative permittivity, real part", "1"),
+                   C("eps_imag", "relative permittivity, imaginary part (dielectric loss)", "1"),
+                   C("sigma_eff_ms_per_m", "effective conductivity", "mS/m"), C("loss_tangent", "loss tangent", "1"),
+                   C("velocity_m_per_ns", "phase velocity", "m/ns"),
+                   C("attenuation_db_per_m", "attenuation", "dB/m"), C("skin_depth_m", "skin depth", "m")]
+    ground = rows_of(ground_cols, [
+        [g["freq_hz"][i] / 1e6, g["eps_real"][i], g["eps_imag"][i], g["sigma_eff"][i] * 1e3, g["loss_tangent"][i],
+         g["velocity"][i] * 1e-9, g["attenuation_db_per_m"][i], g["skin_depth"][i]]
+        for i in idx if i < g["freq_hz"].size])
+    site = data["survey"]["name"]
+    return {"antenna_ranking.csv": (f"subsurf report: antennas ranked for the target ({site})", ranking_cols, ranking),
+            "time_to_depth.csv": (f"subsurf report: two-way time to depth with its 5-95 % band ({site})", depth_cols,
+                                  depth),
+            "ground_properties.csv": (f"subsurf report: the site-median ground's radar properties ({site})",
+                                      ground_cols, ground)}
+
+
+def report_tables(data: dict) -> dict[str, str]:
+    """The report's main tables as CSV text: file name -> content (caution column on every row)."""
+    from ..tables import csv_text
+
+    return {name: csv_text(rows, cols) for name, (_, cols, rows) in report_table_specs(data).items()}
+
+
+def table_file_names() -> list[str]:
+    """Every file written into ``tables_dir``: each CSV of :data:`TABLE_NAMES` and its sidecars."""
+    from ..tables import sidecar_names
+
+    return [n for name in TABLE_NAMES for n in (name, *sidecar_names(name, coordinates=False).values())]
 
 
 def write_report(survey_path, out_path, *, force: bool = False, map_result: dict | None = None,
@@ -131,7 +155,7 @@ def write_report(survey_path, out_path, *, force: bool = False, map_result: dict
     from ..outputs import atomic_write_text, check_outputs_free
 
     out_path = Path(out_path)
-    names = TABLE_NAMES
+    names = table_file_names()
     check_outputs_free([out_path] + ([Path(tables_dir) / n for n in names] if tables_dir else []), force=force)
     data = collect(survey_path, map_result=map_result, bar=bar)
     page = render_html(data)
@@ -141,6 +165,11 @@ def write_report(survey_path, out_path, *, force: bool = False, map_result: dict
     summary = summary_payload(data, out_path)
     summary["tables"] = []
     if tables_dir is not None:
-        for name, text in report_tables(data).items():
-            summary["tables"].append(str(atomic_write_text(Path(tables_dir) / name, text, force=force)))
+        from ..tables import table_files
+
+        for name, (title, cols, rows) in report_table_specs(data).items():
+            csv_path = Path(tables_dir) / name
+            for path, text in table_files(csv_path, rows, cols, title=title).items():
+                atomic_write_text(path, text, force=force)
+            summary["tables"].append(str(csv_path))
     return summary
