@@ -435,8 +435,11 @@ def map_schema() -> dict:
         "method": text("how the probability was estimated"),
     }, "how the reach probability was estimated")
     paths = {"type": "object", "description": "output kind -> file written",
-             "properties": {k: text(f"{k} file") for k in ("netcdf", "summary_csv", "summary_md", "summary_json",
-                                                           "png_scenarios", "png_inputs")},
+             "properties": {**{k: text(f"{k} file") for k in ("netcdf", "summary_csv", "summary_md", "summary_json",
+                                                              "png_scenarios", "png_inputs")},
+                            "summary_csvw": text("the summary CSV's W3C CSV-on-the-Web metadata (columns, units, "
+                                                 "caution)"),
+                            "summary_csvt": text("the summary CSV's field types for GDAL/OGR (.csvt)")},
              "patternProperties": {"^png_antennas:.+$": text("the per-antenna depth map of one scenario (PNG)"),
                                    "^tif_(max_depth|margin_db|reach_probability)_.+$": text("a GeoTIFF layer")},
              "additionalProperties": False}
