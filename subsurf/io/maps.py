@@ -172,35 +172,32 @@ def _geotiff_transform(x, y, cell_m: float):
 
 
 def _write_geotiffs(maps, paths, *, force: bool, written: dict) -> None:
-    """One single-band float32 GeoTIFF per layer, scenario and antenna, written with rasterio.
+    """One Cloud-Optimised GeoTIFF per layer, scenario and antenna (:func:`subsurf.io.geotiff.write_layer`).
 
-    What rioxarray's ``to_raster`` wrote before (same CRS WKT, geotransform, NaN no-data,
-    ``long_name``/``units`` tags and band description, pixel-is-area), without importing
-    rioxarray and dask.array for it.
+    float32, DEFLATE, tiled, overviews when larger than a tile, NaN no-data, band
+    description and unit from the layer's ``long_name``/``units``, the caution in the
+    metadata; rows north first (as GIS software expects) whatever the grid's y order.
     """
-    import numpy as np
-    import rasterio
     from rasterio.crs import CRS
 
-    from .outputs import atomic_path
+    from .geotiff import write_layer
 
     ds, survey = maps.dataset, maps.survey
-    transform = _geotiff_transform(ds["x"].values, ds["y"].values, float(maps.grid.attrs["cell_size_m"]))
+    x, y = ds["x"].values, ds["y"].values
+    flip = len(y) > 1 and y[1] > y[0]  # south first in the dataset: write north first
+    transform = _geotiff_transform(x, y[::-1] if flip else y, float(maps.grid.attrs["cell_size_m"]))
     crs = CRS.from_wkt(survey.grid_crs.to_wkt())
     for layer in GEOTIFF_LAYERS:
         var = ds[layer].transpose("scenario", "antenna", "y", "x")
-        tags = {k: str(v) for k, v in var.attrs.items() if k in ("long_name", "units")}
+        attrs = {k: str(v) for k, v in var.attrs.items() if k in ("long_name", "units")}
         for s in survey.scenarios:
             for a in maps.antennas:
                 key = f"tif_{layer}_{s.name}_{a.name}"
-                band = np.ascontiguousarray(var.sel(scenario=s.name, antenna=a.name).values, dtype=np.float32)
-                with atomic_path(paths[key], force=force) as tmp, rasterio.open(
-                        tmp, "w", driver="GTiff", width=band.shape[1], height=band.shape[0], count=1,
-                        dtype="float32", crs=crs, transform=transform, nodata=np.nan) as dst:
-                    dst.update_tags(**tags)
-                    if "long_name" in tags:
-                        dst.set_band_description(1, tags["long_name"])
-                    dst.write(band, 1)
+                band = var.sel(scenario=s.name, antenna=a.name).values
+                write_layer(paths[key], band[::-1] if flip else band, transform=transform, crs=crs,
+                            description=attrs.get("long_name", layer), unit=attrs.get("units", ""),
+                            tags={**attrs, "layer": layer, "scenario": s.name, "antenna": a.name},
+                            force=force)
                 written[key] = paths[key]
 
 

@@ -145,6 +145,41 @@ def test_geotiff_layers_have_crs(mapped):
     assert da.attrs["long_name"] == long_name and da.attrs["units"] == "m"
 
 
+def test_geotiffs_are_cloud_optimised_with_metadata(mapped):
+    """Every layer read with rasterio: DEFLATE, 256-cell tiles, no overviews for a grid within one tile (the
+    rule: overviews only above 256 cells), band description and unit, NaN no-data, the grid CRS, a north-up
+    transform of the cell size, the caution tag; rio-cogeo's cog_validate accepts the layout."""
+    import rasterio
+
+    from subsurf.safety import CAUTION
+
+    proc, out, _ = mapped
+    tifs = sorted((out / "geotiff").glob("*.tif"))
+    assert len(tifs) == 3 * 2 * 4
+    units = {"max_depth": "m", "margin_db": "dB", "reach_probability": "1"}
+    for tif in tifs:
+        with rasterio.open(tif) as r:
+            assert r.compression.name == "deflate"
+            assert r.profile["tiled"] and r.block_shapes == [(256, 256)]
+            assert r.tags(ns="IMAGE_STRUCTURE").get("LAYOUT") == "COG"
+            assert max(r.width, r.height) <= 256 and r.overviews(1) == []
+            layer = r.tags()["layer"]
+            assert tif.name.startswith(layer + "__")
+            assert r.descriptions[0] and r.units[0] == units[layer]
+            assert np.isnan(r.nodata)
+            assert r.crs.to_epsg() == 32630
+            assert r.transform.a == pytest.approx(6.0) and r.transform.e == pytest.approx(-6.0)  # 6 m cells
+            assert r.tags()["caution"] == CAUTION and CAUTION in r.tags()["TIFFTAG_IMAGEDESCRIPTION"]
+    try:
+        from rio_cogeo.cogeo import cog_validate
+    except ImportError:
+        print("rio-cogeo not installed: COG layout checked with rasterio only")
+        return
+    for tif in tifs[:3]:
+        valid, errors, _ = cog_validate(str(tif))
+        assert valid, (tif.name, errors)
+
+
 def test_existing_outputs_not_overwritten(mapped, tmp_path):
     """A second run into the same folder exits 3 and leaves the files untouched; --force overwrites."""
     _, out, survey = mapped
