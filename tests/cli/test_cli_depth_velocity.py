@@ -105,6 +105,19 @@ def test_depth_geojson_rounded_and_caution_per_feature(tmp_path):
                 assert "e" not in text and len(text.split(".")[1]) <= decimals, text
 
 
+def test_depth_geojson_passes_an_rfc7946_validator(tmp_path):
+    """In WGS 84 the file is strict RFC 7946 by geojson-validator: no structure problems (the crs member
+    included), no invalid or problematic geometries (excessive coordinate precision included)."""
+    gv = pytest.importorskip("geojson_validator", reason="geojson-validator (test extra) not installed")
+    r = _run("depth", "--picks", str(EXAMPLES / "fictional_lonlat_picks.csv"), "--velocity", "0.1",
+             "--crs", "EPSG:4326", "--out-geojson", "p.geojson", cwd=tmp_path)
+    assert r.returncode == 0, r.stderr
+    doc = json.loads((tmp_path / "p.geojson").read_text(encoding="utf-8"))
+    assert gv.validate_structure(doc, check_crs=True) == {}
+    res = gv.validate_geometries(doc)
+    assert res["invalid"] == {} and res["problematic"] == {} and res["count_geometry_types"] == {"Point": 4}
+
+
 def test_depth_rerun_without_coordinates_removes_earlier_prj(tmp_path):
     """--force over an earlier depths.csv with coordinates: the new table has none, so its stale .prj goes."""
     picks = EXAMPLES / "fictional_utility_picks.csv"
