@@ -2,10 +2,13 @@
 and chunked runs at 1x, 4x, 16x and 64x a base size (peak memory and time), all in one run.
 
     python benchmarks/bench_scale.py [--base 512] [--chunk 256] [--loop-cells 40] [--factors 1 4 16 64]
+                                     [--from-file] [--skip-chain]
 
 Not part of the test suite.  Every size of the chunked runs is measured in a fresh
 subprocess (peak resident memory: the process's own VmHWM), writing a real CF NetCDF map
-with the threaded scheduler, from a synthetic region generated chunk by chunk.
+with the threaded scheduler, from a synthetic region generated chunk by chunk, and with
+``--from-file`` again from the same region first written as a NetCDF soil raster (in its own
+process) and read tile by tile as ``subsurf region --soil`` reads it.
 """
 
 from __future__ import annotations
@@ -84,6 +87,7 @@ def loop_rate(antennas, target, values, n_cells: int, chain_out):
     from scipy.optimize import brentq
 
     from subsurf.detection.budget import loss_terms
+    from subsurf.detection.evaluate import soil_loss_terms
     from subsurf.ground import Soil
     from subsurf.site.feasibility import _clip_moisture
 
@@ -97,9 +101,12 @@ def loop_rate(antennas, target, values, n_cells: int, chain_out):
         soil = Soil(moisture=float(flat["moisture"][i]), pore_water_ec25=float(flat["pore_water_ec"][i]),
                     clay=float(flat["clay"][i]), texture="loam")
         for k, a in enumerate(antennas):
-            eps, sigma = soil.electrical(np.array([a.centre_freq_hz]))
-            f = plain_loss_minus_performance(loss_terms(eps, sigma, np.array([a.centre_freq_hz]), target,
-                                                        gain=a.gain), a.performance_db)
+            fb = np.array([a.centre_freq_hz])  # the regional chain runs at the centre frequency (no band)
+            eps, sigma = soil.electrical(fb)
+            extra, surface = soil_loss_terms(soil, fb, eps)  # stones and rough surface, as the chain has them
+            f = plain_loss_minus_performance(loss_terms(eps, sigma, fb, target, gain=a.gain,
+                                                        extra_attenuation_np_per_m=extra,
+                                                        surface_power_factor=surface), a.performance_db)
             ts = time.process_time()
             depths[k, j] = brentq(f, 1e-6, 1e4, xtol=1e-12, rtol=1e-12) if f(1e-6) < 0 else 0.0
             t_solve += time.process_time() - ts
@@ -141,8 +148,17 @@ def _peak_rss_mib(usage) -> float:
     return usage.ru_maxrss / 1024  # KiB -> MiB on Linux
 
 
-def child(n_side: int, chunk: int, out: str) -> None:
-    """One chunked run in this (fresh) process; prints JSON."""
+def write_soil_file(n_side: int, chunk: int, path: str) -> None:
+    """The synthetic region as a float32 CF NetCDF soil raster (chunked as the region is read)."""
+    from subsurf.io.regional import write_soil
+    from subsurf.site.synthetic import synthetic_region
+
+    write_soil(synthetic_region(n_side, n_side, seed=1, chunk=chunk), path, force=True)
+
+
+def child(n_side: int, chunk: int, out: str, soil_path: str | None = None) -> None:
+    """One chunked run in this (fresh) process; prints JSON.  With ``soil_path`` the soil is read from
+    that NetCDF raster (``subsurf.site.regional.open_region``, as ``subsurf region --soil`` does)."""
     from subsurf.io.regional import write_region
     from subsurf.planning.antennas import load_catalogue, make_target
     from subsurf.site import regional as scale
@@ -150,9 +166,16 @@ def child(n_side: int, chunk: int, out: str) -> None:
 
     antennas = list(load_catalogue().values())
     target = make_target("planar", depth_m=DEPTH, material="water_table")
+    warm_soil = None
+    if soil_path:
+        warm_soil = soil_path + ".warm.nc"
+        write_soil_file(32, 32, warm_soil)
 
     def run(side, path):
-        soil = synthetic_region(side, side, seed=1, chunk=chunk)
+        if soil_path:
+            soil = scale.open_region(warm_soil if side == 32 else soil_path, chunk=chunk)
+        else:
+            soil = synthetic_region(side, side, seed=1, chunk=chunk)
         result = scale.feasibility_region(soil, antennas, target=target, target_depth_m=DEPTH, texture="loam")
         with scale.scheduler("threads") as sched:
             return write_region(result, path, force=True, batch=2 * sched["slots"])
@@ -176,13 +199,29 @@ def main() -> int:
     ap.add_argument("--loop-cells", type=int, default=40, help="cells in the per-cell loop subsample")
     ap.add_argument("--factors", type=int, nargs="+", default=[1, 4, 16, 64],
                     help="sizes of the chunked runs, in multiples of the base area (default 1 4 16 64)")
-    ap.add_argument("--child", nargs=3, metavar=("SIDE", "CHUNK", "OUT"), help=argparse.SUPPRESS)
+    ap.add_argument("--from-file", action="store_true",
+                    help="chunked runs also read the soil from a NetCDF raster (written first, in its own process)")
+    ap.add_argument("--skip-chain", action="store_true", help="only the chunked runs (parts 4 and 5)")
+    ap.add_argument("--child", nargs="+", metavar="ARG", help=argparse.SUPPRESS)
+    ap.add_argument("--write-soil", nargs=3, metavar=("SIDE", "CHUNK", "OUT"), help=argparse.SUPPRESS)
     args = ap.parse_args()
     if args.child:
-        child(int(args.child[0]), int(args.child[1]), args.child[2])
+        child(int(args.child[0]), int(args.child[1]), args.child[2], *args.child[3:])
+        return 0
+    if args.write_soil:
+        write_soil_file(int(args.write_soil[0]), int(args.write_soil[1]), args.write_soil[2])
         return 0
 
-    print(f"machine: {machine()}")
+    print(f"machine: {machine()}; load average {os.getloadavg()[0]:.1f}")
+    if not args.skip_chain:
+        chain_parts(args)
+    chunked_runs(args, from_file=False)
+    if args.from_file:
+        chunked_runs(args, from_file=True)
+    return 0
+
+
+def chain_parts(args) -> None:
     antennas, target, values = setup(args.base)
     n = values["moisture"].size
     na = len(antennas)
@@ -200,16 +239,29 @@ def main() -> int:
     t_floor = floor_time(antennas, out)
     print(f"3. floor (bare numpy attenuation from eps', sigma; same {n:,} cells x {na} antennas): "
           f"{t_floor:.3f} s; chain / floor = {t_chain / t_floor:.1f}x (target <= 4x)")
+
+
+def chunked_runs(args, *, from_file: bool) -> None:
+    part = "5. from file" if from_file else "4. chunked"
     runs = []
     with tempfile.TemporaryDirectory() as tmp:
         for factor in args.factors:
             side = int(round(args.base * factor ** 0.5))
+            extra = []
+            if from_file:
+                soil = os.path.join(tmp, f"soil{factor}.nc")
+                subprocess.run([sys.executable, __file__, "--write-soil", str(side), str(args.chunk), soil],
+                               capture_output=True, text=True, check=True)
+                extra = [soil]
             r = subprocess.run([sys.executable, __file__, "--child", str(side), str(args.chunk),
-                                os.path.join(tmp, f"map{factor}.nc")], capture_output=True, text=True, check=True)
+                                os.path.join(tmp, f"map{factor}.nc"), *extra], capture_output=True, text=True,
+                               check=True)
+            if from_file:
+                os.remove(extra[0])
             res = json.loads(r.stdout.strip().splitlines()[-1])
             res["factor"] = factor
             runs.append(res)
-            print(f"4. chunked {factor:>2}x: {side}x{side} = {res['cells']:,} cells, {res['tiles']} tiles of "
+            print(f"{part} {factor:>2}x: {side}x{side} = {res['cells']:,} cells, {res['tiles']} tiles of "
                   f"{args.chunk}, {res['seconds']:.1f} s wall ({res['cells'] / res['seconds']:,.0f} cells/s), "
                   f"{res['cpu_seconds']:.1f} s CPU, "
                   f"peak RSS {res['peak_rss_mib']:.0f} MiB")
@@ -223,7 +275,6 @@ def main() -> int:
     print("   time per cell relative to 1x: " + ", ".join(f"{r['factor']}x: {g:.2f}" for r, g in
                                                          zip(runs[1:], growth)) + " wall; "
           + ", ".join(f"{r['factor']}x: {g:.2f}" for r, g in zip(runs[1:], growth_cpu)) + " CPU (target <= 1.10)")
-    return 0
 
 
 if __name__ == "__main__":

@@ -43,7 +43,7 @@ import os
 
 import numpy as np
 
-__all__ = ["write_netcdf", "label_name", "CONVENTIONS"]
+__all__ = ["write_netcdf", "label_name", "CONVENTIONS", "limit_read_chunk_cache"]
 
 CONVENTIONS = "CF-1.8"
 #: default edge (cells) of the y/x chunks of variables held in memory
@@ -126,6 +126,45 @@ def _set_cache(var, chunks, itemsize: int, *, leading: int) -> dict:
     slots = _next_prime(100 * n_chunks)
     var.set_var_chunk_cache(size=size, nelems=slots, preemption=1.0)
     return {"bytes": size, "slots": slots}
+
+
+#: smallest read cache per variable set by :func:`limit_read_chunk_cache` (bytes)
+_READ_CACHE_MIN = 1 << 20
+
+
+def limit_read_chunk_cache(path, tile: int) -> dict:
+    """Lower netCDF-C's default per-variable chunk cache to what reading ``path`` in ``tile``² windows needs.
+
+    netCDF-C gives every variable of every file opened afterwards a chunk cache of its
+    default size (64 MiB in netCDF-C 4.9-4.10), filled as chunks are read: a raster read
+    tile by tile grows by up to that much per variable with the size of the region, though
+    each tile reads its own chunks.  The cache is set (process-wide, for files opened from
+    now on: it applies when a variable is first read) to hold the chunks one tile window
+    touches in the most demanding 2-D variable of ``path`` — at least 1 MiB, and never
+    more than the current default, which is only ever lowered.
+
+    Returns the cache settings before and after (``before``, ``after``: size, slots, preemption).
+    """
+    import netCDF4
+
+    before = netCDF4.get_chunk_cache()
+    need, n_chunks = 0, 1
+    with netCDF4.Dataset(os.fspath(path)) as nc:
+        for v in nc.variables.values():
+            if v.ndim != 2:
+                continue
+            chunking = v.chunking()
+            if chunking == "contiguous":
+                continue
+            touched = [int(np.ceil(int(tile) / int(c))) + (1 if int(tile) % int(c) else 0) for c in chunking]
+            count = int(np.prod(touched))
+            nbytes = count * int(np.prod(chunking)) * v.dtype.itemsize
+            if nbytes > need:
+                need, n_chunks = nbytes, count
+    size = int(min(before[0], max(need, _READ_CACHE_MIN)))
+    slots = _next_prime(100 * n_chunks)
+    netCDF4.set_chunk_cache(size, slots, before[2])
+    return {"before": before, "after": netCDF4.get_chunk_cache()}
 
 
 def _define(nc, ds, *, dtype, complevel: int, tile):

@@ -117,7 +117,11 @@ def open_region(path, *, chunk: int = 512, quantities=None):
         raise FileInputError(path, "regional soil raster not found")
     if int(chunk) < 16:
         raise InputError(f"chunk must be at least 16 cells, got {chunk}")
+    from ..io.netcdf import limit_read_chunk_cache
+
     try:
+        # netCDF-C's default 64 MiB cache per variable would grow with the region read tile by tile
+        limit_read_chunk_cache(path, int(chunk))
         ds = xr.open_dataset(path, chunks={}, engine="netcdf4")
     except (OSError, ValueError) as exc:
         raise FileInputError(path, f"cannot read as NetCDF: {exc}") from None

@@ -168,6 +168,41 @@ def test_open_region_reads_lazily_and_converts_units(soil_numpy, tmp_path):
     assert "crs_wkt" in ds["crs"].attrs
 
 
+@pytest.fixture
+def restore_chunk_cache():
+    before = netCDF4.get_chunk_cache()
+    yield before
+    netCDF4.set_chunk_cache(*before)
+
+
+def _chunked_raster(path, n, chunk, dtype):
+    with netCDF4.Dataset(path, "w") as nc:
+        nc.createDimension("y", n)
+        nc.createDimension("x", n)
+        v = nc.createVariable("moisture", dtype, ("y", "x"), chunksizes=(chunk, chunk), zlib=True)
+        v.units = "1"
+        v[:] = np.full((n, n), 0.2, dtype)
+
+
+@pytest.mark.parametrize("n, file_chunk, dtype, tile, expected", [
+    (256, 32, "f4", 64, 1 << 20),  # 2 x 2 chunks of 4 KiB: the 1 MiB floor
+    (1024, 1024, "f8", 512, 4 * 1024 * 1024 * 8),  # a misaligned window touches 2 x 2 chunks of 8 MiB
+])
+def test_open_region_lowers_the_read_chunk_cache(tmp_path, restore_chunk_cache, n, file_chunk, dtype, tile,
+                                                 expected):
+    """netCDF-C's default read cache (64 MiB per variable, grows with the region read tile by tile) is
+    lowered to the chunks one tile window touches (sizes from the chunking written here), never raised;
+    the values read are unchanged."""
+    path = tmp_path / "soil.nc"
+    _chunked_raster(path, n, file_chunk, dtype)
+    ds = scale.open_region(path, chunk=tile)
+    size, slots, _ = netCDF4.get_chunk_cache()
+    assert size == min(expected, restore_chunk_cache[0])
+    assert size <= restore_chunk_cache[0] and slots >= 100
+    np.testing.assert_array_equal(ds["moisture"].values, np.full((n, n), np.float64(np.float32(0.2))
+                                                                 if dtype == "f4" else 0.2))
+
+
 def test_out_of_range_raster_values_name_file_and_variable(soil_numpy, antennas, target, tmp_path):
     """A moisture of 90 % (outside 0–0.7) stops the run with a FileInputError naming the variable."""
     path = tmp_path / "bad.nc"
