@@ -197,6 +197,27 @@ def _check_flag_range(flag: str, text, value: float, fact, unit: str) -> None:
                          f"({fact.doc})")
 
 
+#: Frequencies a medium flag may name, Hz.  Common practice, not a published bound: GPR works
+#: from ~10 MHz to a few GHz, and a decade or more either side still means something here; below
+#: ~1 kHz ground response is quasi-static (electrode and induced polarisation, which no model here
+#: describes), above ~100 GHz water's second (fast) relaxation and scattering by sand grains
+#: comparable to the wavelength leave the single-Debye, plane-wave mixing models.
+FREQUENCY_RANGE_HZ = (1e3, 1e11)
+
+
+def frequency_flag(text, flag: str) -> float:
+    """A frequency flag (bare number: MHz) in Hz, refused outside :data:`FREQUENCY_RANGE_HZ` naming ``flag``."""
+    from ..errors import InputError
+    from ..units import parse_quantity
+
+    f = parse_quantity(text, "frequency", default_unit="MHz", name=flag)
+    low, high = FREQUENCY_RANGE_HZ
+    if not low <= f <= high:
+        raise InputError(f"{flag} must be between 1 kHz and 100 GHz (0.001 to 1e+05 MHz; the models here describe "
+                         f"radio frequencies only), got {text!r}")
+    return f
+
+
 def _plain_number(text, flag: str) -> float:
     from ..errors import InputError
 
@@ -228,7 +249,6 @@ def _clay_cec(text) -> float:
 def _direct_loss_slope(args, eps, facts):
     """(Q of the constant-Q ε or None, note) for a direct ground from --q-star or two --attenuation-at."""
     from ..errors import InputError
-    from ..units import parse_quantity
 
     q_star = getattr(args, "q_star", None)
     pairs = getattr(args, "attenuation_at", None)
@@ -255,10 +275,10 @@ def _direct_loss_slope(args, eps, facts):
         if "=" not in text:
             raise InputError(f"--attenuation-at: write FREQUENCY=ATTENUATION, e.g. '100 MHz=1.5', got {text!r}")
         fs, a_s = text.split("=", 1)
-        f = parse_quantity(fs, "frequency", default_unit="MHz", name="--attenuation-at frequency")
+        f = frequency_flag(fs, "--attenuation-at frequency")
         a = _plain_number(a_s.lower().replace("db/m", ""), "--attenuation-at attenuation (dB/m)")
-        if f <= 0 or a < 0:
-            raise InputError(f"--attenuation-at needs a frequency > 0 and an attenuation >= 0 dB/m, got {text!r}")
+        if a < 0:
+            raise InputError(f"--attenuation-at needs an attenuation >= 0 dB/m, got {text!r}")
         pts.append((f, a / (20.0 / math.log(10.0))))
     fit = loss_from_two_attenuations(eps.real, pts[0][0], pts[0][1], pts[1][0], pts[1][1])
     facts["sigma_s_per_m"] = fit.sigma

@@ -128,8 +128,10 @@ def _calibrate(args, staged: dict):
                          f"{args.reference_reflection!r}") from None
     if not 0 < refl <= 1:
         raise InputError(f"--reference-reflection must be in (0, 1], got {args.reference_reflection!r}")
-    if args.stacks is not None and args.stacks < 1:
-        raise InputError(f"--stacks must be an integer >= 1, got {args.stacks}")
+    from ..planning.plan import MAX_STACKS
+
+    if args.stacks is not None and not 1 <= args.stacks <= MAX_STACKS:
+        raise InputError(f"--stacks must be an integer between 1 and {MAX_STACKS}, got {args.stacks}")
     with collect_warnings() as notes:
         antenna = get_antenna(args.antenna, load_catalogue(args.catalogue))
         medium = medium_from_args(args, required=False)

@@ -97,13 +97,20 @@ def layers_from_args(args):
     return tuple(parse_layer(t) for t in (getattr(args, "over", None) or ()))
 
 
+#: Deepest target depth a plan may ask for (m).  Our limit, stated: radio-echo sounding of polar
+#: ice, the deepest radar work there is, reaches about 4 km (the thickest Antarctic ice is ~4.8 km,
+#: from memory); a depth of a megametre planned a margin of -7.9 million dB.
+MAX_DEPTH_M = 1e4
+
+
 def parse_depth(text, name="--depth"):
     from ..errors import InputError
     from ..units import parse_quantity
 
     d = parse_quantity(text, "length", default_unit="m", name=name)
-    if d <= 0:
-        raise InputError(f"{name} must be > 0 m, got {text!r}")
+    if not 0 < d <= MAX_DEPTH_M:
+        raise InputError(f"{name} must be > 0 m and at most {MAX_DEPTH_M / 1e3:g} km (deeper than any radar "
+                         f"sounding reaches), got {text!r}")
     return d
 
 

@@ -78,16 +78,10 @@ LOSS_COLUMNS_SPEC = [
 
 def run(args) -> int:
     from ..io.outputs import Column, collect_warnings, format_table, print_notes, print_result
-    from ..units import parse_quantity
-    from ._medium_args import medium_from_args
+    from ._medium_args import frequency_flag, medium_from_args
 
     if args.freq:
-        freqs = [parse_quantity(v, "frequency", default_unit="MHz", name="--freq") for v in args.freq]
-        for v, f in zip(args.freq, freqs):
-            if f <= 0:
-                from ..errors import InputError
-
-                raise InputError(f"--freq must be > 0, got {v!r}")
+        freqs = [frequency_flag(v, "--freq") for v in args.freq]
     else:
         freqs = [m * 1e6 for m in DEFAULT_FREQS_MHZ]
     with collect_warnings() as notes:

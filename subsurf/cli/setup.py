@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from ..planning.plan import ROWS_SPEC, acquisition_for_antenna
+from ..planning.plan import MAX_STACKS, ROWS_SPEC, acquisition_for_antenna
 
 HELP = "acquisition settings (time window, sampling, trace/line spacing, separation, speed) for an antenna"
 EXAMPLE = """subsurf setup --antenna midband-250 --texture loam --moisture "25 %" --target line --depth 1.5 --size 0.1 --material metal --area "2000 m^2"
@@ -41,19 +41,24 @@ def run(args) -> int:
     depth = parse_depth(args.depth) if args.depth is not None else None
     surface = parse_surface_loss(args.surface_loss)
 
-    def positive(text, kind, unit, name):
+    def positive(text, kind, unit, name, high=None, shown=""):
         if text is None:
             return None
         v = parse_quantity(text, kind, default_unit=unit, name=name)
         if v <= 0:
             raise InputError(f"{name} must be > 0, got {text!r}")
+        if high is not None and v > high:
+            raise InputError(f"{name} must be at most {shown}, got {text!r}; plan a larger site in parts")
         return v
 
-    area = positive(args.area, "area", "m**2", "--area")
-    line_length = positive(args.line_length, "length", "m", "--line-length")
+    # Our limits, stated: 100 km² is already ~24 000 h of towing at 1 m/s over 2D lines, and a
+    # survey line longer than 100 km is a route, not a line (--area 1e30 planned 2.4e26 h).
+    area = positive(args.area, "area", "m**2", "--area", 1e8, "100 km^2 (1e8 m^2)")
+    line_length = positive(args.line_length, "length", "m", "--line-length", 1e5, "100 km")
     speed = positive(args.speed, "speed", "m/s", "--speed")
-    if args.stacks is not None and args.stacks < 1:
-        raise InputError(f"--stacks must be an integer >= 1, got {args.stacks}")
+    if args.stacks is not None and not 1 <= args.stacks <= MAX_STACKS:
+        raise InputError(f"--stacks must be an integer between 1 and {MAX_STACKS} (beyond the clutter limit "
+                         f"stacking adds under 1 dB per doubling), got {args.stacks}")
     with collect_warnings() as warns:
         antenna = get_antenna(args.antenna, load_catalogue(args.catalogue))
         medium = medium_from_args(args, required=not args.calibration)

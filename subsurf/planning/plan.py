@@ -5,7 +5,13 @@ Shared by ``subsurf setup`` and the planning report; numbers in human units (ns,
 
 from __future__ import annotations
 
-__all__ = ["ROWS_SPEC", "acquisition_for_antenna"]
+__all__ = ["ROWS_SPEC", "MAX_STACKS", "acquisition_for_antenna"]
+
+#: Most traces a plan may stack (2^16).  Our limit, stated: stacking beats random noise, not
+#: clutter, so past clutter_stack_limit (64 at a 15 dB clutter limit) a doubling adds under 1 dB,
+#: and 65536 stacks already slow a 250 MHz antenna to ~0.2 mm/s; beyond, the plan is nonsense
+#: (--stacks 99999999999999999999 planned a towing speed of 1.4e-19 m/s).
+MAX_STACKS = 2**16
 
 #: key, label, unit, format, rule of each row of the plan
 ROWS_SPEC = [
@@ -56,8 +62,9 @@ def acquisition_for_antenna(medium, antenna, *, target=None, depth_m=None, surfa
     notes = []
     reachable = True
     verdict_word = None
-    if stacks is not None and stacks < 1:
-        raise InputError(f"--stacks must be >= 1, got {stacks}")
+    if stacks is not None and not 1 <= stacks <= MAX_STACKS:
+        raise InputError(f"--stacks must be an integer between 1 and {MAX_STACKS} (beyond the clutter limit "
+                         f"stacking adds under 1 dB per doubling), got {stacks}")
     if depth_m is None:
         if target is None:
             raise InputError("give a --depth of interest, or a target (--target ...) whose maximum depth is used")
@@ -77,6 +84,10 @@ def acquisition_for_antenna(medium, antenna, *, target=None, depth_m=None, surfa
         margin0 = float(budget["margin_db"])
         too_shallow = bool(budget["too_shallow"])
         limit = clutter_stack_limit(antenna.clutter_limit_db)
+        if stacks is not None and stacks > limit:
+            notes.append(f"{stacks} stacks is beyond the {limit} that help against this antenna's clutter limit "
+                         f"({antenna.clutter_limit_db:g} dB): each doubling past {limit} adds under 1 dB and halves "
+                         "the towing speed")
         if stacks is None:
             n = stacks_for_margin(margin0, wanted_db=REACHES_MARGIN_DB, current_stacks=antenna.stacks,
                                   clutter_limit_db=antenna.clutter_limit_db)

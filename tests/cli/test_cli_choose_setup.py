@@ -125,6 +125,27 @@ def test_setup_never_exceeds_clutter_limit_and_says_out_of_reach():
     assert p.returncode == 0 and "no survey planned" in p.stdout and "survey time" not in p.stdout
 
 
+def test_setup_given_stacks_beyond_the_clutter_limit_are_noted():
+    """A user's --stacks past the clutter limit is planned but noted: a doubling there adds under 1 dB."""
+    import math
+
+    # Outside check: the clutter-limited stacking gain G(N) = 10·log10((1 + c)/(1/N + c)),
+    # c = 10^(-C/10) (Annan 2009, as in the stacks row's rule); at C = 15 dB going 64 -> 128 adds
+    # under 1 dB and 32 -> 64 still more, so 64 is the limit the note must name.
+    c = 10 ** (-15 / 10)
+
+    def gain(n):
+        return 10 * math.log10((1 + c) / (1 / n + c))
+
+    assert gain(128) - gain(64) < 1.0 <= gain(64) - gain(32)
+    p = run("setup", "--antenna", "midband-250", "--texture", "loam", "--moisture", "20 %", "--target", "line",
+            "--depth", "1.2", "--size", "0.15", "--material", "metal", "--stacks", "4096", "--json")
+    assert p.returncode == 0, p.stderr
+    out = json.loads(p.stdout)
+    assert out["settings"]["stacks"] == 4096
+    assert any("4096 stacks is beyond the 64" in n for n in out["notes"]), out["notes"]
+
+
 @pytest.mark.parametrize("args,flag", [
     (("--over", "0 m asphalt"), "--over"),
     (("--over", "-0.1 m asphalt"), "--over"),
