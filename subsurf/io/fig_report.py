@@ -27,6 +27,9 @@ __all__ = [
 
 _new_figure = new_figure
 
+#: Background of a label that sits among curves or outlines: a line passing under it stays behind it.
+_LABEL_BOX = {"boxstyle": "round,pad=0.2", "facecolor": "white", "edgecolor": "none", "alpha": 0.9}
+
 
 def _mark_antennas(ax, antenna_freqs_hz):
     for f in antenna_freqs_hz or ():
@@ -71,7 +74,8 @@ def site_map_png(outline_rings, samples=(), *, crs_name: str = "", scale_m: floa
         ax.plot(ring[:, 0] - x0, ring[:, 1] - y0, color=PALETTE["third"], linewidth=1.0,
                 linestyle="--", label="soil zones" if j == 0 else None)
         c = ring[:-1].mean(axis=0) if len(ring) > 1 else ring[0]
-        ax.annotate(name, (c[0] - x0, c[1] - y0), fontsize=SIZES["legend"], color=PALETTE["third"], ha="center")
+        ax.annotate(name, (c[0] - x0, c[1] - y0), fontsize=SIZES["legend"], color=PALETTE["third"], ha="center",
+                    bbox=_LABEL_BOX, zorder=6)
     markers = ["o", "s", "^", "D"]
     colours = [PALETTE["second"], PALETTE["ink"], PALETTE["third"], PALETTE["muted"]]
     for k, (label, sx, sy) in enumerate(samples):
@@ -176,7 +180,7 @@ def max_depth_png(freq_hz, depth_curves, target_depth_m: float, antennas, *, tar
         ax.annotate(a["name"] + (" (recommended)" if rec else ""), (a["freq_hz"] / 1e6, min(d, top * 1.05)),
                     xytext=(5, 4), textcoords="offset points", fontsize=SIZES["legend"],
                     color=PALETTE["second"] if rec else PALETTE["ink"],
-                    fontweight="bold" if rec else "normal")
+                    fontweight="bold" if rec else "normal", bbox=_LABEL_BOX, zorder=6)
     ax.set_xscale("log")
     _plain_log_ticks(ax.xaxis, subs=(1.0, 2.0, 5.0))
     ax.set_ylim(top * 1.12, 0.0)  # depth increases downward

@@ -47,11 +47,11 @@ PALETTE = {
     "site": "#e6efe9",
     "grid": "#d5dbe1",
     "grid_minor": "#eef1f4",
-    "hatch": "#4a4a4a",
+    "hatch": "#8a939c",  # mid grey: visible on the darkest and the palest map classes
 }
 
 #: Font sizes (points) by role.
-SIZES = {"suptitle": 10, "title": 9, "label": 9, "tick": 8, "legend": 7, "note": 7, "map_label": 8, "map_tick": 7}
+SIZES = {"suptitle": 10, "title": 9, "label": 9, "tick": 8, "legend": 7, "note": 7, "map_label": 9, "map_tick": 8}
 
 #: Resolution of every PNG (dots per inch).
 DPI = 110
@@ -138,6 +138,10 @@ def png_bytes(fig) -> bytes:
 
     buf = io.BytesIO()
     with mpl.rc_context(rc()):
+        # Constrained layout places titles and legends from the sizes of the previous draw: on a
+        # figure's first draw they are not known yet (a panel title can land on the suptitle), so
+        # draw once without output and save the second, settled layout.
+        fig.draw_without_rendering()
         fig.savefig(buf, format="png", dpi=DPI, facecolor="white")
     return buf.getvalue()
 

@@ -140,6 +140,38 @@ def test_html_is_printable(page):
     assert "break-inside: avoid" in page
 
 
+def _print_rules(page) -> dict[str, str]:
+    """Selector -> declarations of the @media print block (the page's one inline stylesheet)."""
+    start = page.index("@media print")
+    body, depth = [], 0
+    for ch in page[page.index("{", start):]:
+        depth += {"{": 1, "}": -1}.get(ch, 0)
+        body.append(ch)
+        if depth == 0:
+            break
+    inner = re.sub(r"/\*.*?\*/", "", "".join(body)[1:-1], flags=re.S)
+    rules = {}
+    for sel, decl in re.findall(r"([^{}]+)\{([^{}]*)\}", inner):
+        for one in sel.split(","):
+            rules[one.strip()] = rules.get(one.strip(), "") + decl
+    return rules
+
+
+def test_printed_headings_stay_with_their_content(page):
+    """Printed (A4), a heading is never left alone at a page bottom: no break after it or before its next block.
+
+    CSS Fragmentation Level 3 (W3C), 'break-after: avoid' / 'break-before: avoid', with the CSS 2.1
+    'page-break-*' spellings for older engines; every heading is followed by content in its section.
+    """
+    rules = _print_rules(page)
+    for h in ("h2", "h3"):
+        assert "break-after: avoid" in rules[h] and "page-break-after: avoid" in rules[h]
+        assert "break-before: avoid" in rules[f"{h} + *"]
+    assert "break-inside: avoid" in rules["figure"]
+    assert "max-height" in rules["figure img"]  # a figure fits one page, so it can be kept whole
+    assert not re.search(r"</h[23]>\s*</section>", page)
+
+
 def test_html_carries_the_cautions(page):
     """The safety section names every caution the issue asks for."""
     for phrase in ("not locations of buried objects", "verify buried services", "licens",
