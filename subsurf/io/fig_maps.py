@@ -66,6 +66,11 @@ def _decorate(ax, grid, *, outline=None, samples=None, extrapolated=None, crs_na
         ax.scatter(samples[0], samples[1], s=14, marker="o", facecolor="white", edgecolor=PALETTE["ink"], lw=0.7,
                    zorder=5, label="soil samples")
     ax.set_aspect("equal")
+    if outline is not None:  # the whole outline in view, with a little room, so its line is not cut by the frame
+        x0, y0, x1, y1 = outline.bounds
+        pad = 0.02 * max(x1 - x0, y1 - y0)
+        ax.set_xlim(min(x0, x.min()) - pad, max(x1, x.max()) + pad)
+        ax.set_ylim(min(y0, y.min()) - pad, max(y1, y.max()) + pad)
     from matplotlib.ticker import MaxNLocator
 
     ax.xaxis.set_major_locator(MaxNLocator(4))
