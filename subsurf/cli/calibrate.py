@@ -54,8 +54,13 @@ def add_arguments(parser) -> None:
     o.add_argument("--force", action="store_true", help="overwrite existing outputs")
 
 
+#: the speed of light in air, m/s (scipy.constants.c, with a part-per-billion allowance)
+_C_AIR = 299792458.0 * (1 + 1e-9)
+
+
 def _velocity(args, q, medium, fc):
     import json
+    import math
     from pathlib import Path
 
     from ..errors import FileInputError, InputError
@@ -63,9 +68,18 @@ def _velocity(args, q, medium, fc):
     given = [n for n, a in (("--velocity", args.velocity), ("--velocity-from", args.velocity_from)) if a]
     if len(given) > 1:
         raise InputError("give the velocity as one of --velocity or --velocity-from, not both")
+    def se_flag():
+        se = q(args.velocity_se, "velocity", "m/ns", "--velocity-se")
+        if se < 0:
+            raise InputError(f"--velocity-se must be >= 0 m/ns, got {args.velocity_se!r}")
+        return se
+
     if args.velocity:
         v = q(args.velocity, "velocity", "m/ns", "--velocity")
-        return v, q(args.velocity_se, "velocity", "m/ns", "--velocity-se"), "--velocity"
+        if not 0 < v <= _C_AIR:
+            raise InputError(f"--velocity must be > 0 and at most 0.2998 m/ns (the speed of light in air), "
+                             f"got {args.velocity!r}")
+        return v, se_flag(), "--velocity"
     if args.velocity_from:
         p = Path(args.velocity_from)
         try:
@@ -76,20 +90,26 @@ def _velocity(args, q, medium, fc):
                 if not fits:
                     raise FileInputError(p, f"no fit for target {args.velocity_target!r}", field="fits")
             fit = fits[0]
-            return (float(fit["velocity_m_per_ns"]) * 1e9, float(fit["velocity_se_m_per_ns"]) * 1e9,
-                    f"{p} (target {fit.get('target', '?')})")
+            v, se = float(fit["velocity_m_per_ns"]) * 1e9, float(fit["velocity_se_m_per_ns"]) * 1e9
         except FileNotFoundError:
             raise FileInputError(p, "file not found") from None
         except (ValueError, KeyError, IndexError, TypeError, AttributeError):
             raise FileInputError(p, "not a 'subsurf velocity --out-json' result (needs fits[].velocity_m_per_ns "
                                  "and velocity_se_m_per_ns)") from None
+        if not 0 < v <= _C_AIR:  # NaN fails too
+            raise FileInputError(p, f"must be > 0 and at most 0.2998 m/ns (the speed of light in air), got "
+                                 f"{v * 1e-9:g}", field="velocity_m_per_ns")
+        if not (math.isfinite(se) and se >= 0):
+            raise FileInputError(p, f"must be a finite number >= 0 m/ns, got {se * 1e-9:g}",
+                                 field="velocity_se_m_per_ns")
+        return v, se, f"{p} (target {fit.get('target', '?')})"
     if medium is None:
         raise InputError("give the ground velocity: --velocity, --velocity-from FILE, or ground facts "
                          "(--texture/--moisture/..., --eps) for the soil model")
     from ..waves.propagation import wave_properties
 
     eps, sig = medium.electrical(fc)
-    return (float(wave_properties(eps, sig, fc).velocity), q(args.velocity_se, "velocity", "m/ns", "--velocity-se"),
+    return (float(wave_properties(eps, sig, fc).velocity), se_flag(),
             f"soil model ({medium.label}) at {fc / 1e6:g} MHz")
 
 
@@ -136,9 +156,7 @@ def _calibrate(args, staged: dict):
         antenna = get_antenna(args.antenna, load_catalogue(args.catalogue))
         medium = medium_from_args(args, required=False)
         fc = antenna.centre_freq_hz
-        v, v_se, v_source = _velocity(args, q, medium, fc)
-        if not 0 < v <= 299792458.0 * (1 + 1e-9) or v_se < 0:
-            raise InputError(f"velocity must be in (0, 0.2998] m/ns with se >= 0, got {v * 1e-9:g} ± {v_se * 1e-9:g}")
+        v, v_se, v_source = _velocity(args, q, medium, fc)  # each source checked where it is read
         sep = antenna.separation_m if args.separation is None else q(args.separation, "length", "m", "--separation")
         profile = read_profile(args.profile, fmt=args.format, segy_time_unit=args.segy_time_unit)
         stacks = args.stacks or profile.stacks or antenna.stacks

@@ -38,15 +38,28 @@ def add_arguments(parser) -> None:
 
 
 def _calibration(args, q):
+    from ..errors import InputError
     from ..interpretation.velocity import velocity_from_calibration
 
+    # checked here in the flags' own units, so a message names the flag the user typed rather
+    # than the library's parameter (was 'twt_sd_s must be >= 0 s, got -1e-09' for --pick-sd -1)
     d = q(args.known_depth, "length", "m", "--known-depth")
     t = q(args.twt, "time", "ns", "--twt")
-    res = velocity_from_calibration(t, d, offset_m=q(args.offset, "length", "m", "--offset"),
-                                    twt_sd_s=q(args.pick_sd, "time", "ns", "--pick-sd"),
-                                    depth_sd_m=q(args.depth_sd, "length", "m", "--depth-sd"),
-                                    time_zero_s=q(args.time_zero, "time", "ns", "--time-zero"),
-                                    time_zero_sd_s=q(args.time_zero_sd, "time", "ns", "--time-zero-sd"))
+    given = {"--offset": (args.offset, q(args.offset, "length", "m", "--offset"), "m"),
+             "--pick-sd": (args.pick_sd, q(args.pick_sd, "time", "ns", "--pick-sd"), "ns"),
+             "--depth-sd": (args.depth_sd, q(args.depth_sd, "length", "m", "--depth-sd"), "m"),
+             "--time-zero-sd": (args.time_zero_sd, q(args.time_zero_sd, "time", "ns", "--time-zero-sd"), "ns")}
+    if d <= 0:
+        raise InputError(f"--known-depth must be > 0 m, got {args.known_depth!r}")
+    for flag, (text, value, unit) in given.items():
+        if value < 0:
+            raise InputError(f"{flag} must be >= 0 {unit}, got {text!r}")
+    tz = q(args.time_zero, "time", "ns", "--time-zero")
+    if t <= tz:
+        raise InputError(f"--twt must be later than --time-zero ({tz * 1e9:g} ns), got {args.twt!r}")
+    res = velocity_from_calibration(t, d, offset_m=given["--offset"][1], twt_sd_s=given["--pick-sd"][1],
+                                    depth_sd_m=given["--depth-sd"][1], time_zero_s=tz,
+                                    time_zero_sd_s=given["--time-zero-sd"][1])
     v, se = float(res.velocity), float(res.velocity_se)
     return {"target": "calibration", "method": "known depth", "velocity_m_per_ns": v * 1e-9,
             "velocity_se_m_per_ns": se * 1e-9, "permittivity": (299792458.0 / v) ** 2,

@@ -32,6 +32,8 @@ def read_profile(path, *, fmt: Literal["auto", "segy", "netcdf", "csv"] = "auto"
                  segy_time_unit: Literal["us", "ns", "ps"] = "us") -> TraceProfile:
     """Read a test profile; ``fmt="auto"`` goes by the suffix (.sgy/.segy, .nc, .csv)."""
     p = Path(path)
+    if p.is_dir():
+        raise FileInputError(p, "is a folder; a file is needed here")
     if not p.is_file():
         raise FileInputError(p, "file not found")
     if fmt == "auto":
