@@ -78,18 +78,9 @@ def load_calibration(path):
 
 def calibrated_antennas(antennas, record):
     """Antennas with the calibrated one's performance replaced: (list, names replaced)."""
-    from dataclasses import replace
+    from ..interpretation.calibrated_ground import calibrated_antennas as _replace
 
-    name = record["antenna"]["name"]
-    single = float(record["effective_performance"]["single_trace_db"])
-    out, hit = [], []
-    for a in antennas:
-        if a.name == name:
-            out.append(replace(a, performance_db=single, illustrative=False))
-            hit.append(a.name)
-        else:
-            out.append(a)
-    return out, hit
+    return _replace(antennas, record)
 
 
 def calibration_summary(path, record, replaced) -> dict:
@@ -109,7 +100,7 @@ def calibration_summary(path, record, replaced) -> dict:
 def calibration_note(path, record, replaced) -> str:
     att, q = record["attenuation"], record["q_star"]["value"]
     text = (f"CALIBRATED to the site by {path}: ground attenuation {att['db_per_m']:.3g} dB/m at "
-            f"{att['reference_freq_mhz']:.4g} MHz" + (f", Q* = {q:.3g}" if q is not None else ", no Q* (α held flat)")
+            f"{att['reference_freq_mhz']:.4g} MHz" + (f", Q* = {q:.3g}" if q is not None else ", no Q* (constant ε′, σ)")
             + f", velocity {record['velocity']['m_per_ns']:.4f} m/ns measured on site, not the soil model")
     perf = record["effective_performance"]["single_trace_db"]
     if replaced:
@@ -120,12 +111,19 @@ def calibration_note(path, record, replaced) -> str:
     return text
 
 
-def replan_inputs(args, medium, antennas):
-    """(ground, antennas, summary) with ``--calibration`` applied; unchanged (summary None) without it."""
+def replan_inputs(args, medium, antennas, catalogue=None):
+    """(ground, antennas, summary) with ``--calibration`` applied; unchanged (summary None) without it.
+
+    With ``catalogue``, a calibration made with an antenna it lacks, or has at another
+    frequency, is refused (one line naming the calibration file and key)."""
     path = getattr(args, "calibration", None)
     if not path:
         return medium, antennas, None
     ground, record = load_calibration(path)
+    if catalogue is not None:
+        from ..interpretation.calibrated_ground import check_calibrated_antenna
+
+        check_calibrated_antenna(record, catalogue, source=path)
     antennas, replaced = calibrated_antennas(antennas, record)
     return ground, antennas, calibration_summary(path, record, replaced)
 

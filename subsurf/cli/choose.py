@@ -226,7 +226,7 @@ def run(args) -> int:
         layers = layers_from_args(args)
         from ._calibration import add_model_columns, replan_inputs
 
-        ground, used, calibration = replan_inputs(args, medium, antennas)
+        ground, used, calibration = replan_inputs(args, medium, antennas, catalogue)
         result = compute(ground, target, used, surface_loss_db=surface, layers=layers)
         if calibration and medium is not None:  # predicted (soil model, catalogue) beside observed
             add_model_columns(result["rows"], compute(medium, target, antennas, surface_loss_db=surface,

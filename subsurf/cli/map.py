@@ -18,6 +18,10 @@ def add_arguments(parser) -> None:
     parser.add_argument("--force", action="store_true", help="overwrite existing outputs")
     parser.add_argument("--no-geotiff", action="store_true", help="skip the GeoTIFF layers even if "
                         "rioxarray is installed")
+    parser.add_argument("--calibration", metavar="JSON", help="site calibration written by 'subsurf calibrate' "
+                        "(instead of the survey's [calibration] file): the measured attenuation, Q*, velocity and "
+                        "effective performance replace the soil model's and the catalogue's, anchored at the "
+                        "site-median soil")
 
 
 def summary_text(result: dict, out_dir) -> str:
@@ -31,8 +35,9 @@ def summary_text(result: dict, out_dir) -> str:
     t, g, mc = result["target"], result["grid"], result["monte_carlo"]
     table = format_table(result["summary"], cols, title=f"{result['site']}: area where each antenna reaches the "
                          f"{t['kind']} target at {t['depth_m']:g} m")
+    cal = [result["calibration"]["note"] + ".", ""] if result.get("calibration") else []
     return "\n".join([
-        table, "",
+        *cal, table, "",
         f"Reach probability: first-order where accurate, Monte Carlo ({mc['draws']} draws, seed "
         f"{mc['seed']}) on " + ", ".join(f"{100 * f:.1f} %" for f in mc["sampled_fraction"].values())
         + f" of the cells; estimated error <= {mc['max_estimated_error']:.3f}.",
@@ -62,10 +67,11 @@ def run(args) -> int:
     # input notes (ignored columns, partial rasters, kriging ...) and model warnings become note: lines
     with collect_warnings() as notes, txn:  # the folder is staged, then moved into place whole with its manifest
         result = run_map(args.survey, staged, force=True, quiet=args.quiet or args.json,
-                         geotiff=not args.no_geotiff, preflight=preflight)
+                         geotiff=not args.no_geotiff, preflight=preflight, calibration=args.calibration)
     result = txn.public(result)
     text = summary_text(result, args.out)
-    payload = {"caution": CAUTION, **{k: result[k] for k in ("paths", "summary", "inputs", "monte_carlo")},
+    payload = {"caution": CAUTION, **{k: result[k] for k in ("paths", "summary", "inputs", "monte_carlo",
+                                                              "calibration")},
                "text": text, "warnings": notes}
     print_result(payload, text, as_json=args.json)
     print_notes(list(txn.notes) + notes, quiet=args.quiet or args.json)

@@ -60,11 +60,12 @@ def run(args) -> int:
         raise InputError(f"--stacks must be an integer between 1 and {MAX_STACKS} (beyond the clutter limit "
                          f"stacking adds under 1 dB per doubling), got {args.stacks}")
     with collect_warnings() as warns:
-        antenna = get_antenna(args.antenna, load_catalogue(args.catalogue))
+        catalogue = load_catalogue(args.catalogue)
+        antenna = get_antenna(args.antenna, catalogue)
         medium = medium_from_args(args, required=not args.calibration)
         from ._calibration import replan_inputs
 
-        medium, (antenna,), calibration = replan_inputs(args, medium, [antenna])
+        medium, (antenna,), calibration = replan_inputs(args, medium, [antenna], catalogue)
         target = target_from_args(args, depth_m=depth)
         result = acquisition_for_antenna(medium, antenna, target=target, depth_m=depth, surface_loss_db=surface,
                                          stacks=args.stacks, area_m2=area, line_length_m=line_length,

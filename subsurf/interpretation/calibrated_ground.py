@@ -18,7 +18,8 @@ from scipy import constants
 from ..errors import InputError, ModelRangeWarning, check_nonnegative, check_positive
 from ..waves.propagation import NP_TO_DB
 
-__all__ = ["effective_medium", "CalibratedGround", "model_predictions", "solver_depth"]
+__all__ = ["effective_medium", "CalibratedGround", "model_predictions", "solver_depth", "check_calibrated_antenna",
+           "calibrated_antennas"]
 
 
 def effective_medium(alpha_np_per_m, velocity, freq_hz):
@@ -71,9 +72,10 @@ class CalibratedGround:
         α at ``reference_freq_hz`` (dB/m).
     reference_freq_hz : float
     slope_db_per_m_per_hz : float
-        dα/df (dB/m per Hz) = 8.686·π/(Q*·v); 0 when Q* was not resolved.
+        dα/df (dB/m per Hz) = 8.686·π/(Q*·v); 0 when Q* was not resolved (then the ground is
+        the constant-(ε', σ) medium with α and v at the reference frequency).
     velocity : float
-        m/s, taken as the same at every frequency.
+        m/s, taken as the same at every frequency (with Q*).
     band_hz : (float, float)
         Frequencies the calibration measured; outside them α(f) is extrapolated (warned).
     label : str
@@ -91,20 +93,42 @@ class CalibratedGround:
     facts: dict = field(default_factory=dict)
 
     def attenuation_at(self, freq_hz) -> np.ndarray:
-        """α(f) in dB/m (≥ 0), warning once when a frequency lies outside the calibrated band."""
+        """α(f) in dB/m (≥ 0), warning once when a frequency lies outside the calibrated band.
+
+        With Q*: the constant-Q line α_ref + s·(f − f_ref), clipped at 0 and, far below the
+        band, at the largest α any ground of this velocity can have (ε' ≥ 1:
+        α ≤ β·√(1 − v²/c²), β = 2πf/v).  Without Q*: the α(f) of the constant-(ε', σ)
+        medium that has α_ref and v at f_ref (nearly flat above its transition frequency,
+        falling below it), so the ground stays physical at every frequency of the band.
+        """
         f = np.asarray(freq_hz, dtype=float)
         lo, hi = self.band_hz
         outside = (f < lo * (1 - 1e-9)) | (f > hi * (1 + 1e-9))
         if np.any(outside):
             warnings.warn(f"site calibration measured {lo / 1e6:.4g}–{hi / 1e6:.4g} MHz; the attenuation outside "
                           "that band is extrapolated along its "
-                          f"{'Q* slope' if self.slope_db_per_m_per_hz else 'single value (no Q* resolved)'}",
+                          f"{'Q* slope' if self.slope_db_per_m_per_hz else 'constant-ε′, σ medium (no Q* resolved)'}",
                           ModelRangeWarning, stacklevel=3)
-        return np.maximum(self.attenuation_db_per_m + self.slope_db_per_m_per_hz * (f - self.reference_freq_hz), 0.0)
+        if not self.slope_db_per_m_per_hz:
+            from ..waves.propagation import _alpha_beta
+
+            eps, sigma = effective_medium(self.attenuation_db_per_m / NP_TO_DB, self.velocity, self.reference_freq_hz)
+            alpha, _ = _alpha_beta(eps, 0.0, sigma, 2.0 * np.pi * f)
+            return alpha * NP_TO_DB
+        line = np.maximum(self.attenuation_db_per_m + self.slope_db_per_m_per_hz * (f - self.reference_freq_hz), 0.0)
+        ceiling = 0.999 * NP_TO_DB * 2.0 * np.pi * f / self.velocity * np.sqrt(
+            max(1.0 - (self.velocity / constants.c) ** 2, 0.0))
+        return np.minimum(line, ceiling)
 
     def electrical(self, freq_hz):
-        """(eps, sigma) at ``freq_hz`` reproducing the calibrated α(f) and v (see :func:`effective_medium`)."""
+        """(eps, sigma) at ``freq_hz`` reproducing the calibrated α(f) and v (see :func:`effective_medium`).
+
+        Without Q*, the constant-(ε', σ) medium itself (its velocity varies slightly away from f_ref)."""
         f = np.asarray(freq_hz, dtype=float)
+        if not self.slope_db_per_m_per_hz:
+            self.attenuation_at(f)  # the out-of-band warning
+            eps, sigma = effective_medium(self.attenuation_db_per_m / NP_TO_DB, self.velocity, self.reference_freq_hz)
+            return np.full(f.shape, complex(eps)), np.full(f.shape, float(sigma))
         eps, sigma = effective_medium(self.attenuation_at(f) / NP_TO_DB, self.velocity, f)
         return eps.astype(complex), sigma
 
@@ -173,3 +197,66 @@ def solver_depth(attenuation_db_per_m: float, velocity: float, freq_hz: float, p
     eps, sig = effective_medium(max(attenuation_db_per_m, 0.0) / NP_TO_DB, velocity, freq_hz)
     return float(max_depth(eps, sig, freq_hz, performance_db, target=Target("planar", reflection=reference_reflection),
                            gain=gain))
+
+
+def check_calibrated_antenna(record: dict, catalogue: dict, *, source) -> None:
+    """Refuse a calibration made with an antenna the catalogue does not have, or has at another frequency.
+
+    Parameters
+    ----------
+    record : dict
+        Content of a calibration file (human units).
+    catalogue : dict of str -> Antenna
+        The catalogue the plan uses.
+    source : str or Path
+        The calibration file, for the message.
+
+    Raises
+    ------
+    FileInputError
+        Naming ``antenna.name`` (not in the catalogue) or ``antenna.centre_freq_mhz`` /
+        ``antenna.bandwidth_mhz`` (more than 1 % from the catalogue's: a different antenna
+        under the same name, whose effective performance would be misapplied).
+    """
+    from ..errors import FileInputError
+
+    ant = record.get("antenna") or {}
+    name = ant.get("name")
+    if name not in catalogue:
+        raise FileInputError(source, f"antenna {name!r} is not in the antenna catalogue used "
+                             f"(available: {', '.join(catalogue)})", field="antenna.name")
+    a = catalogue[name]
+    for key, mine in (("centre_freq_mhz", a.centre_freq_hz / 1e6), ("bandwidth_mhz", a.bandwidth_hz / 1e6)):
+        theirs = ant.get(key)
+        if theirs is None:
+            continue
+        if isinstance(theirs, bool) or not isinstance(theirs, (int, float)) or not np.isfinite(theirs):
+            raise FileInputError(source, f"must be a finite number, got {theirs!r}", field=f"antenna.{key}")
+        if abs(theirs - mine) > 0.01 * mine:
+            raise FileInputError(source, f"{theirs:g} MHz, but the catalogue's {name} has {mine:g} MHz: the "
+                                 "calibration was made with a different antenna (calibrate again with this one, "
+                                 "or use the catalogue it was made with)", field=f"antenna.{key}")
+
+
+def calibrated_antennas(antennas, record: dict):
+    """Antennas with the calibrated one's single-trace performance replaced by the measured figure.
+
+    Returns
+    -------
+    (list, list of str)
+        The antennas (the calibrated one no longer marked illustrative) and the names replaced
+        (empty when the calibrated antenna is not among them).  Stacking gain is then added
+        with each antenna's own stacks, as for the catalogue figure.
+    """
+    from dataclasses import replace
+
+    name = record["antenna"]["name"]
+    single = float(record["effective_performance"]["single_trace_db"])
+    out, hit = [], []
+    for a in antennas:
+        if a.name == name:
+            out.append(replace(a, performance_db=single, illustrative=False))
+            hit.append(a.name)
+        else:
+            out.append(a)
+    return out, hit

@@ -88,7 +88,7 @@ def output_paths(out_dir, survey, *, geotiff: bool) -> dict[str, Path]:
     return paths
 
 
-def summary_markdown(rows, survey, caution: str) -> str:
+def summary_markdown(rows, survey, caution: str, calibration=None) -> str:
     """The summary table as Markdown with the target, grid and Monte Carlo settings and the caution."""
     from .outputs import Column
 
@@ -103,6 +103,7 @@ def summary_markdown(rows, survey, caution: str) -> str:
         f"Grid: {survey.cell_size_m:g} m cells in {survey.grid_crs.name}. "
         f"Reach probability: first-order where accurate, else Monte Carlo ({survey.draws} draws, "
         f"seed {survey.seed}).", "",
+        *([f"**{calibration.note()}.**", ""] if calibration is not None else []),
         head, sep, *body, "", f"> **Caution.** {caution}", ""])
 
 
@@ -116,17 +117,18 @@ def summary_table_columns():
                         fmt="" if f == "s" else ".4g") for k, h, u, f in SUMMARY_COLUMNS]
 
 
-def summary_csv_files(rows, csv_path, survey) -> dict[Path, str]:
+def summary_csv_files(rows, csv_path, survey, calibration=None) -> dict[Path, str]:
     """Path -> text of the summary CSV (caution column on every row) and its CSVW/.csvt sidecars."""
     from .tables import table_files
 
     return table_files(csv_path, rows, summary_table_columns(),
                        title=f"subsurf map: area each antenna reaches, per scenario ({survey.name})",
                        notes=[f"target: {survey.target.kind} at {survey.target.depth_m:g} m depth",
-                              f"grid: {survey.cell_size_m:g} m cells in {survey.grid_crs.name}"])
+                              f"grid: {survey.cell_size_m:g} m cells in {survey.grid_crs.name}",
+                              *([calibration.note()] if calibration is not None else [])])
 
 
-def _netcdf_attrs(survey) -> dict:
+def _netcdf_attrs(survey, calibration=None) -> dict:
     from .. import __version__
     from .outputs import CAUTION
 
@@ -138,7 +140,16 @@ def _netcdf_attrs(survey) -> dict:
         "references": "surveys/README.md (survey schema); README section 'Feasibility maps'",
         "comment": CAUTION,
         "caution": CAUTION,
+        **({"calibration": calibration.note(), "calibration_file": str(calibration.path)}
+           if calibration is not None else {}),
     }
+
+
+def calibration_caption(calibration) -> str:
+    """The line every figure of a calibrated map carries (wrapped to the figure width)."""
+    import textwrap
+
+    return textwrap.fill(calibration.note() + ".", width=150)
 
 
 def _figures(maps):
@@ -159,7 +170,19 @@ def _figures(maps):
     figs = {antenna_figure_key(sc.name): antennas(sc) for sc in survey.scenarios}
     figs["png_scenarios"] = lambda: fig_maps.scenario_figure(grid, ds, target_depth_m=depth, **common)
     figs["png_inputs"] = lambda: fig_maps.inputs_figure(grid, maps.soil, **common)
-    return figs
+    if maps.calibration is None:
+        return figs
+    from .figstyle import SIZES
+
+    def captioned(make):
+        def run():
+            fig = make()
+            fig.supxlabel(calibration_caption(maps.calibration), fontsize=SIZES["note"])
+            return fig
+        return run
+
+    # the soil inputs are the survey's own: no calibration caption there
+    return {k: (captioned(m) if k != "png_inputs" else m) for k, m in figs.items()}
 
 
 def _geotiff_transform(x, y, cell_m: float):
@@ -215,17 +238,18 @@ def write_map_outputs(maps, out_dir, *, force: bool = False, geotiff: bool = Tru
     check_outputs_free(paths.values(), force=force)
     rows = maps.rows
     written: dict[str, Path] = {}
-    write_netcdf(maps.dataset, paths["netcdf"], force=force, attrs=_netcdf_attrs(survey))
+    write_netcdf(maps.dataset, paths["netcdf"], force=force, attrs=_netcdf_attrs(survey, maps.calibration))
     written["netcdf"] = paths["netcdf"]
     by_path = {p: k for k, p in paths.items()}
-    for path, content in summary_csv_files(rows, paths["summary_csv"], survey).items():
+    for path, content in summary_csv_files(rows, paths["summary_csv"], survey, maps.calibration).items():
         written[by_path[path]] = atomic_write_text(path, content, force=force)
-    written["summary_md"] = atomic_write_text(paths["summary_md"], summary_markdown(rows, survey, CAUTION),
-                                              force=force)
+    written["summary_md"] = atomic_write_text(
+        paths["summary_md"], summary_markdown(rows, survey, CAUTION, maps.calibration), force=force)
     grid = maps.grid
     summary_json = {"caution": CAUTION, "inputs": survey.describe(), "summary": rows, "monte_carlo": maps.monte_carlo,
                     "grid": {"nx": int(grid.sizes["x"]), "ny": int(grid.sizes["y"]),
-                             "cells_inside": int(grid["mask"].values.sum())}}
+                             "cells_inside": int(grid["mask"].values.sum())},
+                    "calibration": None if maps.calibration is None else maps.calibration.describe()}
     written["summary_json"] = atomic_write_text(
         paths["summary_json"], json.dumps(to_jsonable(summary_json), indent=2, allow_nan=False), force=force)
     for key, make in _figures(maps).items():
@@ -236,7 +260,7 @@ def write_map_outputs(maps, out_dir, *, force: bool = False, geotiff: bool = Tru
 
 
 def run_map(survey_path, out_dir, *, force: bool = False, quiet: bool = False, geotiff: bool = True,
-            preflight=None) -> dict:
+            preflight=None, calibration=None) -> dict:
     """Compute and write every output of ``subsurf map`` for one survey.
 
     Parameters
@@ -254,6 +278,8 @@ def run_map(survey_path, out_dir, *, force: bool = False, quiet: bool = False, g
     preflight : callable, optional
         Called as ``preflight(survey, geotiff)`` once the survey is read, before any
         computation (e.g. to check free space for the outputs).
+    calibration : str or Path, optional
+        Site calibration file, instead of the survey's ``[calibration] file``.
 
     Returns
     -------
@@ -261,7 +287,8 @@ def run_map(survey_path, out_dir, *, force: bool = False, quiet: bool = False, g
         ``paths`` (output kind -> path written), ``summary`` (one row per scenario and
         antenna), ``inputs`` (the survey description), ``monte_carlo``, ``grid`` (nx, ny,
         cells inside, CRS name and source, cell size), ``geotiff`` (whether GeoTIFFs were
-        written) and ``caution``.
+        written), ``calibration`` (what the calibration is and does; None without one) and
+        ``caution``.
     """
     from ..site.maps import compute_maps
     from ..site.survey import load_survey
@@ -272,7 +299,7 @@ def run_map(survey_path, out_dir, *, force: bool = False, quiet: bool = False, g
     check_outputs_free(output_paths(out_dir, survey, geotiff=geotiff).values(), force=force)
     if preflight is not None:
         preflight(survey, geotiff)
-    maps = compute_maps(survey, quiet=quiet)
+    maps = compute_maps(survey, quiet=quiet, calibration=calibration)
     written = write_map_outputs(maps, out_dir, force=force, geotiff=geotiff)
     grid = maps.grid
     return {"paths": {k: str(v) for k, v in written.items()}, "summary": maps.rows, "inputs": survey.describe(),
@@ -280,4 +307,5 @@ def run_map(survey_path, out_dir, *, force: bool = False, quiet: bool = False, g
             "grid": {"nx": int(grid.sizes["x"]), "ny": int(grid.sizes["y"]),
                      "cells_inside": int(grid["mask"].values.sum()), "crs_name": survey.grid_crs.name,
                      "crs_source": survey.grid_crs_source, "cell_size_m": survey.cell_size_m},
-            "site": survey.name, "target": {"kind": survey.target.kind, "depth_m": survey.target.depth_m}}
+            "site": survey.name, "target": {"kind": survey.target.kind, "depth_m": survey.target.depth_m},
+            "calibration": None if maps.calibration is None else maps.calibration.describe()}

@@ -92,7 +92,7 @@ def _soil_porosity_limit(texture, bulk_density):
 def feasibility_chain(moisture, *, freq_hz, performance_db, target, target_depth_m, gain=None,
                       bandwidth_hz=None, separation_m=0.0, pulse_length_s=None, sand=None, clay=None,
                       bulk_density=None, temp_c=20.0, pore_water_ec25=None, pore_water_salinity_psu=None,
-                      texture=None, model="crim", surface_loss_db=None, margin_only: bool = False):
+                      texture=None, model="crim", surface_loss_db=None, margin_only=False, calibration=None):
     """Per-cell chain: soil facts → ε, σ, velocity, attenuation, maximum depth, margin, resolution.
 
     Parameters
@@ -123,6 +123,8 @@ def feasibility_chain(moisture, *, freq_hz, performance_db, target, target_depth
         Soil dielectric model.
     margin_only : bool
         Return only ``margin_db`` (what the Monte Carlo needs; about half the work).
+    calibration : subsurf.site.calibrated.GridCalibration, optional
+        Site calibration: the measured α(f), v replace the model's (:mod:`subsurf.site.calibrated`).
 
     Returns
     -------
@@ -139,7 +141,7 @@ def feasibility_chain(moisture, *, freq_hz, performance_db, target, target_depth
     the budget, depth, blind zone and resolution from
     :func:`subsurf.detection.evaluate.antenna_budget`, the function ``choose`` uses.
     """
-    from ..detection.evaluate import antenna_budget
+    from ..detection.evaluate import antenna_budget, soil_loss_terms
     from ..ground import Soil
     from ..waves.propagation import NP_TO_DB, _alpha_beta
 
@@ -168,9 +170,9 @@ def feasibility_chain(moisture, *, freq_hz, performance_db, target, target_depth
         f_nodes, w_nodes = _band_axes(freq, np.asarray(bandwidth_hz, dtype=float))
     band_soil = Soil(texture=texture, model=model, **{k: np.asarray(v)[..., None] for k, v in filled.items()})
     eps_b, sig_b = band_soil.electrical(f_nodes)
-    from ..detection.evaluate import soil_loss_terms
-
     extra_b, surface_b = soil_loss_terms(band_soil, f_nodes, eps_b)
+    if calibration is not None:  # the site's measured ground (scattering and roughness are in it)
+        (eps_b, sig_b), extra_b, surface_b = calibration.electrical(band_soil, f_nodes, eps_b, sig_b), 0.0, 1.0
     fixed_gain = None if gain is None or np.all(np.isnan(np.asarray(gain, dtype=float))) else gain
     # ε, σ from the Soil just validated: the budget does not re-check them
     res = antenna_budget(eps_b, sig_b, f_nodes, w_nodes, target, depth_m=target_depth_m,
@@ -181,7 +183,8 @@ def feasibility_chain(moisture, *, freq_hz, performance_db, target, target_depth
     if margin_only:
         vm = np.broadcast_to(valid, np.shape(res["margin_db"]))
         return {"margin_db": np.where(vm, res["margin_db"], np.nan), "too_shallow": res["too_shallow"] & vm}
-    eps, sigma = soil.electrical(freq_hz)
+    eps, sigma = soil.electrical(freq_hz) if calibration is None else calibration.electrical(
+        soil, freq_hz, *soil.electrical(freq_hz))
     omega = 2.0 * np.pi * freq
     eps_arr = np.asarray(eps)
     alpha, beta = _alpha_beta(eps_arr.real, -eps_arr.imag, sigma, omega)
@@ -288,7 +291,7 @@ def _clip_moisture(values: dict, *, texture, margin: float = 0.995):
     return values
 
 
-def evaluate(values: dict, antennas, *, target, target_depth_m, texture=None, model="crim"):
+def evaluate(values: dict, antennas, *, target, target_depth_m, texture=None, model="crim", calibration=None):
     """The chain for every antenna at every cell.
 
     Moisture above the porosity (e.g. from a wet scenario) is clipped to saturation.
@@ -311,7 +314,7 @@ def evaluate(values: dict, antennas, *, target, target_depth_m, texture=None, mo
     try:
         # the band-integrated budget of `choose` (fixed band frequencies per antenna, no per-cell loop)
         return feasibility_chain(target=target, target_depth_m=target_depth_m, texture=texture, model=model,
-                                 **_antenna_chain_kwargs(antennas, ndim), **_chain_kwargs(values))
+                                 calibration=calibration, **_antenna_chain_kwargs(antennas, ndim), **_chain_kwargs(values))
     except SubsurfError as exc:
         raise InputError(f"soil inputs on the grid are not physically possible: {exc}") from None
 
@@ -349,7 +352,7 @@ def recommend_antenna(margin_db, freq_hz, *, reaches_db=None, too_shallow=None):
 
 
 def reach_probability(values: dict, sds: dict, antennas, *, target, target_depth_m, draws: int, seed: int,
-                      texture=None, model="crim", method="auto"):
+                      texture=None, model="crim", method="auto", calibration=None):
     """Per-cell probability that each antenna reaches the target depth (margin ≥ 0), and its error.
 
     The estimate of :func:`subsurf.site.probability.reach_probability` (first-order where
@@ -366,7 +369,7 @@ def reach_probability(values: dict, sds: dict, antennas, *, target, target_depth
     from .probability import reach_probability as _estimate
 
     r = _estimate(values, sds, antennas, target=target, target_depth_m=target_depth_m, draws=draws, seed=seed,
-                  texture=texture, model=model, method=method)
+                  texture=texture, model=model, method=method, calibration=calibration)
     return r.probability, r.error
 
 

@@ -40,6 +40,8 @@ class FeasibilityMaps:
     target : subsurf.detection.budget.Target
     fractions : list of dict
         Per scenario, :func:`subsurf.site.feasibility.area_fractions` of the site.
+    calibration : subsurf.site.calibrated.GridCalibration or None
+        The site calibration the maps use (None: the soil model and the catalogue).
     """
 
     survey: object
@@ -49,6 +51,7 @@ class FeasibilityMaps:
     antennas: list
     target: object
     fractions: list = field(default_factory=list)
+    calibration: object = None
 
     @property
     def rows(self) -> list[dict]:
@@ -80,7 +83,7 @@ def _antennas_and_target(survey):
     return antennas, target
 
 
-def compute_maps(survey, *, quiet: bool = True) -> FeasibilityMaps:
+def compute_maps(survey, *, quiet: bool = True, calibration=None) -> FeasibilityMaps:
     """Grid, soil inputs and every feasibility layer of ``survey``.
 
     Parameters
@@ -89,6 +92,10 @@ def compute_maps(survey, *, quiet: bool = True) -> FeasibilityMaps:
         A loaded survey (:func:`subsurf.site.survey.load_survey`).
     quiet : bool
         No progress bar (one step per scenario, on stderr, only on a terminal).
+    calibration : str or Path, optional
+        A site calibration file (``subsurf calibrate``) used instead of the survey's
+        ``[calibration] file``; either replaces the soil model's α(f), v and the calibrated
+        antenna's performance (:mod:`subsurf.site.calibrated`).
 
     Returns
     -------
@@ -103,12 +110,25 @@ def compute_maps(survey, *, quiet: bool = True) -> FeasibilityMaps:
     from .probability import DEFAULT_TOLERANCE, reach_probability
 
     antennas, target = _antennas_and_target(survey)
+    cal = None
+    if calibration is not None or survey.calibration_path is not None:
+        from .calibrated import load_grid_calibration
+
+        cal, antennas = load_grid_calibration(calibration if calibration is not None else survey.calibration_path,
+                                              survey, antennas,
+                                              field_name=None if calibration is not None else "[calibration] file")
     n_ant, n_sc = len(antennas), len(survey.scenarios)
     grid = build_grid(survey, n_layers=n_ant * n_sc * 12)
     soil = soil_on_grid(survey, grid)
     inside = grid["mask"].values.astype(bool)
     base_values = {q: soil[q].values for q in fz.SOIL_FIELDS if q in soil}
     base_sd = {q: soil[q + "_sd"].values for q in base_values}
+    if cal is not None:  # the anchor: site medians of the soil inputs as mapped (before scenarios)
+        from dataclasses import replace as _replace
+
+        from .calibrated import reference_soil
+
+        cal = _replace(cal, reference=fz._clip_moisture(reference_soil(base_values, inside), texture=survey.texture))
     layers = {k: [] for k in fz.LAYER_ATTRS}
     rec_all, fractions, sampled = [], [], []
     freqs = [a.centre_freq_hz for a in antennas]
@@ -117,7 +137,7 @@ def compute_maps(survey, *, quiet: bool = True) -> FeasibilityMaps:
             bar.start(sc.name)
             vals = fz.apply_scenario(base_values, sc)
             common = {"target": target, "target_depth_m": survey.target.depth_m, "texture": survey.texture,
-                      "model": survey.soil_model}
+                      "model": survey.soil_model, "calibration": cal}
             out = fz.evaluate(vals, antennas, **common)
             r = reach_probability(vals, base_sd, antennas, draws=survey.draws, seed=survey.seed, **common)
             p, se = r.probability, r.error
@@ -165,8 +185,16 @@ def compute_maps(survey, *, quiet: bool = True) -> FeasibilityMaps:
         "soil_model": survey.soil_model,
         "site_outline_wkt": grid.attrs["site_outline_wkt"],
     }
+    if cal is not None:
+        ds.attrs["calibration"] = cal.note()
+        ds.attrs["calibration_file"] = str(cal.path)
+        for k in ("eps_real", "eps_imag", "sigma", "velocity", "attenuation_db_per_m", "max_depth", "margin_db"):
+            ds[k].attrs["comment"] = ("from the site calibration " + cal.path.name + " (measured attenuation and "
+                                      "velocity anchored at the site-median soil), not the soil model alone"
+                                      + ("; sigma is the effective conductivity, eps_imag 0" if k in
+                                         ("sigma", "eps_imag") else ""))
     return FeasibilityMaps(survey=survey, dataset=ds, grid=grid, soil=soil, antennas=antennas, target=target,
-                           fractions=fractions)
+                           fractions=fractions, calibration=cal)
 
 
 def summary_rows(maps: FeasibilityMaps) -> list[dict]:

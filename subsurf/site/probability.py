@@ -112,7 +112,7 @@ def _normal_cdf(x):
 class _Problem:
     """The flattened inputs and the margin function M(x) of a reach-probability call."""
 
-    def __init__(self, values, sds, antennas, *, target, target_depth_m, texture, model):
+    def __init__(self, values, sds, antennas, *, target, target_depth_m, texture, model, calibration=None):
         from .feasibility import _antenna_axes, _soil_porosity_limit
         from .survey import QUANTITIES
 
@@ -134,7 +134,8 @@ class _Problem:
             self.high["moisture"] = np.minimum(self.high["moisture"], 0.995 * np.broadcast_to(phi, (ref.size,)))
         self.freq, self.perf, self.gain, _ = _antenna_axes(antennas, 2)
         self.n_ant = len(antennas)
-        self.kw = {"target": target, "target_depth_m": target_depth_m, "texture": texture, "model": model}
+        self.kw = {"target": target, "target_depth_m": target_depth_m, "texture": texture, "model": model,
+                   "calibration": calibration}
 
     def margins(self, fields):
         """Margin (dB) of every antenna, shape (n_antennas, m, c), for fields of shape (m, c)."""
@@ -335,7 +336,7 @@ def _sampled(prob: _Problem, cells: np.ndarray, draws: int, seed: int):
 
 def reach_probability(values: dict, sds: dict, antennas, *, target, target_depth_m: float, draws: int,
                       seed: int, texture: str | None = None, model: str = "crim", method: Method = "auto",
-                      tolerance: float = DEFAULT_TOLERANCE) -> ReachProbability:
+                      tolerance: float = DEFAULT_TOLERANCE, calibration=None) -> ReachProbability:
     """Per-cell probability that each antenna reaches the target depth (margin ≥ 0).
 
     Parameters
@@ -354,6 +355,8 @@ def reach_probability(values: dict, sds: dict, antennas, *, target, target_depth
         See the module docstring.
     tolerance : float
         Largest estimated error of the linearised estimate accepted by ``"auto"``.
+    calibration : subsurf.site.calibrated.GridCalibration, optional
+        Site calibration in every evaluation (its own standard errors are not drawn).
 
     Returns
     -------
@@ -369,7 +372,7 @@ def reach_probability(values: dict, sds: dict, antennas, *, target, target_depth
     if not 0.0 < tolerance < 1.0:
         raise InputError(f"tolerance must be between 0 and 1 (a probability), got {tolerance!r}")
     prob = _Problem(values, sds, antennas, target=target, target_depth_m=target_depth_m, texture=texture,
-                    model=model)
+                    model=model, calibration=calibration)
     n = prob.valid.size
     p = np.full((prob.n_ant, n), np.nan)
     err = np.full((prob.n_ant, n), np.nan)

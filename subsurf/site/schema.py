@@ -260,6 +260,14 @@ class Scenario(Strict):
     offset: _OffsetValues = Field(default_factory=_OffsetValues)  # type: ignore[valid-type]
 
 
+class Calibration(Strict):
+    """[calibration]: plan with a site calibration written by ``subsurf calibrate``."""
+
+    file: RelPath = Field(description="calibration file (JSON, schema subsurf-site-calibration): the measured "
+                          "attenuation, Q*, velocity and effective performance replace the soil model's and the "
+                          "catalogue's, anchored at the site-median soil")
+
+
 class MonteCarlo(Strict):
     """[monte_carlo]: the per-cell reach probability."""
 
@@ -277,6 +285,7 @@ class SurveyFile(Strict):
     antennas: Annotated[Antennas, BeforeValidator(_names_list)]
     scenarios: list[Scenario] = Field(default_factory=list)
     monte_carlo: MonteCarlo = Field(default_factory=MonteCarlo)
+    calibration: Calibration | None = None
 
     @field_validator("scenarios")
     @classmethod

@@ -98,6 +98,7 @@ class Survey:
     catalogue_path: Path | None = None  # the survey's own antenna catalogue (None: the bundled one)
     interpolation: str = "auto"  # samples to grid: "auto", "kriging" or "spline"
     variogram: str = "exponential"  # variogram model family for kriging
+    calibration_path: Path | None = None  # [calibration] file: a site calibration (subsurf calibrate)
 
     def describe(self) -> dict:
         """Plain summary of the inputs for reports and JSON (no arrays; defaults under keys with units)."""
@@ -126,6 +127,7 @@ class Survey:
                        "size_m": self.target.size_m, "material": self.target.material},
             "antennas": list(self.antennas),
             "catalogue": None if self.catalogue_path is None else str(self.catalogue_path),
+            "calibration": None if self.calibration_path is None else str(self.calibration_path),
             "scenarios": [{"name": s.name, "description": s.description} for s in self.scenarios],
             "monte_carlo_draws": self.draws,
             "monte_carlo_seed": self.seed,
@@ -258,6 +260,11 @@ def load_survey(path) -> Survey:
     size = t.size if t.size is not None else (1.0 if t.kind == "planar" else 0.1)
     target = TargetSpec(kind=t.kind, depth_m=t.depth, size_m=size, material=t.material)
     catalogue_path = _catalogue(spec.antennas, path=path)
+    calibration_path = None
+    if spec.calibration is not None:
+        calibration_path = (path.parent / spec.calibration.file).resolve()
+        if not calibration_path.is_file():
+            raise fail(path, "[calibration] file", f"calibration file not found: {calibration_path}")
 
     scenarios = [Scenario(name=s.name, description=s.description, set=s.set.model_dump(exclude_none=True),
                           scale=s.scale.model_dump(exclude_none=True), offset=s.offset.model_dump(exclude_none=True))
@@ -269,4 +276,5 @@ def load_survey(path) -> Survey:
                   texture=texture, defaults=defaults, default_sd=default_sd, samples=samples, zones=zones,
                   rasters=rasters, target=target, antennas=list(spec.antennas.names), scenarios=scenarios,
                   draws=spec.monte_carlo.draws, seed=spec.monte_carlo.seed, max_cells=spec.grid.max_cells,
-                  catalogue_path=catalogue_path, interpolation=soil.interpolation, variogram=soil.variogram)
+                  catalogue_path=catalogue_path, interpolation=soil.interpolation, variogram=soil.variogram,
+                  calibration_path=calibration_path)

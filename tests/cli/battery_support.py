@@ -45,6 +45,28 @@ def _variant(text: str, old: str, new: str) -> str:
     return text.replace(old, new)
 
 
+def _calibration_files(ws: Path) -> None:
+    """Site calibration files (invented numbers) that are wrong in one way each."""
+    import copy
+    import json
+
+    good = {"schema": "subsurf-site-calibration", "schema_version": 1,
+            "antenna": {"name": "midband-250", "centre_freq_mhz": 250.0, "bandwidth_mhz": 250.0},
+            "velocity": {"m_per_ns": 0.1, "se_m_per_ns": 0.003},
+            "attenuation": {"db_per_m": 4.0, "se_db_per_m": 0.3, "reference_freq_mhz": 250.0},
+            "penetration": {"depth_m": 2.5, "se_m": 0.1}, "q_star": {"value": 25.0, "se": 3.0},
+            "band_mhz": [120.0, 320.0],
+            "effective_performance": {"db": 70.0, "se_db": 1.5, "single_trace_db": 64.0, "stacks": 4,
+                                      "reference_reflection": 0.1}}
+    freq = copy.deepcopy(good)
+    freq["antenna"]["centre_freq_mhz"] = 400.0  # made with another antenna under the same name
+    nokey = copy.deepcopy(good)
+    del nokey["penetration"]["depth_m"]
+    version = dict(good, schema_version=9)
+    for name, rec in (("freq", freq), ("nokey", nokey), ("v9", version)):
+        (ws / f"cal_{name}.json").write_text(json.dumps(rec), encoding="utf-8")
+
+
 def make_workspace(ws: Path) -> None:
     """Fill ``ws`` with the good inputs, the broken ones and a few pre-existing outputs to protect."""
     shutil.copytree(SITE, ws / "site", ignore=shutil.ignore_patterns("make_example.py"))
@@ -61,8 +83,11 @@ def make_workspace(ws: Path) -> None:
         "syntax": survey.replace("[target]", "[target\n"),
         "zonesdir": _variant(survey, 'file = "zones.geojson"', 'file = "zonesdir"'),
     }
+    variants["calmissing"] = survey + '\n[calibration]\nfile = "nowhere_cal.json"\n'
+    variants["calfreq"] = survey + '\n[calibration]\nfile = "../cal_freq.json"\n'
     for name, text in variants.items():
         (ws / "site" / f"survey_{name}.toml").write_text(text, encoding="utf-8")
+    _calibration_files(ws)
     (ws / "site" / "survey_latin1.toml").write_bytes(survey.replace("INVENTED site", "INVENTED caf\xe9").encode("latin-1"))
     (ws / "site" / "features_strings.geojson").write_text('{"type": "FeatureCollection", "features": ["a", "b"]}')
     (ws / "site" / "not_raster.nc").write_text("this is not a raster\n")

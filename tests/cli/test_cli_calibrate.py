@@ -141,3 +141,64 @@ def test_bad_inputs_one_line_exit_1(tmp_path, problem, expect):
     assert res.returncode == 1, res.stderr
     assert len(res.stderr.strip().splitlines()) == 1
     assert str(p) in res.stderr and expect in res.stderr
+
+
+def _small_survey(folder, calibration=None):
+    """A fictional 40 m × 30 m uniform box in UTM 31N mapped with the calibrated antenna."""
+    text = """[site]
+name = "calibrated box (invented)"
+bbox = [500000.0, 5700000.0, 500040.0, 5700030.0]
+crs = "EPSG:32631"
+[grid]
+cell_size = "10 m"
+[soil]
+texture = "loam"
+[soil.defaults]
+moisture = "20 %"
+[target]
+kind = "line"
+depth = "1.2 m"
+size = "0.15 m"
+material = "metal"
+[antennas]
+names = ["midband-250", "midband-500"]
+"""
+    if calibration:
+        text += f'[calibration]\nfile = "{calibration}"\n'
+    p = folder / "survey.toml"
+    p.write_text(text)
+    return p
+
+
+def test_map_with_calibration_says_so_everywhere(calibration, tmp_path):
+    """map --calibration: the console, JSON, NetCDF, Markdown summary all say the map is calibrated, and the
+    calibrated antenna's median max depth equals choose --calibration's on this uniform site."""
+    import shutil
+
+    import xarray as xr
+
+    _, path = calibration
+    shutil.copy(path, tmp_path / "site-cal.json")
+    survey = _small_survey(tmp_path, calibration="site-cal.json")  # the survey key, relative to the file
+    res = run("map", survey, "--out", tmp_path / "m", "--json", "--quiet", "--no-geotiff")
+    assert res.returncode == 0, res.stderr
+    out = json.loads(res.stdout)
+    assert "CALIBRATED" in out["text"] and out["calibration"]["antenna"] == "midband-250"
+    assert out["calibration"]["performance_replaced_for"] == ["midband-250"]
+    with xr.open_dataset(tmp_path / "m" / "feasibility.nc") as ds:
+        assert "CALIBRATED" in ds.attrs["calibration"] and "calibration" in ds["max_depth"].attrs["comment"]
+    assert "CALIBRATED" in (tmp_path / "m" / "summary.md").read_text()
+    ch = run("choose", "--calibration", tmp_path / "site-cal.json", "--texture", "loam", "--moisture", "20 %",
+             "--target", "line", "--depth", "1.2", "--size", "15 cm", "--material", "metal", "--json", "--quiet")
+    assert ch.returncode == 0, ch.stderr
+    want = {r["name"]: r["max_depth_m"] for r in json.loads(ch.stdout)["rows"]}
+    got = {r["antenna"]: r["median_max_depth_m"] for r in out["summary"]}
+    for name in ("midband-250", "midband-500"):  # agreement across code paths (float32 layers)
+        assert got[name] == pytest.approx(want[name], rel=1e-5)
+    # without a calibration the map is the soil model's; the flag alone calibrates it
+    plain = _small_survey(tmp_path)  # the same box, no [calibration] table
+    res = run("map", plain, "--out", tmp_path / "m2", "--json", "--quiet", "--no-geotiff")
+    assert res.returncode == 0 and json.loads(res.stdout)["calibration"] is None
+    res = run("map", plain, "--calibration", tmp_path / "site-cal.json", "--out", tmp_path / "m3", "--json",
+              "--quiet", "--no-geotiff")
+    assert res.returncode == 0 and json.loads(res.stdout)["calibration"]["file"] == str(tmp_path / "site-cal.json")
