@@ -191,7 +191,7 @@ def test_map_with_calibration_says_so_everywhere(calibration, tmp_path):
     ch = run("choose", "--calibration", tmp_path / "site-cal.json", "--texture", "loam", "--moisture", "20 %",
              "--target", "line", "--depth", "1.2", "--size", "15 cm", "--material", "metal", "--json", "--quiet")
     assert ch.returncode == 0, ch.stderr
-    want = {r["name"]: r["max_depth_m"] for r in json.loads(ch.stdout)["rows"]}
+    want = {r["antenna"]: r["max_depth_m"] for r in json.loads(ch.stdout)["rows"]}
     got = {r["antenna"]: r["median_max_depth_m"] for r in out["summary"]}
     for name in ("midband-250", "midband-500"):  # agreement across code paths (float32 layers)
         assert got[name] == pytest.approx(want[name], rel=1e-5)
