@@ -169,6 +169,7 @@ def max_depth_png(freq_hz, depth_curves, target_depth_m: float, antennas, *, tar
     ax.axhline(target_depth_m, color=PALETTE["second"], linewidth=1.4, linestyle="--")
     ax.annotate(f"{target_label}: {target_depth_m:.2g} m", (f_mhz.min(), target_depth_m),
                 xytext=(4, -11), textcoords="offset points", fontsize=SIZES["tick"], color=PALETTE["second"])
+    labels = []
     for a in antennas:
         rec = bool(a.get("recommended"))
         d = float(a["max_depth_m"])
@@ -177,10 +178,11 @@ def max_depth_png(freq_hz, depth_curves, target_depth_m: float, antennas, *, tar
                    marker="*" if rec else ("o" if reach else "x"),
                    color=PALETTE["second"] if rec else (PALETTE["accent"] if reach else PALETTE["ink"]),
                    zorder=4, edgecolor="white" if reach or rec else None, linewidth=0.6)
-        ax.annotate(a["name"] + (" (recommended)" if rec else ""), (a["freq_hz"] / 1e6, min(d, top * 1.05)),
-                    xytext=(5, 4), textcoords="offset points", fontsize=SIZES["legend"],
-                    color=PALETTE["second"] if rec else PALETTE["ink"],
-                    fontweight="bold" if rec else "normal", bbox=_LABEL_BOX, zorder=6)
+        labels.append(ax.annotate(a["name"] + (" (recommended)" if rec else ""),
+                                  (a["freq_hz"] / 1e6, min(d, top * 1.05)), xytext=(5, 4),
+                                  textcoords="offset points", fontsize=SIZES["legend"],
+                                  color=PALETTE["second"] if rec else PALETTE["ink"],
+                                  fontweight="bold" if rec else "normal", bbox=_LABEL_BOX, zorder=6))
     ax.set_xscale("log")
     _plain_log_ticks(ax.xaxis, subs=(1.0, 2.0, 5.0))
     ax.set_ylim(top * 1.12, 0.0)  # depth increases downward
@@ -189,7 +191,41 @@ def max_depth_png(freq_hz, depth_curves, target_depth_m: float, antennas, *, tar
     _style(ax)
     if depth_curves:
         ax.legend(fontsize=SIZES["legend"], loc="lower left")
+    _labels_clear_of_lines(fig, ax, labels)
     return figure_png(fig)
+
+
+#: Where a point's label may go (offset in points, horizontal alignment), tried in this order.
+_LABEL_SPOTS = (((5, 4), "left"), ((5, -12), "left"), ((-5, 4), "right"), ((-5, -12), "right"),
+                ((8, -4), "left"), ((-8, -4), "right"), ((0, 9), "center"), ((0, -17), "center"))
+
+
+def _labels_clear_of_lines(fig, ax, labels) -> None:
+    """Move each point label to the first spot beside its point that no curve of ``ax`` crosses.
+
+    The curves' display paths come from a layout draw; a label that finds no clear spot keeps
+    the first one, where its white box still covers the curve under it.
+    """
+    lines = [ln for ln in ax.get_lines() if len(ln.get_xdata()) > 1]
+    if not labels or not lines:
+        return
+    fig.draw_without_rendering()
+    renderer = fig.canvas.get_renderer()
+    paths = [ln.get_transform().transform_path(ln.get_path()) for ln in lines]
+    placed = []
+    for label in labels:
+        for offset, ha in _LABEL_SPOTS:
+            label.set_position(offset)
+            label.set_horizontalalignment(ha)
+            box = label.get_window_extent(renderer).padded(2)
+            if not any(p.intersects_bbox(box, filled=False) for p in paths) and \
+                    not any(box.overlaps(other) for other in placed) and ax.bbox.contains(box.x0, box.y0) and \
+                    ax.bbox.contains(box.x1, box.y1):
+                break
+        else:
+            label.set_position(_LABEL_SPOTS[0][0])
+            label.set_horizontalalignment(_LABEL_SPOTS[0][1])
+        placed.append(label.get_window_extent(renderer))
 
 
 @styled

@@ -117,15 +117,15 @@ def _line_paths(ax):
     return paths
 
 
-def lines_through_labels(fig) -> list[str]:
-    """Annotations and in-axes texts (outside legends, without a background box) that a line crosses."""
+def lines_through_labels(fig, *, boxed_ok: bool = True) -> list[str]:
+    """Annotations and in-axes texts outside legends that a line crosses (a boxed text passes if ``boxed_ok``)."""
     from matplotlib.legend import Legend
 
     legend_texts = {id(t) for leg in fig.findobj(Legend) for t in leg.get_texts()}
     bad = []
     for t, e in drawn_texts(fig):
         ax = t.axes
-        if ax is None or id(t) in legend_texts or t.get_bbox_patch() is not None:
+        if ax is None or id(t) in legend_texts or (boxed_ok and t.get_bbox_patch() is not None):
             continue
         if t in (ax.title, ax._left_title, ax._right_title, ax.xaxis.label, ax.yaxis.label):
             continue

@@ -79,6 +79,14 @@ def test_report_figures_layout(report_figures):
     assert {i: p for i, p in problems.items() if p} == {}
 
 
+def test_depth_chart_labels_beside_the_curves(report_figures):
+    """The antenna labels of the depth-against-frequency chart sit clear of every curve, not only boxed over one."""
+    from figure_layout import lines_through_labels
+
+    chart = next(f for f in report_figures if f.axes[0].get_xlabel().startswith("antenna centre frequency"))
+    assert lines_through_labels(chart, boxed_ok=False) == []
+
+
 def test_checks_catch_what_they_claim():
     """The checks flag a title cut at the edge, two titles on each other and a line through an annotation."""
     from subsurf.io.figstyle import new_figure
