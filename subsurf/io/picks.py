@@ -267,6 +267,11 @@ def read_picks(path, *, coords_crs=None, kind: str = "depth") -> PickTable:
 COORDINATE_DECIMALS = {"geographic": 6, "projected": 3}
 
 
+def _tidy(value):
+    """A float property without binary-conversion noise (12 significant digits: 21.840000000000003 -> 21.84)."""
+    return float(f"{value:.12g}") if isinstance(value, float) else value
+
+
 def write_geojson(path, x, y, properties: list[dict], crs, *, force: bool = False,
                   collection_properties: dict | None = None) -> Path:
     """Write points as a GeoJSON FeatureCollection in ``crs``, atomically.
@@ -287,7 +292,7 @@ def write_geojson(path, x, y, properties: list[dict], crs, *, force: bool = Fals
         feats.append({"type": "Feature",
                       "geometry": {"type": "Point", "coordinates": [round(float(xi), decimals),
                                                                     round(float(yi), decimals)]},
-                      "properties": {**to_jsonable(props), "caution": CAUTION}})
+                      "properties": {**{k: _tidy(v) for k, v in to_jsonable(props).items()}, "caution": CAUTION}})
     doc: dict = {"type": "FeatureCollection"}
     epsg = crs.to_epsg()
     if epsg != 4326:
