@@ -79,15 +79,21 @@ class PickTable:
 
 
 def parse_crs(text, *, name: str = "--crs"):
-    """Return a ``pyproj.CRS`` for an EPSG code, WKT or PROJ string; raise on unknown."""
+    """Return a ``pyproj.CRS`` for an EPSG code, WKT or PROJ string; raise on unknown, vertical, geocentric..."""
     from pyproj import CRS
     from pyproj.exceptions import CRSError
 
+    from ..site.crs import horizontal_crs_problem
+
     try:
-        return CRS.from_user_input(str(text).strip())
+        crs = CRS.from_user_input(str(text).strip())
     except CRSError:
         raise InputError(f"{name}: unknown CRS {text!r}; give an EPSG code such as 'EPSG:32633' or a WKT string") \
             from None
+    problem = horizontal_crs_problem(crs, text)
+    if problem:
+        raise InputError(f"{name}: {problem}")
+    return crs
 
 
 def transform_xy(x, y, src, dst):

@@ -10,7 +10,34 @@ import math
 from .._schema import fail
 from ..errors import InputError
 
-__all__ = ["read_crs", "auto_utm_crs"]
+__all__ = ["read_crs", "auto_utm_crs", "horizontal_crs_problem"]
+
+
+def horizontal_crs_problem(crs, given=None) -> str | None:
+    """Why ``crs`` cannot place survey points on a map, in one clause; None when it can.
+
+    ``given`` is the text the user or file wrote (an EPSG code, WKT...), shown beside the name.
+
+    Accepted, the same way for every CRS a user or a file gives (survey files, rasters,
+    vector files, pick tables, ``depth --crs``): projected (easting/northing) or geographic
+    (longitude/latitude) CRSs, including a compound CRS whose horizontal part is one of them.
+    Refused: vertical (heights only), geocentric (Earth-centred X/Y/Z) and any other kind
+    (engineering, ...).  The kind comes from pyproj (``is_projected``, ``is_geographic``,
+    ``is_vertical``, ``is_geocentric``), not from the name.
+    """
+    if crs.is_geocentric:
+        kind = "a geocentric (Earth-centred X/Y/Z) CRS"
+    elif crs.is_projected or crs.is_geographic:
+        return None
+    elif crs.is_vertical:
+        kind = "a vertical (height-only) CRS"
+    else:
+        kind = f"a {crs.type_name}"
+    label = repr(crs.name)
+    if given is not None and str(given).strip() != crs.name:
+        text = str(given).strip()
+        label = f"{text if len(text) < 40 else text[:37] + '...'!r} ({crs.name})"
+    return f"CRS {label} is {kind}; give a projected (easting/northing) or geographic (longitude/latitude) CRS"
 
 
 def read_crs(value, *, path, field: str):
@@ -29,9 +56,9 @@ def read_crs(value, *, path, field: str):
         shown = str(value) if len(str(value)) < 60 else str(value)[:57] + "..."
         raise fail(path, field, f"unknown CRS {shown!r}; give an EPSG code such as 'EPSG:4326' "
                    "or a WKT string") from None
-    if not (crs.is_geographic or crs.is_projected):
-        raise fail(path, field, f"CRS {crs.name!r} is not a horizontal (geographic or projected) CRS; "
-                   "give one whose axes are longitude/latitude or easting/northing")
+    problem = horizontal_crs_problem(crs, value)
+    if problem:
+        raise fail(path, field, problem)
     return crs
 
 

@@ -35,6 +35,7 @@ import numpy as np
 
 from .._schema import fail
 from ..errors import FileInputError
+from .crs import horizontal_crs_problem
 
 __all__ = ["read_polygons", "check_polygon", "same_crs", "InputNote", "note", "VECTOR_SUFFIXES"]
 
@@ -110,18 +111,25 @@ def _file_crs(path: Path, meta_crs, suffix: str):
         text = _geojson_crs_member(path)
         if text is None:
             return None
+        given = text
         try:
-            return CRS.from_user_input(text)
+            crs = CRS.from_user_input(text)
         except CRSError:
             raise FileInputError(path, f"GeoJSON 'crs' member names an unknown CRS {text!r}", field="crs") from None
-    if suffix in (".kml", ".kmz"):
+    elif suffix in (".kml", ".kmz"):
         return CRS.from_epsg(4326)
-    if not meta_crs:
+    elif not meta_crs:
         return None
-    try:
-        return CRS.from_user_input(meta_crs)
-    except CRSError:  # pragma: no cover - GDAL reported a CRS PROJ cannot read
-        return None
+    else:
+        given = None  # GDAL's WKT: the name says enough
+        try:
+            crs = CRS.from_user_input(meta_crs)
+        except CRSError:  # pragma: no cover - GDAL reported a CRS PROJ cannot read
+            return None
+    problem = horizontal_crs_problem(crs, given)
+    if problem:
+        raise FileInputError(path, problem, field="crs")
+    return crs
 
 
 def _refuse_lonlat_under_projected(path: Path, geoms, declared_crs, field: str) -> None:

@@ -82,6 +82,9 @@ def make_workspace(ws: Path) -> None:
         "nooutline": _variant(survey, 'outline = "outline.geojson"', 'outline = "nowhere.geojson"'),
         "syntax": survey.replace("[target]", "[target\n"),
         "zonesdir": _variant(survey, 'file = "zones.geojson"', 'file = "zonesdir"'),
+        "crs_geocentric": _variant(survey, 'crs = "EPSG:32630"', 'crs = "EPSG:4978"'),
+        "grid_vertical": _variant(survey, 'crs = "auto-utm"', 'crs = "EPSG:5773"'),
+        "zones_vertical": _variant(survey, 'file = "zones.geojson"', 'file = "zones_vertical.geojson"'),
     }
     variants["calmissing"] = survey + '\n[calibration]\nfile = "nowhere_cal.json"\n'
     variants["calfreq"] = survey + '\n[calibration]\nfile = "../cal_freq.json"\n'
@@ -92,12 +95,18 @@ def make_workspace(ws: Path) -> None:
     (ws / "site" / "features_strings.geojson").write_text('{"type": "FeatureCollection", "features": ["a", "b"]}')
     (ws / "site" / "not_raster.nc").write_text("this is not a raster\n")
     (ws / "site" / "zonesdir").mkdir()
+    zones = json.loads((SITE / "zones.geojson").read_text(encoding="utf-8"))
+    zones["crs"] = {"type": "name", "properties": {"name": "urn:ogc:def:crs:EPSG::5773"}}  # EGM96 height: vertical
+    (ws / "site" / "zones_vertical.geojson").write_text(json.dumps(zones), encoding="utf-8")
     samples = (SITE / "samples.csv").read_text(encoding="utf-8")
     (ws / "site" / "samples_latin1.csv").write_bytes(samples.replace("S01", "S\xe91").encode("latin-1"))
     (ws / "soil_latin1.toml").write_bytes('moisture = "20 %"\ntexture = "loam"\n# r\xe9sum\xe9\n'.encode("latin-1"))
     (ws / "soil_badkey.toml").write_text('moisture = "20 %"\nwetness = 3\n')
     (ws / "soilfacts").mkdir()
     (ws / "catalogue_latin1.toml").write_bytes(b"# \xff\xfe\n[antennas]\n")
+    utility = (PICKS / "fictional_utility_picks.csv").read_text(encoding="utf-8")
+    (ws / "picks_vertical_crs.csv").write_text(_variant(utility, "# crs: EPSG:32633", "# crs: EPSG:5714"),
+                                               encoding="utf-8")  # MSL height: a vertical CRS
     picks = (PICKS / "fictional_hyperbolas.csv").read_text(encoding="utf-8")
     (ws / "picks_latin1.csv").write_bytes(picks.replace("Invented", "Inv\xe9nted").encode("latin-1"))
     (ws / "v_nan.json").write_text('{"velocity_m_per_ns": NaN, "velocity_se_m_per_ns": 0.003}')

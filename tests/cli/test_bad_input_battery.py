@@ -131,6 +131,13 @@ CASES_ALL = [
     C("depth-twt-and-picks", ["depth", "--twt", "25", "--picks", UTIL, *V], 1, "--picks"),
     C("depth-geojson-no-coords", ["depth", "--twt", "25", *V, "--out-geojson", "d.geojson"], 1, "--out-geojson"),
     C("depth-crs-nonsense", ["depth", "--picks", UTIL, *V, "--crs", "EPSG:999999"], 1, "--crs"),
+    # a vertical (EPSG:5773 EGM96 height, 5714 MSL height) or geocentric (EPSG:4978) CRS places nothing on a map
+    C("depth-crs-vertical", ["depth", "--picks", UTIL, *V, "--crs", "EPSG:5773"], 1, "--crs", "EPSG:5773", "vertical"),
+    C("depth-crs-geocentric", ["depth", "--picks", UTIL, *V, "--crs", "EPSG:4978"], 1, "--crs", "geocentric"),
+    C("depth-coords-crs-geocentric", ["depth", "--picks", UTIL, *V, "--coords-crs", "EPSG:4978"], 1, "--coords-crs",
+      "geocentric"),
+    C("depth-picks-comment-crs-vertical", ["depth", "--picks", "picks_vertical_crs.csv", *V], 1,
+      "picks_vertical_crs.csv", "EPSG:5714", "vertical"),
     C("depth-error-json", ["depth", "--twt", "25", "--velocity", "10", "--json"], 1, "--velocity"),
     # -- velocity ------------------------------------------------------------------------
     C("velocity-figure-ok-json-blocked", ["velocity", "--picks", HYP, "--figure", "fit.png",
@@ -227,6 +234,12 @@ CASES_ALL = [
     C("map-out-earlier-output", f"map {S} --out earlier_map", 3, "earlier_map"),
     C("map-out-read-only", f"map {S} --out {{ro}}/maps", 1, "{ro}", needs=["ro"]),
     C("map-out-full-disk", f"map {S} --out {{full}}/maps", 1, "{full}", needs=["full"]),
+    C("map-zones-crs-geocentric", "map site/survey_crs_geocentric.toml --out m", 1, "survey_crs_geocentric.toml",
+      "soil.zones", "geocentric"),
+    C("map-grid-crs-vertical", "map site/survey_grid_vertical.toml --out m", 1, "[grid] crs", "vertical"),
+    C("map-zones-file-crs-vertical", "map site/survey_zones_vertical.toml --out m", 1, "zones_vertical.geojson",
+      "vertical"),
+    C("report-grid-crs-vertical", "report site/survey_grid_vertical.toml --out r.html", 1, "[grid] crs", "vertical"),
     C("map-error-json", "map soilfacts --json", 1, "soilfacts"),
     # -- region --------------------------------------------------------------------------
     C("region-200000-squared", ["region", "--synthetic", "200000x200000", *PLANAR, "--out", "r.nc"], 1,

@@ -170,10 +170,15 @@ def test_auto_utm_norway_svalbard_exceptions(lon, lat, epsg):
     assert auto_utm_crs(lon, lat).to_epsg() == epsg
 
 
-def test_vertical_crs_refused(tmp_path):
-    """A vertical-only CRS (EPSG:5703, NAVD88 height) cannot place an outline: one line naming site.crs."""
-    p = write(tmp_path, BASE.replace('crs = "EPSG:32631"', 'crs = "EPSG:5703"', 1))
-    with pytest.raises(FileInputError, match=r"\[site\] crs: CRS .* is not a horizontal"):
+@pytest.mark.parametrize("code, kind", [("EPSG:5703", "vertical"), ("EPSG:4978", "geocentric")])
+def test_vertical_or_geocentric_crs_refused(tmp_path, code, kind):
+    """A vertical (EPSG:5703, NAVD88 height) or geocentric (EPSG:4978) CRS cannot place an outline: one line."""
+    # The kinds are pyproj's (CRS.is_vertical / is_geocentric), read from the EPSG database.
+    from pyproj import CRS
+
+    assert getattr(CRS.from_user_input(code), f"is_{kind}")
+    p = write(tmp_path, BASE.replace('crs = "EPSG:32631"', f'crs = "{code}"', 1))
+    with pytest.raises(FileInputError, match=rf"\[site\] crs: CRS '{code}' .* is a {kind} .*projected .*geographic"):
         load_survey(p)
 
 
@@ -324,3 +329,19 @@ def test_readme_documents_every_schema_key():
             assert documented, (model.__name__, key)
     for q in sch.QUANTITIES:
         assert f"`{q}`" in readme, q
+
+
+@pytest.mark.parametrize("code", ["EPSG:4326", "EPSG:4979", "EPSG:32633", "EPSG:5972", "EPSG:9518"])
+def test_horizontal_crs_kinds_accepted_the_same_everywhere(code):
+    """Geographic 2D/3D, projected and compound CRSs with such a horizontal part pass every CRS reader."""
+    # pyproj's own kind flags: each of these has is_projected or is_geographic and is not geocentric
+    # (EPSG:5972 = ETRS89 / UTM 32N + NN2000 height, EPSG:9518 = WGS 84 + EGM2008 height).
+    from pyproj import CRS
+
+    from subsurf.io.picks import parse_crs
+    from subsurf.site.crs import horizontal_crs_problem, read_crs
+
+    crs = CRS.from_user_input(code)
+    assert (crs.is_projected or crs.is_geographic) and not crs.is_geocentric
+    assert horizontal_crs_problem(crs) is None
+    assert parse_crs(code) == crs and read_crs(code, path="x.toml", field="crs") == crs
