@@ -217,6 +217,26 @@ def clean_stale(folder: Path, claimed: set[Path], notes: list[str], busy_command
                      + (f"; its half-done commit was rolled back ({undone} moves)" if undone else ""))
 
 
+def move_file(staged: Path, dest: Path, backup: Path, *, replace: bool, optional: bool, undo: list) -> None:
+    """Move one staged file onto ``dest`` (an earlier file kept as a hard link in ``backup``), undoably.
+
+    An ``optional`` file that was not staged removes an earlier ``dest`` when replacing
+    (no stale file of an earlier run is left beside the new outputs).
+    """
+    if optional and not os.path.lexists(staged):
+        if replace and os.path.lexists(dest):
+            os.link(dest, backup)
+            os.unlink(dest)
+            undo.append(lambda: os.replace(backup, dest))
+    elif replace and os.path.lexists(dest):
+        os.link(dest, backup)
+        os.replace(staged, dest)
+        undo.append(lambda: os.replace(backup, dest))
+    else:
+        os.replace(staged, dest)
+        undo.append(lambda: os.unlink(dest))
+
+
 def merge_one(staged: Path, dest: Path, rel: str, backup: Path, undo: list) -> None:
     """Move one file of a staged folder into an existing folder (earlier file kept as a hard link in ``backup``)."""
     src, dst, bak = staged / rel, dest / rel, backup / rel

@@ -64,6 +64,7 @@ from ._staging import (
     fsync_dir,
     hold_signals,
     merge_one,
+    move_file,
     stale_staging,
     write_journal,
 )
@@ -127,11 +128,8 @@ class OutputTransaction:
     def file(self, path, *, optional: bool = False) -> Path:
         """Declare an output file; returns the staged path to write instead.
 
-        An ``optional`` file is one whose need is known only from the inputs (e.g. the
-        ``.prj`` beside a CSV that turns out to have coordinates): it is checked like any
-        output, and if the command does not write it, an earlier file of that name
-        (replaced with ``force``) is removed at commit, so no stale sidecar of an earlier
-        run is left describing the new output.
+        ``optional``: the inputs tell whether it is written (e.g. a CSV's ``.prj``); left
+        unwritten, an earlier file of that name is removed at commit (``force``), not left stale.
         """
         return self._add(path, "file", optional=bool(optional))
 
@@ -305,13 +303,11 @@ class OutputTransaction:
     def _seal(self) -> None:
         """Flush staged files, write the folders' manifests (last), check nothing appeared meanwhile."""
         for t in self._targets:
-            if t.optional and not os.path.lexists(t.staged):
-                continue
-            if not os.path.lexists(t.staged):
+            if not os.path.lexists(t.staged) and not t.optional:
                 raise SubsurfError(f"subsurf {self.command}: the output {t.shown} was declared but not written")
             if t.kind == "folder":
                 write_manifest(t.staged, command=self.command, transaction=self.id)
-            else:
+            elif os.path.lexists(t.staged):  # an optional file may be unwritten
                 with open(t.staged, "rb+") as fh:
                     os.fsync(fh.fileno())
         for t in self._targets:  # a writer other than subsurf may have created a destination meanwhile
@@ -324,9 +320,7 @@ class OutputTransaction:
 
     def _plan(self, t: _Target) -> dict:
         stage = self._stages[t.dest.parent]
-        mode = t.mode
-        if t.optional and not os.path.lexists(t.staged):
-            mode = "remove" if t.mode == "replace" else "skip"
+        mode = t.mode if not t.optional or os.path.lexists(t.staged) else "remove" if t.mode == "replace" else "skip"
         m = {"dest": str(t.dest), "kind": t.kind, "mode": mode, "staged": t.staged.name,
              "backup": f"old-{t.staged.name}" if mode not in ("new", "skip") else None}
         if t.mode == "merge":
@@ -338,19 +332,8 @@ class OutputTransaction:
         """Move one staged output into place, appending its undo steps to ``undo`` as it goes."""
         stage = self._stages[t.dest.parent]
         backup = stage / f"old-{t.staged.name}"
-        if t.kind == "file" and t.optional and not os.path.lexists(t.staged):
-            if t.mode == "replace" and os.path.lexists(t.dest):  # an earlier run's file: remove, undoably
-                os.link(t.dest, backup)
-                os.unlink(t.dest)
-                undo.append(lambda: os.replace(backup, t.dest))
-        elif t.kind == "file":
-            if t.mode == "replace" and os.path.lexists(t.dest):
-                os.link(t.dest, backup)
-                os.replace(t.staged, t.dest)
-                undo.append(lambda: os.replace(backup, t.dest))
-            else:
-                os.replace(t.staged, t.dest)
-                undo.append(lambda: os.unlink(t.dest))
+        if t.kind == "file":
+            move_file(t.staged, t.dest, backup, replace=t.mode == "replace", optional=t.optional, undo=undo)
         elif t.mode == "merge":
             old_manifest = t.dest / MANIFEST_NAME
             if os.path.lexists(old_manifest):  # the folder reads as incomplete while files are merged in
