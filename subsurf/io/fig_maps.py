@@ -143,8 +143,28 @@ def _class_legend(fig, entries, *, title: str, ncols: int):
                          label="extrapolated soil (beyond the samples)"))
     handles.append(Line2D([], [], marker="o", linestyle="none", markerfacecolor="white",
                           markeredgecolor=PALETTE["ink"], markersize=4.5, label="soil sample"))
+    import textwrap
+
+    from matplotlib.font_manager import FontProperties
+    from matplotlib.textpath import TextPath
+
+    # as many columns as the figure's width holds: text widths measured in the style's font (points)
+    fs = SIZES["map_label"]
+    font = FontProperties(family="DejaVu Sans", size=fs)
+
+    def width_pt(text):
+        return TextPath((0, 0), text, prop=font).get_extents().width
+
+    width_pt_fig = fig.get_figwidth() * 72.0 * 0.95
+    col_pt = max(width_pt(h.get_label()) for h in handles) + 3.4 * fs  # the key and the gaps beside it
+    ncols = max(1, min(ncols, int(width_pt_fig // col_pt)))
+    if width_pt(title) > width_pt_fig:
+        title = "\n".join(textwrap.wrap(title, int(len(title) * width_pt_fig / width_pt(title))))
+    rows = -(-len(handles) // ncols) + title.count("\n") + 1
+    if rows > 4:  # room for a taller legend, so the maps keep their size
+        fig.set_figheight(fig.get_figheight() + (rows - 4) * 1.45 * fs / 72.0)
     return fig.legend(handles=handles, loc="outside lower center", ncols=ncols, title=title,
-                      fontsize=SIZES["map_label"], title_fontsize=SIZES["map_label"], frameon=False)
+                      fontsize=fs, title_fontsize=fs, frameon=False)
 
 
 def depth_classes(max_depth_m, margin_db, target_depth_m: float, *, too_shallow=None):

@@ -132,16 +132,31 @@ def style_axes(ax, *, minor_grid: bool = True) -> None:
         label.set_size(SIZES["label"])
 
 
+def _settle_layout(fig, *, passes: int = 4, tol: float = 1e-3) -> None:
+    """Draw ``fig`` without output until its axes stop moving (at most ``passes`` draws).
+
+    Constrained layout places titles, colour bars and legends from the sizes found in the
+    previous draw; on a figure's first draws they are not known yet (a panel title can land on
+    the suptitle), so the PNG is saved only once the layout has settled.
+    """
+    import numpy as np
+
+    before = None
+    for _ in range(passes):
+        fig.draw_without_rendering()
+        now = np.array([ax.get_position().bounds for ax in fig.axes]) if fig.axes else np.zeros((0, 4))
+        if before is not None and before.shape == now.shape and np.allclose(before, now, atol=tol):
+            return
+        before = now
+
+
 def png_bytes(fig) -> bytes:
     """Render ``fig`` to PNG bytes under the subsurf style."""
     import matplotlib as mpl
 
     buf = io.BytesIO()
     with mpl.rc_context(rc()):
-        # Constrained layout places titles and legends from the sizes of the previous draw: on a
-        # figure's first draw they are not known yet (a panel title can land on the suptitle), so
-        # draw once without output and save the second, settled layout.
-        fig.draw_without_rendering()
+        _settle_layout(fig)
         fig.savefig(buf, format="png", dpi=DPI, facecolor="white")
     return buf.getvalue()
 

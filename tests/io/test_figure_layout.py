@@ -72,6 +72,19 @@ def test_map_figures_layout(map_figures):
     assert {k: p for k, p in problems.items() if p} == {}
 
 
+def test_single_scenario_map_figures_layout(tmp_path):
+    """A one-scenario, three-antenna survey (narrow scenario figure, long class legend) lays out cleanly too."""
+    from report_support import write_test_survey
+
+    from subsurf.io.maps import _figures
+    from subsurf.site.maps import compute_maps
+    from subsurf.site.survey import load_survey
+
+    maps = compute_maps(load_survey(write_test_survey(tmp_path)))
+    problems = {name: layout_problems(make()) for name, make in _figures(maps).items()}
+    assert {k: p for k, p in problems.items() if p} == {}
+
+
 def test_report_figures_layout(report_figures):
     """Each chart of the report: every text inside the canvas, no two texts overlapping, no curve through a label."""
     assert len(report_figures) >= 4  # site map, ground properties, depth against frequency, time to depth
