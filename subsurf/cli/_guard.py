@@ -104,6 +104,8 @@ def _describe(exc: BaseException, command: str | None) -> tuple[str, str, int, s
 
     if isinstance(exc, UsageError):
         prog = exc.prog
+        if command and prog.split()[-1] != command:  # the top parser's 'unrecognized arguments' after a command
+            prog = f"{prog} {command}"
         return "usage", f"{exc} (see '{prog} --help')", EXIT_USAGE, None
     if isinstance(exc, OutputBusyError):
         return "busy", str(exc), EXIT_EXISTS, None

@@ -35,7 +35,7 @@ CASES_ALL = [
     C("unknown-global-flag", "--bogus", 2, "--bogus"),
     C("map-missing-survey", "map", 2, "SURVEY.toml", "--help"),
     C("map-missing-survey-json", "map --json", 2, "SURVEY.toml"),
-    C("medium-unknown-flag", "medium --bogus-flag 3", 2, "--bogus-flag"),
+    C("medium-unknown-flag", "medium --bogus-flag 3", 2, "--bogus-flag", "subsurf medium --help"),
     C("medium-bad-choice", "medium --model bogus", 2, "--model", "bogus"),
     C("depth-draws-not-int", "depth --twt 25 --velocity 0.1 --draws 1e12", 2, "--draws", "1e12"),
     C("region-chunk-not-int", "region --synthetic 64x48 --chunk big", 2, "--chunk"),
