@@ -21,6 +21,9 @@ def add_arguments(parser) -> None:
     parser.add_argument("--no-maps", action="store_true",
                         help="skip the feasibility maps (quicker; the report then has no map section)")
     parser.add_argument("--force", action="store_true", help="overwrite an existing report (and map files)")
+    parser.add_argument("--calibration", metavar="JSON", help="site calibration written by 'subsurf calibrate' "
+                        "(instead of the survey's [calibration] file): plan with the measured attenuation, Q*, "
+                        "velocity and effective performance; the report sets the model's predictions beside them")
 
 
 def default_report_name(survey_path) -> str:
@@ -35,10 +38,17 @@ def default_report_name(survey_path) -> str:
 def summary_text(summary: dict) -> str:
     """The readable lines printed after a report is written."""
     lines = [f"Report written: {summary['report']}"]
+    cal = summary.get("calibration")
+    if cal:
+        lines.append(cal["note"] + ".")
+        if cal["recommended_before"] != summary["recommended"]:
+            lines.append(f"Recommendation changed by the calibration: {cal['recommended_before'] or 'none'} -> "
+                         f"{summary['recommended'] or 'none'}")
     if summary["recommended"]:
         lines.append(f"Recommended antenna: {summary['recommended']}")
     lines.append(f"Reason: {summary['reason']}")
-    lines.append(f"Ground velocity (site median): {summary['velocity_m_per_ns']:.3f} m/ns "
+    lines.append(f"Ground velocity ({'measured on site' if cal else 'site median'}): "
+                 f"{summary['velocity_m_per_ns']:.3f} m/ns "
                  f"(5-95 %: {summary['velocity_p05_m_per_ns']:.3f}-{summary['velocity_p95_m_per_ns']:.3f})")
     if summary["warnings"]:
         lines.append(f"{len(summary['warnings'])} model warning(s) are listed in the report.")
@@ -64,14 +74,18 @@ def run(args) -> int:
     txn = OutputTransaction("report", force=args.force, expected_bytes=REPORT_BYTES + MAPS_BYTES * keep_maps)
     html = txn.file(out)
     maps_dir = txn.folder(args.maps_out, own=OWN_FILES) if keep_maps else None
-    with txn:  # the report and its map folder appear together at the end, or neither does
+    from ..io.outputs import collect_warnings
+
+    # model warnings of the map run (e.g. a calibration's band extrapolated) become note: lines
+    with collect_warnings() as map_notes, txn:  # the report and its map folder appear together, or neither
         summary = make_report(args.survey, html, force=True, quiet=args.quiet or args.json,
-                              maps=not args.no_maps, maps_out=maps_dir)
+                              maps=not args.no_maps, maps_out=maps_dir, calibration=args.calibration)
     summary = txn.public(summary)
     print_notes(txn.notes, quiet=args.quiet or args.json)
     if args.maps_out and not args.no_maps:
         summary["maps_out"] = str(args.maps_out)
     print_result(summary, summary_text(summary) + f"\nOpen it in a browser: {out.resolve().as_uri()}",
                  as_json=args.json)
-    print_notes(summary["warnings"], quiet=args.quiet or args.json)
+    print_notes(list(summary["warnings"]) + [n for n in map_notes if n not in summary["warnings"]],
+                quiet=args.quiet or args.json)
     return 0

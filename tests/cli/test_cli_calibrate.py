@@ -202,3 +202,29 @@ def test_map_with_calibration_says_so_everywhere(calibration, tmp_path):
     res = run("map", plain, "--calibration", tmp_path / "site-cal.json", "--out", tmp_path / "m3", "--json",
               "--quiet", "--no-geotiff")
     assert res.returncode == 0 and json.loads(res.stdout)["calibration"]["file"] == str(tmp_path / "site-cal.json")
+
+
+def test_report_with_calibration_predicted_vs_observed(calibration, tmp_path):
+    """report --calibration: a section sets the model beside the observation (with uncertainties) and the plan
+    before/after; the JSON summary carries the same, and the ranking is choose --calibration's."""
+    _, path = calibration
+    survey = _small_survey(tmp_path)
+    res = run("report", survey, "--calibration", path, "--no-maps", "--out", tmp_path / "r.html", "--json", "--quiet")
+    assert res.returncode == 0, res.stderr
+    out = json.loads(res.stdout)
+    page = (tmp_path / "r.html").read_text()
+    assert 'id="calibration"' in page and "Predicted versus observed" in page and "CALIBRATED" in page
+    cal = out["calibration"]
+    rec = json.loads(path.read_text())
+    pen = next(c for c in cal["comparison"] if c["quantity"].startswith("penetration"))
+    assert pen["observed"] == rec["penetration"]["depth_m"] and pen["observed_se"] == rec["penetration"]["se_m"]
+    assert pen["model_range"][0] <= pen["model"] <= pen["model_range"][1]
+    ch = run("choose", "--calibration", path, "--target", "line", "--depth", "1.2", "--size", "0.15 m",
+             "--material", "metal", "--antenna", "midband-250", "--antenna", "midband-500", "--json", "--quiet")
+    want = {r["antenna"]: r["max_depth_m"] for r in json.loads(ch.stdout)["rows"]}
+    for c in cal["changes"]:
+        assert c["max_depth_after_m"] == pytest.approx(want[c["antenna"]], rel=1e-9)
+    assert out["velocity_m_per_ns"] == pytest.approx(rec["velocity"]["m_per_ns"], rel=1e-9)
+    plain = run("report", survey, "--no-maps", "--out", tmp_path / "p.html", "--json", "--quiet")
+    assert json.loads(plain.stdout)["calibration"] is None
+    assert 'id="calibration"' not in (tmp_path / "p.html").read_text()

@@ -6,10 +6,11 @@ __all__ = ["make_report"]
 
 
 def make_report(survey_path, out_path, *, force: bool = False, quiet: bool = False, maps: bool = True,
-                maps_out=None, map_result: dict | None = None, tables_dir=None) -> dict:
+                maps_out=None, map_result: dict | None = None, tables_dir=None, calibration=None) -> dict:
     """Run the maps (unless given or skipped) and write the report; return the summary.
 
-    Existing outputs are checked before any work starts.  Map files go to ``maps_out``
+    Existing outputs are checked before any work starts.  ``calibration``: a site
+    calibration file used instead of the survey's ``[calibration] file`` (maps and page).  Map files go to ``maps_out``
     when given (kept), else to a temporary folder that is removed afterwards.
 
     Returns
@@ -41,13 +42,13 @@ def make_report(survey_path, out_path, *, force: bool = False, quiet: bool = Fal
                 folder = maps_out if tmp is None else tmp.name
                 # GeoTIFF layers only when the map files are kept (they are not embedded)
                 map_result = {**run_map(survey_path, folder, force=force or tmp is not None, quiet=True,
-                                        geotiff=tmp is None),
+                                        geotiff=tmp is None, calibration=calibration),
                               "kept": tmp is None, "out_dir": str(folder)}
                 bar.advance("site and soil")
             else:
                 bar.start("site and soil")
             return write_report(survey_path, out_path, force=force, map_result=map_result, bar=bar,
-                                tables_dir=tables_dir)
+                                tables_dir=tables_dir, calibration=calibration)
         finally:
             if tmp is not None:
                 tmp.cleanup()

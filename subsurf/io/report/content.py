@@ -86,12 +86,18 @@ def velocity_draws(soil, sd: dict, freq_hz: float, *, draws: int, seed: int):
 
 
 def depth_chart(soil, sd: dict, freq_hz: float, offset_m: float, twt_max_s: float, *, draws: int,
-                 seed: int) -> dict:
-    """Central depth and 5–95 % band against two-way time, from the soil-input spread."""
+                 seed: int, measured: tuple | None = None) -> dict:
+    """Central depth and 5–95 % band against two-way time, from the soil-input spread, or with
+    ``measured`` = (v, se) in m/s from seeded normal draws of a measured velocity (se ≪ v)."""
     from ...waves.propagation import depth_from_time
 
     n = max(int(draws), 400)
-    v_nom, v_draws, varied = velocity_draws(soil, sd, freq_hz, draws=n, seed=seed)
+    if measured is None:
+        v_nom, v_draws, varied = velocity_draws(soil, sd, freq_hz, draws=n, seed=seed)
+    else:
+        v_nom = float(measured[0])
+        v_draws = np.clip(np.random.default_rng(seed).normal(v_nom, float(measured[1]), n), 1e-3 * v_nom, None)
+        varied = ["measured velocity (site calibration)"]
     # times from the arrival of the direct ground wave of the slowest draw (v·t ≥ x is
     # needed for a real depth with antenna separation x) to the end of the window
     t_start = offset_m / float(v_draws.min()) if offset_m > 0 else 0.0
@@ -127,12 +133,14 @@ def _nice_step(x: float) -> float:
     return 10.0 * mag  # pragma: no cover
 
 
-def _acquisition(antenna, site: SiteSoil, target, *, area_m2: float | None) -> dict:
-    """Acquisition settings for ``antenna`` at the target depth, from ``subsurf setup``'s computation."""
+def _acquisition(antenna, site: SiteSoil, target, *, area_m2: float | None, ground=None) -> dict:
+    """Acquisition settings for ``antenna`` at the target depth, from ``subsurf setup``'s computation
+    (in the calibrated ``ground`` when given, as ``setup --calibration``)."""
     from ...ground.medium import Medium
     from ...planning.plan import ROWS_SPEC, acquisition_for_antenna
 
-    medium = Medium(label="site median soil", facts=dict(site.mapping), soil=site.soil)
+    medium = ground if ground is not None else Medium(label="site median soil", facts=dict(site.mapping),
+                                                      soil=site.soil)
     result = acquisition_for_antenna(medium, antenna, target=target, depth_m=target.depth_m, area_m2=area_m2)
     rows = []
     for key, label, unit, fmt, rule in ROWS_SPEC:
@@ -158,7 +166,7 @@ def _site_area_m2(survey) -> float:
     return float(project(survey.outline).area)
 
 
-def collect(survey_path, *, map_result: dict | None = None, bar=None) -> dict:
+def collect(survey_path, *, map_result: dict | None = None, bar=None, calibration=None) -> dict:
     """Gather everything the report shows, as a dictionary (SI units).
 
     Parameters
@@ -170,6 +178,10 @@ def collect(survey_path, *, map_result: dict | None = None, bar=None) -> dict:
         scenario summary); without it the report has no map section.
     bar : subsurf.progress.Steps, optional
         Progress bar advanced once per stage.
+    calibration : str or Path, optional
+        Site calibration file instead of the survey's ``[calibration] file``: the ranking,
+        reach curves, settings and depth chart then use the measured ground and performance
+        (:mod:`.calibration`), with the model's predictions beside the observations.
     """
     from ...detection.budget import max_depth
     from ...planning.antennas import get_antenna, load_catalogue, make_target, rank_antennas, recommend
@@ -193,11 +205,18 @@ def collect(survey_path, *, map_result: dict | None = None, bar=None) -> dict:
         target = make_target(t.kind, depth_m=t.depth_m, size_m=None if t.kind == "planar" else t.size_m,
                              material=t.material)
         rows = rank_antennas(site.soil.electrical, antennas, target)
+        electrical, cal = site.soil.electrical, None
+        if calibration is not None or survey.calibration_path is not None:
+            from .calibration import calibrated_plan
+
+            cal = calibrated_plan(calibration if calibration is not None else survey.calibration_path, survey, site,
+                                  antennas, target, model_rows=rows, from_flag=calibration is not None)
+            rows, antennas, electrical = cal["rows"], cal["antennas"], cal["ground"].electrical
         rec_name, reason = recommend(rows)
         for r in rows:
             r["recommended"] = r["name"] == rec_name
         step("maximum depth")
-        eps_f, sig_f = site.soil.electrical(REPORT_FREQS_HZ)
+        eps_f, sig_f = electrical(REPORT_FREQS_HZ)
         perf = sorted({round(a.effective_performance_db, 1) for a in antennas})
         gains = [a.gain for a in antennas if a.gain is not None]  # None: the in-ground coupling model
         g_med = float(np.median(gains)) if gains else None
@@ -209,11 +228,13 @@ def collect(survey_path, *, map_result: dict | None = None, bar=None) -> dict:
 
         rec_ant = next((a for a in antennas if a.name == rec_name), None)
         chart_ant = rec_ant or max(antennas, key=lambda a: next(r["margin_db"] for r in rows if r["name"] == a.name))
-        acq = _acquisition(chart_ant, site, target, area_m2=_site_area_m2(survey))
+        acq = _acquisition(chart_ant, site, target, area_m2=_site_area_m2(survey),
+                           ground=None if cal is None else cal["ground"])
         step("depth chart")
         window_s = acq["window_s"]
+        measured = None if cal is None else (cal["ground"].velocity, cal["describe"]["velocity_se_m_per_ns"] * 1e9)
         chart = depth_chart(site.soil, site.sd, chart_ant.centre_freq_hz, chart_ant.separation_m, window_s,
-                             draws=survey.draws, seed=survey.seed)
+                             draws=survey.draws, seed=survey.seed, measured=measured)
         step("maps")
         maps = maps_section(map_result)
 
@@ -235,6 +256,7 @@ def collect(survey_path, *, map_result: dict | None = None, bar=None) -> dict:
         "acquisition": acq,
         "depth_chart": chart,
         "maps": maps,
+        "calibration": None if cal is None else {k: v for k, v in cal.items() if k not in ("ground", "antennas")},
         "warnings": list(notes),
         "caution": list(CAUTION_LINES),
     }

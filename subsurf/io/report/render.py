@@ -53,10 +53,11 @@ def render_html(data: dict) -> str:
     from ...detection.verdicts import REACHES_MARGIN_DB
 
     titles = dict(SECTIONS)
-    sections = [(sid, titles[sid], build(data)) for sid, build in SECTION_BUILDERS.items()]
+    sections = [(sid, titles[sid], ctx) for sid, build in SECTION_BUILDERS.items() if (ctx := build(data)) is not None]
     return environment().get_template("report.html.j2").render(
         title=data["title"], generated=data["generated"], version=__version__,
-        survey_file=Path(data["survey"]["survey"]).name, sections=sections, toc=SECTIONS[1:],
+        survey_file=Path(data["survey"]["survey"]).name, sections=sections,
+        toc=[(sid, h) for sid, h, _ in sections[1:]],
         reaches_db=f"{REACHES_MARGIN_DB:g}")
 
 
@@ -79,6 +80,9 @@ def summary_payload(data: dict, report_path) -> dict:
         "velocity_m_per_ns": c["velocity"] * 1e-9,
         "velocity_p05_m_per_ns": c["velocity_p05"] * 1e-9,
         "velocity_p95_m_per_ns": c["velocity_p95"] * 1e-9,
+        "calibration": None if not data.get("calibration") else {
+            **data["calibration"]["describe"], "recommended_before": data["calibration"]["recommended_before"],
+            "changes": data["calibration"]["changes"], "comparison": data["calibration"]["comparison"]},
         "warnings": data["warnings"],
         "caution": CAUTION,
     }
@@ -144,7 +148,7 @@ def table_file_names() -> list[str]:
 
 
 def write_report(survey_path, out_path, *, force: bool = False, map_result: dict | None = None,
-                 bar=None, tables_dir=None) -> dict:
+                 bar=None, tables_dir=None, calibration=None) -> dict:
     """Build the report for ``survey_path`` and write it atomically to ``out_path``.
 
     Returns the summary of :func:`summary_payload` (with ``tables``: the CSV files
@@ -157,7 +161,7 @@ def write_report(survey_path, out_path, *, force: bool = False, map_result: dict
     out_path = Path(out_path)
     names = table_file_names()
     check_outputs_free([out_path] + ([Path(tables_dir) / n for n in names] if tables_dir else []), force=force)
-    data = collect(survey_path, map_result=map_result, bar=bar)
+    data = collect(survey_path, map_result=map_result, bar=bar, calibration=calibration)
     page = render_html(data)
     if bar is not None:
         bar.advance("writing")

@@ -90,7 +90,8 @@ def summary(data) -> dict:
         cards.append(("recommended antenna", "none", "no listed antenna reaches the target", True))
         best = max(rows, key=lambda r: r["margin_db"])
         cards.append(("closest antenna", best["name"], f"max depth {best['max_depth_m']:.2f} m", True))
-    cards.append(("ground velocity", f"{chart['velocity'] * 1e-9:.3f} m/ns",
+    cards.append(("ground velocity" + (" (measured)" if data.get("calibration") else ""),
+                  f"{chart['velocity'] * 1e-9:.3f} m/ns",
                   f"5–95 %: {chart['velocity_p05'] * 1e-9:.3f}–{chart['velocity_p95'] * 1e-9:.3f} m/ns", False))
     cards.append(("antennas that reach", f"{len(reaching)} of {len(rows)}",
                   ", ".join(reaching) if reaching else "none with margin", not reaching))
@@ -112,7 +113,44 @@ def summary(data) -> dict:
             "cards": [{"k": k, "v": v, "s": s, "bad": bad} for k, v, s, bad in cards],
             "target_text": f"{t['kind']} target of {t['material'].replace('_', ' ')}{size}, top at {t['depth_m']:.2f} m",
             "reason": data["reason"], "across": across, "caution": " ".join(data["caution"]),
+            "calibrated": (data.get("calibration") or {}).get("note", ""),
             "illustrative": bool(data.get("antennas_illustrative"))}
+
+
+def calibration(data) -> dict | None:
+    """Predicted (soil model, catalogue) beside observed (site calibration), and the plan before/after."""
+    cal = data.get("calibration")
+    if not cal:
+        return None
+
+    def pm(v, se, spec):
+        return "–" if v is None else fmt(v, spec) + ("" if not se else f" ± {fmt(se, spec)}")
+
+    spec = {"m/ns": ".4f", "dB/m": ".3g", "": ".3g", "m": ".3g", "dB": ".1f"}
+    rows = []
+    for c in cal["comparison"]:
+        f = spec.get(c["unit"], ".3g")
+        rng = c["model_range"]
+        rows.append([c["quantity"], fmt(c["model"], f), "–" if not rng else f"{fmt(rng[0], f)}–{fmt(rng[1], f)}",
+                     pm(c["observed"], c["observed_se"], f), c["unit"], c["how"]])
+    comparison = Table(["quantity", "predicted (site-median soil)", "predicted 5–95 %", "observed ± se", "unit",
+                        "how"], rows, numeric=(1, 3))
+    ch = []
+    for r in cal["changes"]:
+        ch.append([r["antenna"] + (" ★" if r["antenna"] == data["recommended"] else ""),
+                   fmt(r["max_depth_before_m"]), fmt(r["max_depth_after_m"]),
+                   fmt(r["max_depth_after_m"] - r["max_depth_before_m"], "+.3g"),
+                   fmt(r["margin_before_db"], ".1f"), fmt(r["margin_after_db"], ".1f"),
+                   Verdict(r["verdict_before"]), Verdict(r["verdict_after"])])
+    changes = Table(["antenna", "max depth, model (m)", "max depth, calibrated (m)", "change (m)",
+                     "margin, model (dB)", "margin, calibrated (dB)", "verdict, model", "verdict, calibrated"],
+                    ch, numeric=(1, 2, 3, 4, 5))
+    before, after = cal["recommended_before"], data["recommended"]
+    verdict = (f"The recommendation stays {after}." if before == after else
+               f"The recommendation changes from {before or 'none'} (soil model, catalogue) to {after or 'none'} "
+               "(site calibration).")
+    return {"note": cal["note"], "file": cal["file"], "comparison": comparison, "changes": changes,
+            "recommendation": verdict, "draws": cal["model_draws"], "seed": cal["seed"]}
 
 
 def site(data) -> dict:
@@ -268,6 +306,6 @@ def safety(data) -> dict:
 
 
 #: section id -> context builder, in page order (titles in :data:`.texts.SECTIONS`)
-SECTION_BUILDERS = {"summary": summary, "site": site, "ground": ground, "reach": reach, "antennas": antennas,
+SECTION_BUILDERS = {"summary": summary, "calibration": calibration, "site": site, "ground": ground, "reach": reach, "antennas": antennas,
                     "settings": settings, "maps": maps, "depth": depth, "assumptions": assumptions,
                     "references": references, "safety": safety}

@@ -97,6 +97,7 @@ MAP_COLUMNS = (
 #: section id -> heading, in page order
 SECTIONS = [
     ("summary", "At a glance"),
+    ("calibration", "Calibrated to the site: predicted versus observed"),
     ("site", "Site and inputs"),
     ("ground", "What the radar wave sees"),
     ("reach", "How deep can the target be seen"),
