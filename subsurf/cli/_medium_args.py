@@ -115,10 +115,16 @@ def medium_from_args(args, *, required: bool = True) -> Medium | None:
             raise InputError(f"--eps: cannot read {args.eps!r} as a number (e.g. 9 or '9-0.5j')") from None
         if not (math.isfinite(eps.real) and math.isfinite(eps.imag)) or eps.real < 1 or eps.imag > 0:
             raise InputError(f"--eps must be finite with real part >= 1 and imaginary part <= 0 (ε' − jε''), got {args.eps}")
+        if eps.real > MAX_GROUND_EPS or -eps.imag > MAX_GROUND_EPS:
+            raise InputError(f"--eps must have real and imaginary parts at most {MAX_GROUND_EPS:g} (water is ~80; "
+                             f"no ground is more), got {args.eps}")
         sigma = 0.0 if args.sigma is None else parse_quantity(args.sigma, "conductivity",
                                                                 default_unit="mS/m", name="--sigma")
         if sigma < 0:
             raise InputError(f"--sigma must be >= 0 S/m, got {sigma:g}")
+        if sigma > MAX_GROUND_SIGMA:
+            raise InputError(f"--sigma must be at most {MAX_GROUND_SIGMA:g} S/m ({MAX_GROUND_SIGMA * 1e3:g} mS/m; "
+                             f"saturated brine is ~25 S/m, a metal is a target, not a ground), got {args.sigma!r}")
         facts = {"eps_real": eps.real, "eps_imag": -eps.imag + 0.0, "sigma_s_per_m": sigma}
         q, note = _direct_loss_slope(args, eps, facts)
         if q is not None and "sigma_s_per_m" in facts:
@@ -196,6 +202,15 @@ def _check_flag_range(flag: str, text, value: float, fact, unit: str) -> None:
         raise InputError(f"{flag} must be {display_range(fact.low, fact.high, unit, kind)}, got {text!r} "
                          f"({fact.doc})")
 
+
+#: Largest relative permittivity (real or imaginary part) of a direct --eps ground.  Our limit,
+#: stated, the same as the grains' eps_solid in ground/schema.py: liquid water (~80 at 20 °C)
+#: is the most polar thing in a ground at radio frequencies.
+MAX_GROUND_EPS = 100.0
+
+#: Largest DC conductivity of a direct --sigma ground, S/m.  Our limit, stated: bulk ground conducts
+#: less than its pore water, and saturated NaCl brine is ~25 S/m (from memory); sea water is ~5 S/m.
+MAX_GROUND_SIGMA = 100.0
 
 #: Frequencies a medium flag may name, Hz.  Common practice, not a published bound: GPR works
 #: from ~10 MHz to a few GHz, and a decade or more either side still means something here; below

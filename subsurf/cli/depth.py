@@ -10,6 +10,12 @@ subsurf depth --picks surveys/picks/fictional_utility_picks.csv --velocity "0.09
 subsurf depth --twt 25 --twt 40 --layer "0.6 m, 0.11 m/ns, 0.004 m/ns" --layer "-, 0.08 m/ns, 0.004 m/ns\""""
 
 
+#: Longest two-way time a pick may have (s).  Our limit, stated: 10 km, the deepest a plan may ask
+#: for (choose.MAX_DEPTH_M), takes 67 µs two-way even at the speed of light; --twt 1e30 gave a
+#: depth of 1.5e21 m.
+MAX_TWT_S = 100e-6
+
+
 def add_arguments(parser) -> None:
     g = parser.add_argument_group("travel times")
     g.add_argument("--twt", action="append", metavar="T",
@@ -237,6 +243,9 @@ def _depth(args, staged: dict) -> tuple[dict, str]:
                    "and must be >= 0")
         elif tau[i] < 0:
             msg = f"{twt[i] * 1e9:g} ns is before time zero ({tz * 1e9:g} ns)"
+        elif twt[i] > MAX_TWT_S:
+            msg = (f"{twt[i] * 1e9:g} ns is longer than the {MAX_TWT_S * 1e6:g} µs any radar record holds (the "
+                   "two-way time to 10 km at the speed of light is 67 µs); check the unit")
         elif not v_min_ok[i]:
             msg = (f"{twt[i] * 1e9:g} ns is too short for the antenna separation {offset:g} m "
                    "(the direct path between the antennas takes longer; no real depth)")

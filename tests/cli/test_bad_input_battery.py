@@ -62,6 +62,8 @@ CASES_ALL = [
     C("medium-freq-zero", ["medium", "--eps", "9", "--freq", "0"], 1, "--freq", "1 kHz"),
     C("medium-attenuation-at-freq-huge", ["medium", "--eps", "5", "--attenuation-at", "1e9 GHz=1",
                                          "--attenuation-at", "200=3"], 1, "--attenuation-at", "100 GHz"),
+    C("medium-eps-1e30", "medium --eps 1e30 --sigma 1", 1, "--eps", "100"),
+    C("medium-sigma-1e30", ["medium", "--eps", "9", "--sigma", "1e30 S/m"], 1, "--sigma", "100 S/m"),
     C("medium-stone-size-20-m", ["medium", *MED, "--stone-size", "20 m"], 1, "--stone-size", "10000 mm"),
     # -- choose / setup ------------------------------------------------------------------
     C("choose-no-depth", ["choose", *MED, "--target", "planar"], 2, "--depth"),
@@ -125,6 +127,7 @@ CASES_ALL = [
     C("depth-draws-1e12", ["depth", "--twt", "25", *LAYERS, "--draws", "1000000000000"], 1, "--draws", "memory"),
     C("depth-draws-5", ["depth", "--twt", "25", *LAYERS, "--draws", "5"], 1, "--draws"),
     C("depth-seed-negative", ["depth", "--twt", "25", *LAYERS, "--seed", "-1"], 1, "--seed"),
+    C("depth-twt-1e30", ["depth", "--twt", "1e30", *V], 1, "--twt", "100 µs"),
     C("depth-twt-text", ["depth", "--twt", "abc", *V], 1, "--twt"),
     C("depth-no-velocity", "depth --twt 25", 1, "--velocity"),
     C("depth-offset-negative", ["depth", "--twt", "25", *V, "--offset", "-1"], 1, "--offset"),
