@@ -128,6 +128,10 @@ def run(args) -> int:
 
 
 def _calibrate(args, staged: dict):
+    from dataclasses import replace
+
+    import numpy as np
+
     from ..errors import FileInputError, InputError
     from ..io.calibration_file import calibration_record, write_calibration
     from ..io.outputs import CAUTION, collect_warnings
@@ -179,10 +183,21 @@ def _calibrate(args, staged: dict):
             cal.penetration_m, cal.attenuation_db_per_m, v, cal.reference_freq_hz,
             penetration_se_m=cal.penetration_se_m, attenuation_se_db_per_m=cal.attenuation_se_db_per_m,
             gain=antenna.gain, reference_reflection=refl)
-        from ..interpretation.calibrated_ground import model_predictions, solver_depth
+        from ..interpretation.calibrated_ground import (
+            CalibratedGround,
+            band_effective_performance,
+            model_predictions,
+        )
+        from ..waves.propagation import NP_TO_DB
 
-        check = solver_depth(cal.attenuation_db_per_m, v, cal.reference_freq_hz, perf, gain=antenna.gain,
-                             reference_reflection=refl)
+        # the effective performance in the band budget choose/map re-plan with (band, separation, coupling),
+        # so that re-planning with it returns the observed penetration for this antenna; its se from the
+        # single-frequency derivative above
+        qv = None if cal.q_star is None else cal.q_star.value
+        ground = CalibratedGround(max(cal.attenuation_db_per_m, 0.0), cal.reference_freq_hz,
+                                  0.0 if qv is None else NP_TO_DB * np.pi / (qv * v), v, tuple(cal.band_hz))
+        perf, check = band_effective_performance(ground, replace(antenna, separation_m=sep), cal.penetration_m,
+                                                 reference_reflection=refl, stacks=stacks)
         model = None
         if medium is not None:
             model = {"ground": medium.label, **model_predictions(

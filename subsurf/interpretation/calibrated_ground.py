@@ -19,7 +19,7 @@ from ..errors import InputError, ModelRangeWarning, check_nonnegative, check_pos
 from ..waves.propagation import NP_TO_DB
 
 __all__ = ["effective_medium", "CalibratedGround", "model_predictions", "solver_depth", "check_calibrated_antenna",
-           "calibrated_antennas"]
+           "calibrated_antennas", "band_effective_performance"]
 
 
 def effective_medium(alpha_np_per_m, velocity, freq_hz):
@@ -260,3 +260,32 @@ def calibrated_antennas(antennas, record: dict):
         else:
             out.append(a)
     return out, hit
+
+
+def band_effective_performance(ground: CalibratedGround, antenna, penetration_m: float, *,
+                               reference_reflection: float, stacks: int) -> tuple[float, float]:
+    """System performance (dB, with ``stacks``) that puts the band budget's maximum depth at the penetration.
+
+    The budget ``choose``/``map`` use (:func:`subsurf.planning.antennas.antenna_budget_for`: the
+    antenna's band, its separation and coupling gain) in the calibrated ground, for a planar
+    reflector of |R| = ``reference_reflection``: P = L(d_obs), read as P_trial − margin(d_obs),
+    so re-planning with P returns the observed penetration for that antenna.
+
+    Returns
+    -------
+    (performance_db, check_depth_m) : float, float
+        The performance and the budget's maximum depth with it (equals ``penetration_m``).
+    """
+    from ..detection import Target
+    from ..planning.antennas import antenna_budget_for
+
+    d = float(check_positive("penetration_m", penetration_m, unit="m"))
+    target = Target("planar", reflection=float(reference_reflection), depth_m=d)
+    a = antenna.with_stacks(int(stacks))
+    margin = float(np.asarray(antenna_budget_for(ground.electrical, a, target, depth_m=d)["margin_db"]))
+    perf = a.effective_performance_db - margin
+    from dataclasses import replace
+
+    tuned = replace(a, performance_db=perf - a.stacking_gain_db)
+    check = float(np.asarray(antenna_budget_for(ground.electrical, tuned, target, depth_m=d)["max_depth"]))
+    return perf, check

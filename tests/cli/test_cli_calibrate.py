@@ -228,3 +228,24 @@ def test_report_with_calibration_predicted_vs_observed(calibration, tmp_path):
     plain = run("report", survey, "--no-maps", "--out", tmp_path / "p.html", "--json", "--quiet")
     assert json.loads(plain.stdout)["calibration"] is None
     assert 'id="calibration"' not in (tmp_path / "p.html").read_text()
+
+
+def test_choose_calibration_reproduces_observed_penetration(calibration):
+    """The effective performance is fitted in choose's band budget: choose --calibration's maximum depth of the
+    reference reflector, for the antenna of the test profile, is the observed penetration (issue: within 10 %)."""
+    from subsurf.cli._calibration import calibrated_antennas, load_calibration
+    from subsurf.cli.choose import compute
+    from subsurf.detection import Target
+    from subsurf.planning.antennas import load_catalogue
+
+    _, path = calibration
+    ground, rec = load_calibration(path)
+    ant = load_catalogue()[rec["antenna"]["name"]].with_stacks(rec["effective_performance"]["stacks"])
+    used, _ = calibrated_antennas([ant], rec)
+    target = Target("planar", reflection=rec["effective_performance"]["reference_reflection"], depth_m=1.0)
+    from subsurf.errors import ModelRangeWarning
+
+    with pytest.warns(ModelRangeWarning, match="extrapolated"):  # the band's -60 dB tail lies below the measured band
+        row = compute(ground, target, used)["rows"][0]  # what `subsurf choose` computes and prints
+    assert row["max_depth_m"] == pytest.approx(rec["penetration"]["depth_m"], rel=0.10)
+    assert row["max_depth_m"] == pytest.approx(rec["penetration"]["depth_m"], rel=1e-4)  # same budget, same solver

@@ -37,8 +37,9 @@ def _model_draws(soil, sd: dict, freq_hz: float, *, draws: int, seed: int):
     varied = dataclasses.replace(soil, **changes) if changes else soil
     eps, sig = varied.electrical(freq_hz)
     w = wave_properties(eps, sig, freq_hz)
+    banded = dataclasses.replace(soil, **{k: v[:, None] for k, v in changes.items()}) if changes else soil
     return (np.atleast_1d(np.asarray(w.attenuation_db_per_m, float)), np.atleast_1d(np.asarray(w.velocity, float)),
-            eps, sig)
+            banded)
 
 
 def _range(x) -> tuple[float, float]:
@@ -70,9 +71,9 @@ def calibrated_plan(path, survey, site, antennas, target, *, model_rows, from_fl
         max depth and margin before/after, verdicts), ``recommended_before``, ``note``,
         ``file``, ``antenna``.
     """
-    from ...detection import Target, max_depth
+    from ...detection import Target
     from ...interpretation.calibrated_ground import model_predictions
-    from ...planning.antennas import load_catalogue, rank_antennas, recommend
+    from ...planning.antennas import antenna_budget_for, load_catalogue, rank_antennas, recommend
     from ...site.calibrated import load_grid_calibration
 
     gcal, used = load_grid_calibration(path, survey, antennas, field_name=None if from_flag else "[calibration] file")
@@ -88,9 +89,14 @@ def calibrated_plan(path, survey, site, antennas, target, *, model_rows, from_fl
     fc = ant.centre_freq_hz
     pred = model_predictions(site.soil.electrical, centre_freq_hz=fc, performance_db=cat_perf, gain=ant.gain,
                              reference_reflection=refl)
-    a_draw, v_draw, eps_d, sig_d = _model_draws(site.soil, site.sd, fc, draws=survey.draws, seed=survey.seed)
-    pen_draw = np.atleast_1d(np.asarray(max_depth(eps_d, sig_d, fc, cat_perf, target=Target("planar", reflection=refl),
-                                                  gain=ant.gain), float))
+    a_draw, v_draw, banded = _model_draws(site.soil, site.sd, fc, draws=survey.draws, seed=survey.seed)
+    # the model's penetration in the band budget the effective performance is fitted in (calibrate)
+    ref_target = Target("planar", reflection=refl, depth_m=float(rec["penetration"]["depth_m"]))
+    a_st = ant.with_stacks(stacks)
+    pred["penetration_m"] = float(np.asarray(antenna_budget_for(site.soil.electrical, a_st, ref_target,
+                                                                depth_m=ref_target.depth_m)["max_depth"]))
+    pen_draw = np.atleast_1d(np.asarray(antenna_budget_for(banded.electrical, a_st, ref_target,
+                                                           depth_m=ref_target.depth_m)["max_depth"], float))
 
     # the observation at the band centre: α_ref + π(f_c − f_ref)/(Q*·v) (Np/m), its se in quadrature
     att, q = rec["attenuation"], rec["q_star"]
