@@ -1,7 +1,7 @@
 """Write the JSON Schemas of survey files and soil files for editors (run from anywhere).
 
 The schemas are generated from the pydantic models that validate the files
-(:mod:`subsurf.site.schema`, :mod:`subsurf.ground.schema`); a test checks that the
+(:mod:`subsurf.site.schema`, :mod:`subsurf.ground.schema`, :mod:`subsurf.planning.catalogue`); a test checks that the
 committed files equal what this script writes, so rerun it after changing a schema.
 TOML editors that read JSON Schema (e.g. taplo / "Even Better TOML") use them with a
 first line ``#:schema ./survey.schema.json`` in the TOML file.
@@ -13,10 +13,12 @@ import json
 from pathlib import Path
 
 from subsurf.ground.schema import soil_json_schema
+from subsurf.planning.catalogue import catalogue_json_schema
 from subsurf.site.schema import survey_json_schema
 
 HERE = Path(__file__).resolve().parent
-FILES = {"survey.schema.json": survey_json_schema, "soil.schema.json": soil_json_schema}
+FILES = {"survey.schema.json": survey_json_schema, "soil.schema.json": soil_json_schema,
+         "catalogue.schema.json": catalogue_json_schema}
 
 
 def render(schema: dict) -> str:

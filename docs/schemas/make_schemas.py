@@ -80,6 +80,18 @@ WRITTEN = strings("files written by this run (paths as given)")
 
 
 # --- shared pieces -------------------------------------------------------------------------
+
+
+def catalogue_used() -> dict:
+    """The antenna catalogue a survey run used (subsurf.planning.catalogue.CatalogueChoice.describe)."""
+    return obj({
+        "file": text("the catalogue file read (the bundled configs/antennas.toml when no other was given)"),
+        "source": text("where it was named", enum=("bundled", "survey", "--catalogue")),
+        "bundled": boolean("the bundled illustrative catalogue was used"),
+        "inline": strings("antennas defined in the survey itself ([antennas.define.NAME])"),
+        "illustrative": strings("antennas used whose figures are illustrative, not measured"),
+        "text": text("the same in one line"),
+    }, "the antenna catalogue used")
 def soil_facts() -> dict:
     """The ground as described on the command line or in --soil FILE, keys with units (subsurf.io.jsonstyle)."""
     from subsurf.io.jsonstyle import CALIBRATED_FACTS, FACT_KEYS, PLAIN_FACTS, json_key
@@ -361,6 +373,7 @@ def _report_common() -> dict:
         "target": obj({"kind": text("target kind"), "depth_m": num("target depth (m)"),
                        "size_m": num("target diameter (m)", null=True), "material": text("target material")},
                       "the survey's target"),
+        "catalogue": catalogue_used(),
         "recommended": text("recommended antenna, or null", null=True),
         "reason": text("why, one line"),
         "ranking": array(ranking, "antennas at the site median"),
@@ -420,7 +433,7 @@ def map_schema() -> dict:
                        "size_m": num("target diameter (m)", null=True), "material": text("target material")},
                       "the target"),
         "antennas": strings("antennas mapped"),
-        "catalogue": text("antenna catalogue file, null for the bundled one", null=True),
+        "catalogue": catalogue_used(),
         "scenarios": array(obj({"name": text("scenario"), "description": text("what it changes", null=True)},
                                "a scenario"), "scenarios"),
         "monte_carlo_draws": integer("draws of the reach probability", minimum=1),

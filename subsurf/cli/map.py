@@ -11,11 +11,17 @@ HELP = "feasibility maps of a survey site: depth reach per antenna and scenario 
 EXAMPLE = "subsurf map surveys/example-site/survey.toml --out maps-example"
 
 
+CATALOGUE_HELP = ("antenna catalogue TOML (layout of configs/antennas.toml) replacing the survey's [antennas] "
+                  "catalogue (or the bundled illustrative one); antennas the survey defines in [antennas.define.NAME] "
+                  "are kept, and every name in [antennas] names must be in one of the two")
+
+
 def add_arguments(parser) -> None:
     parser.add_argument("survey", metavar="SURVEY.toml", help="survey file (schema: surveys/README.md)")
     parser.add_argument("--out", metavar="DIR", default="subsurf-map",
                         help="output folder (default: subsurf-map)")
     parser.add_argument("--force", action="store_true", help="overwrite existing outputs")
+    parser.add_argument("--catalogue", metavar="FILE", help=CATALOGUE_HELP)
     parser.add_argument("--no-geotiff", action="store_true", help="skip the GeoTIFF layers even if "
                         "rioxarray is installed")
     parser.add_argument("--calibration", metavar="JSON", help="site calibration written by 'subsurf calibrate' "
@@ -41,6 +47,7 @@ def summary_text(result: dict, out_dir) -> str:
         f"Reach probability: first-order where accurate, Monte Carlo ({mc['draws']} draws, seed "
         f"{mc['seed']}) on " + ", ".join(f"{100 * f:.1f} %" for f in mc["sampled_fraction"].values())
         + f" of the cells; estimated error <= {mc['max_estimated_error']:.3f}.",
+        f"Antennas: {result['inputs']['catalogue']['text']}.",
         f"Grid: {g['nx']} x {g['ny']} cells of {g['cell_size_m']:g} m in {g['crs_name']} "
         f"({g['crs_source']}); {g['cells_inside']} inside the site.",
         f"Wrote {len(result['paths'])} files to {Path(out_dir)}/ (NetCDF, "
@@ -67,7 +74,8 @@ def run(args) -> int:
     # input notes (ignored columns, partial rasters, kriging ...) and model warnings become note: lines
     with collect_warnings() as notes, txn:  # the folder is staged, then moved into place whole with its manifest
         result = run_map(args.survey, staged, force=True, quiet=args.quiet or args.json,
-                         geotiff=not args.no_geotiff, preflight=preflight, calibration=args.calibration)
+                         geotiff=not args.no_geotiff, preflight=preflight, calibration=args.calibration,
+                         catalogue=args.catalogue)
     result = txn.public(result)
     text = summary_text(result, args.out)
     payload = {"caution": CAUTION, **{k: result[k] for k in ("paths", "summary", "inputs", "monte_carlo",

@@ -12,6 +12,8 @@ subsurf report surveys/example-site/survey.toml --out plan.html --maps-out plan-
 
 
 def add_arguments(parser) -> None:
+    from .map import CATALOGUE_HELP
+
     parser.add_argument("survey", metavar="SURVEY.toml", help="survey file (schema: surveys/README.md)")
     parser.add_argument("--out", metavar="FILE.html", default=None,
                         help="report file to write (default: <survey folder name>-report.html here)")
@@ -20,6 +22,7 @@ def add_arguments(parser) -> None:
                              "they are made in a temporary folder and only embedded in the report")
     parser.add_argument("--no-maps", action="store_true",
                         help="skip the feasibility maps (quicker; the report then has no map section)")
+    parser.add_argument("--catalogue", metavar="FILE", help=CATALOGUE_HELP)
     parser.add_argument("--force", action="store_true", help="overwrite an existing report (and map files)")
     parser.add_argument("--calibration", metavar="JSON", help="site calibration written by 'subsurf calibrate' "
                         "(instead of the survey's [calibration] file): plan with the measured attenuation, Q*, "
@@ -47,6 +50,8 @@ def summary_text(summary: dict) -> str:
     if summary["recommended"]:
         lines.append(f"Recommended antenna: {summary['recommended']}")
     lines.append(f"Reason: {summary['reason']}")
+    if summary.get("catalogue"):
+        lines.append(f"Antennas: {summary['catalogue']['text']}")
     lines.append(f"Ground velocity ({'measured on site' if cal else 'site median'}): "
                  f"{summary['velocity_m_per_ns']:.3f} m/ns "
                  f"(5-95 %: {summary['velocity_p05_m_per_ns']:.3f}-{summary['velocity_p95_m_per_ns']:.3f})")
@@ -79,7 +84,8 @@ def run(args) -> int:
     # model warnings of the map run (e.g. a calibration's band extrapolated) become note: lines
     with collect_warnings() as map_notes, txn:  # the report and its map folder appear together, or neither
         summary = make_report(args.survey, html, force=True, quiet=args.quiet or args.json,
-                              maps=not args.no_maps, maps_out=maps_dir, calibration=args.calibration)
+                              maps=not args.no_maps, maps_out=maps_dir, calibration=args.calibration,
+                              catalogue=args.catalogue)
     summary = txn.public(summary)
     print_notes(txn.notes, quiet=args.quiet or args.json)
     if args.maps_out and not args.no_maps:

@@ -102,7 +102,7 @@ def summary_markdown(rows, survey, caution: str, calibration=None) -> str:
         f"Target: {t.kind} ({t.material}, {t.size_m:g} m) at {t.depth_m:g} m depth. "
         f"Grid: {survey.cell_size_m:g} m cells in {survey.grid_crs.name}. "
         f"Reach probability: first-order where accurate, else Monte Carlo ({survey.draws} draws, "
-        f"seed {survey.seed}).", "",
+        f"seed {survey.seed}). Antennas: {survey.catalogue.text(survey.antennas)}.", "",
         *([f"**{calibration.note()}.**", ""] if calibration is not None else []),
         head, sep, *body, "", f"> **Caution.** {caution}", ""])
 
@@ -140,6 +140,7 @@ def _netcdf_attrs(survey, calibration=None) -> dict:
         "references": "surveys/README.md (survey schema); README section 'Feasibility maps'",
         "comment": CAUTION,
         "caution": CAUTION,
+        "antenna_catalogue": survey.catalogue.text(survey.antennas),
         **({"calibration": calibration.note(), "calibration_file": str(calibration.path)}
            if calibration is not None else {}),
     }
@@ -260,7 +261,7 @@ def write_map_outputs(maps, out_dir, *, force: bool = False, geotiff: bool = Tru
 
 
 def run_map(survey_path, out_dir, *, force: bool = False, quiet: bool = False, geotiff: bool = True,
-            preflight=None, calibration=None) -> dict:
+            preflight=None, calibration=None, catalogue=None) -> dict:
     """Compute and write every output of ``subsurf map`` for one survey.
 
     Parameters
@@ -280,6 +281,9 @@ def run_map(survey_path, out_dir, *, force: bool = False, quiet: bool = False, g
         computation (e.g. to check free space for the outputs).
     calibration : str or Path, optional
         Site calibration file, instead of the survey's ``[calibration] file``.
+    catalogue : str or Path, optional
+        Antenna catalogue file replacing the survey's ``[antennas] catalogue`` (``--catalogue``);
+        the survey's inline antennas are kept.
 
     Returns
     -------
@@ -294,7 +298,7 @@ def run_map(survey_path, out_dir, *, force: bool = False, quiet: bool = False, g
     from ..site.survey import load_survey
     from .outputs import CAUTION, check_outputs_free
 
-    survey = load_survey(survey_path)
+    survey = load_survey(survey_path, catalogue=catalogue)
     geotiff = geotiff and have_rioxarray()
     check_outputs_free(output_paths(out_dir, survey, geotiff=geotiff).values(), force=force)
     if preflight is not None:

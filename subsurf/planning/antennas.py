@@ -10,9 +10,7 @@ builds a :class:`subsurf.detection.Target` from a material name of
 from __future__ import annotations
 
 import math
-import tomllib
 from dataclasses import dataclass
-from pathlib import Path
 
 import numpy as np
 
@@ -22,7 +20,7 @@ from ..detection.coupling import coupling_gain
 from ..detection.evaluate import antenna_budget, soil_loss_terms
 from ..detection.targets import Target
 from ..detection.verdicts import MARGINAL, REACHES, REACHES_MARGIN_DB, verdict
-from ..errors import FileInputError, InputError
+from ..errors import InputError
 from .targets import MATERIAL_ALIASES, make_target, material_names, target_summary  # noqa: F401  (public here too)
 
 __all__ = [
@@ -155,28 +153,6 @@ class Antenna:
         return replace(self, stacks=int(stacks))
 
 
-_FIELDS = {
-    # toml key: (Antenna field, scale to SI, low, high)
-    "centre_frequency_mhz": ("centre_freq_hz", 1e6, 1e-3, 1e5),
-    "bandwidth_mhz": ("bandwidth_hz", 1e6, 1e-3, 1e5),
-    "system_performance_db": ("performance_db", 1.0, 1e-9, 400.0),
-    "separation_m": ("separation_m", 1.0, 0.0, 100.0),
-    "trace_rate_hz": ("trace_rate_hz", 1.0, 1e-9, 1e7),
-}
-_OPTIONAL = {
-    # toml key: (Antenna field, scale to SI, low (exclusive), high, unit)
-    "pulse_length_ns": ("pulse_length_s", 1e-9, 0.0, 1e4, "ns"),
-    "clutter_limit_db": ("clutter_limit_db", 1.0, 0.0, 60.0, "dB"),
-    "gain_dbi": ("gain", 1.0, -20.0, 40.0, "dBi"),
-}
-
-
-def _default_catalogue_path() -> Path:
-    from .. import config_dir
-
-    return Path(config_dir()) / "antennas.toml"
-
-
 def load_catalogue(path=None) -> dict[str, Antenna]:
     """Read an antenna catalogue (TOML) into ``{name: Antenna}``, ordered by frequency.
 
@@ -189,48 +165,12 @@ def load_catalogue(path=None) -> dict[str, Antenna]:
     Raises
     ------
     FileInputError
-        Naming the file, the antenna and the field of any invalid entry.
+        Naming the file, the antenna and the field of any invalid entry, unknown keys
+        with the closest valid key suggested (:func:`subsurf.planning.catalogue.read_catalogue`).
     """
-    path = Path(path) if path is not None else _default_catalogue_path()
-    try:
-        with open(path, "rb") as fh:
-            data = tomllib.load(fh)
-    except FileNotFoundError:
-        raise FileInputError(path, "antenna catalogue not found") from None
-    except tomllib.TOMLDecodeError as exc:
-        raise FileInputError(path, f"invalid TOML: {exc}") from None
-    table = data.get("antenna")
-    if not isinstance(table, dict) or not table:
-        raise FileInputError(path, "no [antenna.NAME] tables found")
-    out = []
-    for name, entry in table.items():
-        where = f"[antenna.{name}]"
-        if not isinstance(entry, dict):
-            raise FileInputError(path, f"{where} must be a table", field=name)
-        kw = {}
-        for key, (fld, scale, lo, hi) in _FIELDS.items():
-            v = entry.get(key)
-            if isinstance(v, bool) or not isinstance(v, (int, float)) or not math.isfinite(v):
-                raise FileInputError(path, f"{where}: needs a number, got {v!r}", field=key)
-            if not lo <= v <= hi:
-                raise FileInputError(path, f"{where}: must be between {lo:g} and {hi:g}, got {v!r}", field=key)
-            kw[fld] = float(v) * scale
-        opt = {}
-        for key, (fld, scale, lo, hi, unit) in _OPTIONAL.items():
-            if key not in entry:
-                continue
-            v = entry[key]
-            if isinstance(v, bool) or not isinstance(v, (int, float)) or not math.isfinite(v) or not lo < v <= hi:
-                raise FileInputError(path, f"{where}: must be a number > {lo:g} and <= {hi:g} {unit}, got {v!r}",
-                                     field=key)
-            opt[fld] = float(v) * scale if key != "gain_dbi" else 10.0 ** (float(v) / 10.0)
-        stacks = entry.get("stacks", 1)
-        if isinstance(stacks, bool) or not isinstance(stacks, int) or stacks < 1:
-            raise FileInputError(path, f"{where}: must be an integer >= 1, got {stacks!r}", field="stacks")
-        out.append(Antenna(name=str(name), stacks=stacks, notes=str(entry.get("notes", "")),
-                           illustrative=bool(entry.get("illustrative", False)), **kw, **opt))
-    out.sort(key=lambda a: (a.centre_freq_hz, a.name))
-    return {a.name: a for a in out}
+    from .catalogue import read_catalogue
+
+    return read_catalogue(path)
 
 
 def get_antenna(name: str, catalogue: dict[str, Antenna] | None = None) -> Antenna:

@@ -189,7 +189,8 @@ def load_grid_calibration(path, survey, antennas, *, field_name: str | None = No
         if field_name is not None and "file not found" in str(exc):
             raise FileInputError(survey.path, f"calibration file not found: {p}", field=field_name) from None
         raise
-    check_calibrated_antenna(record, load_catalogue(survey.catalogue_path), source=p)
+    catalogue = survey.catalogue.antennas if survey.catalogue is not None else load_catalogue(survey.catalogue_path)
+    check_calibrated_antenna(record, catalogue, source=p)  # the survey's antennas, inline ones included
     ground = CalibratedGround.from_record(record, source=str(p))
     used, replaced = calibrated_antennas(antennas, record)
     return GridCalibration(ground=ground, record=record, path=p, reference={}, texture=survey.texture,

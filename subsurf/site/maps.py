@@ -65,15 +65,9 @@ class FeasibilityMaps:
 
 def _antennas_and_target(survey):
     from ..errors import FileInputError, InputError
-    from ..planning.antennas import get_antenna, load_catalogue, make_target
+    from ..planning.antennas import make_target
 
-    catalogue = load_catalogue(survey.catalogue_path)  # the survey's own catalogue, else the bundled one
-    antennas = []
-    for name in survey.antennas:
-        try:
-            antennas.append(get_antenna(name, catalogue))
-        except InputError as exc:
-            raise FileInputError(survey.path, str(exc), field="antennas.names") from None
+    antennas = survey.antenna_list()  # the catalogue the survey uses (checked on loading), inline antennas too
     t = survey.target
     try:
         target = make_target(t.kind, depth_m=t.depth_m, size_m=t.size_m if t.kind != "planar" else None,

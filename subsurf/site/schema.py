@@ -20,6 +20,7 @@ from typing import Annotated, Literal
 from pydantic import BeforeValidator, Field, create_model, field_validator, model_validator
 
 from .._schema import Strict, json_schema, quantity_type
+from ..planning.catalogue import AntennaEntry, check_names
 
 __all__ = ["Quantity", "QUANTITIES", "SD_SUFFIX", "TARGET_KINDS", "SurveyFile", "survey_json_schema",
            "SoilValues", "SoilSpreads"]
@@ -235,19 +236,34 @@ def _names_list(value):
 
 
 class Antennas(Strict):
-    """[antennas]: which antennas to map, from the bundled catalogue or the survey's own."""
+    """[antennas]: which antennas to map, from the bundled catalogue, the survey's own, or defined here."""
 
-    names: list[str] = Field(min_length=1, description="antenna names of the catalogue")
+    names: list[str] | None = Field(None, min_length=1, description="antenna names to map, each once, from the "
+                                    "catalogue or [antennas.define] (default: the antennas defined here)")
     catalogue: RelPath | None = Field(None, description="antenna catalogue TOML (as configs/antennas.toml) "
                                       "instead of the bundled illustrative one")
+    define: dict[str, AntennaEntry] = Field(default_factory=dict, description="antennas defined in the survey "
+                                            "itself, [antennas.define.NAME], fields as in configs/antennas.toml")
 
     @field_validator("names")
     @classmethod
     def _unique(cls, value):
-        if len(set(value)) != len(value):
+        if value is not None and len(set(value)) != len(value):
             dup = next(n for n in value if value.count(n) > 1)
             raise ValueError(f"antenna {dup!r} is listed twice")
         return value
+
+    @field_validator("define", mode="before")
+    @classmethod
+    def _define_names(cls, value):
+        return check_names(value) if isinstance(value, dict) else value
+
+    @model_validator(mode="after")
+    def _something_to_map(self):
+        if self.names is None and not self.define:
+            raise ValueError("give names = [...] (antennas of the catalogue) or define antennas in "
+                             "[antennas.define.NAME] tables")
+        return self
 
 
 class Scenario(Strict):

@@ -22,7 +22,7 @@ import tomllib
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from .._schema import closest, fail, key_path, validate_file
+from .._schema import fail, key_path, validate_file
 from ..errors import FileInputError, InputError
 from ..ground.presets import texture_preset
 from .crs import auto_utm_crs, read_crs
@@ -95,10 +95,19 @@ class Survey:
     draws: int
     seed: int
     max_cells: int
-    catalogue_path: Path | None = None  # the survey's own antenna catalogue (None: the bundled one)
+    catalogue_path: Path | None = None  # the antenna catalogue file used (None: the bundled one)
+    catalogue: object = None  # subsurf.planning.catalogue.CatalogueChoice: every antenna available, and its source
     interpolation: str = "auto"  # samples to grid: "auto", "kriging" or "spline"
     variogram: str = "exponential"  # variogram model family for kriging
     calibration_path: Path | None = None  # [calibration] file: a site calibration (subsurf calibrate)
+
+    def antenna_list(self) -> list:
+        """The antennas to map (catalogue entries, in the order of ``antennas``)."""
+        from ..planning.catalogue import resolve_catalogue
+
+        cat = self.catalogue if self.catalogue is not None else resolve_catalogue(file=self.catalogue_path,
+                                                                                  source="survey")
+        return [cat.antennas[n] for n in self.antennas]
 
     def describe(self) -> dict:
         """Plain summary of the inputs for reports and JSON (no arrays; defaults under keys with units)."""
@@ -126,7 +135,7 @@ class Survey:
             "target": {"kind": self.target.kind, "depth_m": self.target.depth_m,
                        "size_m": self.target.size_m, "material": self.target.material},
             "antennas": list(self.antennas),
-            "catalogue": None if self.catalogue_path is None else str(self.catalogue_path),
+            "catalogue": None if self.catalogue is None else self.catalogue.describe(self.antennas),
             "calibration": None if self.calibration_path is None else str(self.calibration_path),
             "scenarios": [{"name": s.name, "description": s.description} for s in self.scenarios],
             "monte_carlo_draws": self.draws,
@@ -177,26 +186,32 @@ def _outline(site, outline_crs, *, path):
     return outline
 
 
-def _catalogue(spec, *, path):
-    """The survey's antenna catalogue (path) after checking that every named antenna is in it."""
-    from ..planning.antennas import load_catalogue
+def _catalogue(spec, *, path, override=None):
+    """The survey's antennas (:class:`~subsurf.planning.catalogue.CatalogueChoice`) and the names to map.
 
-    cat_path = None
-    if spec.catalogue is not None:
-        cat_path = (path.parent / spec.catalogue).resolve()
-        if not cat_path.is_file():
-            raise fail(path, "[antennas] catalogue", f"antenna catalogue not found: {cat_path}")
-    catalogue = load_catalogue(cat_path)
-    for name in spec.names:
-        if name not in catalogue:
-            near = closest(name, catalogue)
-            source = cat_path.name if cat_path is not None else "the bundled catalogue (configs/antennas.toml)"
-            raise fail(path, "[antennas] names", f"antenna {name!r} is not in {source}"
-                       + (f"; did you mean '{near}'?" if near else "") + f" (available: {', '.join(catalogue)})")
-    return cat_path
+    ``override`` (the command's ``--catalogue FILE``) replaces the survey's ``[antennas] catalogue``;
+    antennas defined in ``[antennas.define.NAME]`` are added to whichever catalogue is used.
+    """
+    from ..planning.catalogue import missing_antenna_message, resolve_catalogue
+
+    file, source = None, "bundled"
+    if override is not None:
+        file, source = Path(override), "--catalogue"
+        if not file.exists():
+            raise InputError(f"--catalogue: antenna catalogue not found: {file}")
+    elif spec.catalogue is not None:
+        file, source = (path.parent / spec.catalogue).resolve(), "survey"
+        if not file.is_file():
+            raise fail(path, "[antennas] catalogue", f"antenna catalogue not found: {file}")
+    choice = resolve_catalogue(file=file, source=source, inline=spec.define, inline_path=path)
+    names = list(spec.names) if spec.names is not None else list(spec.define)
+    for name in names:
+        if name not in choice.antennas:
+            raise fail(path, "[antennas] names", missing_antenna_message(name, choice))
+    return choice, names
 
 
-def load_survey(path) -> Survey:
+def load_survey(path, *, catalogue=None) -> Survey:
     """Read and validate a survey file and every input it names.
 
     Parameters
@@ -204,6 +219,9 @@ def load_survey(path) -> Survey:
     path : str or Path
         The survey TOML file (schema in :mod:`subsurf.site.schema`, documented in
         ``surveys/README.md``).
+    catalogue : str or Path, optional
+        An antenna catalogue file replacing the survey's ``[antennas] catalogue`` (the
+        commands' ``--catalogue``); antennas the survey defines inline are kept.
 
     Returns
     -------
@@ -259,7 +277,7 @@ def load_survey(path) -> Survey:
     t = spec.target
     size = t.size if t.size is not None else (1.0 if t.kind == "planar" else 0.1)
     target = TargetSpec(kind=t.kind, depth_m=t.depth, size_m=size, material=t.material)
-    catalogue_path = _catalogue(spec.antennas, path=path)
+    choice, names = _catalogue(spec.antennas, path=path, override=catalogue)
     calibration_path = None
     if spec.calibration is not None:
         calibration_path = (path.parent / spec.calibration.file).resolve()
@@ -274,7 +292,8 @@ def load_survey(path) -> Survey:
                   description=spec.site.description, outline=outline, outline_crs=outline_crs, grid_crs=grid_crs,
                   grid_crs_source=source, cell_size_m=spec.grid.cell_size, soil_model=soil.model,
                   texture=texture, defaults=defaults, default_sd=default_sd, samples=samples, zones=zones,
-                  rasters=rasters, target=target, antennas=list(spec.antennas.names), scenarios=scenarios,
+                  rasters=rasters, target=target, antennas=names, scenarios=scenarios,
                   draws=spec.monte_carlo.draws, seed=spec.monte_carlo.seed, max_cells=spec.grid.max_cells,
-                  catalogue_path=catalogue_path, interpolation=soil.interpolation, variogram=soil.variogram,
+                  catalogue_path=None if choice.source == "bundled" else choice.file, catalogue=choice,
+                  interpolation=soil.interpolation, variogram=soil.variogram,
                   calibration_path=calibration_path)

@@ -67,6 +67,11 @@ def _calibration_files(ws: Path) -> None:
         (ws / f"cal_{name}.json").write_text(json.dumps(rec), encoding="utf-8")
 
 
+#: a FICTIONAL antenna (invented figures) for the catalogue cases
+_RIG = ("centre_frequency_mhz = 300\nbandwidth_mhz = 250\nsystem_performance_db = 70\nseparation_m = 0.2\n"
+        "trace_rate_hz = 100\n")
+
+
 def make_workspace(ws: Path) -> None:
     """Fill ``ws`` with the good inputs, the broken ones and a few pre-existing outputs to protect."""
     shutil.copytree(SITE, ws / "site", ignore=shutil.ignore_patterns("make_example.py"))
@@ -85,6 +90,14 @@ def make_workspace(ws: Path) -> None:
         "crs_geocentric": _variant(survey, 'crs = "EPSG:32630"', 'crs = "EPSG:4978"'),
         "grid_vertical": _variant(survey, 'crs = "auto-utm"', 'crs = "EPSG:5773"'),
         "zones_vertical": _variant(survey, 'file = "zones.geojson"', 'file = "zones_vertical.geojson"'),
+        "cellsize": _variant(survey, 'cell_size = "2 m"', 'cellsize = "2 m"'),
+        "catbadkey": _variant(survey, 'names = ["lowband-100", "midband-250", "midband-500", "highband-1000"]',
+                              'names = ["fictional-rig"]\ncatalogue = "../cat_badkey.toml"'),
+        "inlinetypo": _variant(survey, 'names = ["lowband-100", "midband-250", "midband-500", "highband-1000"]',
+                               'names = ["fictional-rig"]\n[antennas.define.fictional-rig]\n' + _RIG
+                               + "stack = 2\n"),
+        "inlinedup": _variant(survey, 'names = ["lowband-100", "midband-250", "midband-500", "highband-1000"]',
+                              'names = ["midband-250"]\n[antennas.define.midband-250]\n' + _RIG),
     }
     variants["calmissing"] = survey + '\n[calibration]\nfile = "nowhere_cal.json"\n'
     variants["calfreq"] = survey + '\n[calibration]\nfile = "../cal_freq.json"\n'
@@ -107,6 +120,10 @@ def make_workspace(ws: Path) -> None:
     utility = (PICKS / "fictional_utility_picks.csv").read_text(encoding="utf-8")
     (ws / "picks_vertical_crs.csv").write_text(_variant(utility, "# crs: EPSG:32633", "# crs: EPSG:5714"),
                                                encoding="utf-8")  # MSL height: a vertical CRS
+    (ws / "cat_good.toml").write_text("[antenna.fictional-rig]\n" + _RIG)
+    (ws / "cat_badkey.toml").write_text("[antenna.fictional-rig]\n" + _RIG.replace("centre_frequency", "centre_freq"))
+    (ws / "cat_missing.toml").write_text("[antenna.fictional-rig]\n" + _RIG.replace("trace_rate_hz = 100\n", ""))
+    (ws / "cat_dup.toml").write_text(("[antenna.fictional-rig]\n" + _RIG) * 2)
     picks = (PICKS / "fictional_hyperbolas.csv").read_text(encoding="utf-8")
     (ws / "picks_latin1.csv").write_bytes(picks.replace("Invented", "Inv\xe9nted").encode("latin-1"))
     (ws / "v_nan.json").write_text('{"velocity_m_per_ns": NaN, "velocity_se_m_per_ns": 0.003}')

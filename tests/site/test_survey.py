@@ -267,15 +267,17 @@ def test_catalogue_key_resolved_relative_to_survey(tmp_path):
     p = write(tmp_path, BASE.replace('names = ["midband-250"]', 'names = ["site-600"]\ncatalogue = "cat/mine.toml"'))
     s = load_survey(p)
     assert s.catalogue_path == (tmp_path / "cat" / "mine.toml").resolve()
-    assert s.describe()["catalogue"] == str(s.catalogue_path)
+    d = s.describe()["catalogue"]
+    assert d["file"] == str(s.catalogue_path) and d["source"] == "survey" and d["inline"] == []
+    assert str(s.catalogue_path) in d["text"]
 
 
 def test_antenna_not_in_own_catalogue_suggests_name(tmp_path):
     """An antenna missing from the survey's catalogue is refused, suggesting the nearest name in it."""
     (tmp_path / "mine.toml").write_text(CATALOGUE)
     p = write(tmp_path, BASE.replace('names = ["midband-250"]', 'names = ["site-60"]\ncatalogue = "mine.toml"'))
-    with pytest.raises(FileInputError, match=r"\[antennas\] names: antenna 'site-60' is not in mine\.toml; "
-                                             r"did you mean 'site-600'\?"):
+    with pytest.raises(FileInputError, match=r"\[antennas\] names: antenna 'site-60' is not in the survey's "
+                                             r"catalogue \S*mine\.toml; did you mean 'site-600'\?"):
         load_survey(p)
 
 
@@ -284,6 +286,78 @@ def test_missing_catalogue_file_named(tmp_path):
     p = write(tmp_path, BASE.replace('names = ["midband-250"]', 'names = ["midband-250"]\ncatalogue = "no.toml"'))
     with pytest.raises(FileInputError, match=r"\[antennas\] catalogue: antenna catalogue not found"):
         load_survey(p)
+
+
+INLINE = """
+[antennas.define.site-600]
+centre_frequency_mhz = 600
+bandwidth_mhz = 600
+system_performance_db = 120
+separation_m = 0.1
+trace_rate_hz = 100
+"""
+
+
+def test_inline_antenna_defined_in_survey(tmp_path):
+    """[antennas.define.NAME] adds an antenna of the survey's own; without names it is the one mapped."""
+    text = BASE.replace('[antennas]\nnames = ["midband-250"]\n', "") + INLINE
+    s = load_survey(write(tmp_path, text))
+    assert s.antennas == ["site-600"]
+    (a,) = s.antenna_list()
+    assert a.centre_freq_hz == 600e6 and a.performance_db == 120 and not a.illustrative
+    d = s.describe()["catalogue"]
+    assert d["source"] == "bundled" and d["inline"] == ["site-600"] and "defined in the survey (site-600)" in d["text"]
+
+
+def test_inline_antennas_extend_the_catalogue(tmp_path):
+    """names may mix bundled antennas and inline ones; the bundled one is flagged illustrative."""
+    text = BASE.replace('names = ["midband-250"]', 'names = ["midband-250", "site-600"]') + INLINE
+    s = load_survey(write(tmp_path, text))
+    assert [a.name for a in s.antenna_list()] == ["midband-250", "site-600"]
+    assert s.describe()["catalogue"]["illustrative"] == ["midband-250"]
+
+
+def test_override_catalogue_replaces_the_survey_key(tmp_path):
+    """load_survey(catalogue=FILE) (the commands' --catalogue) replaces [antennas] catalogue, inline kept."""
+    (tmp_path / "mine.toml").write_text(CATALOGUE)
+    (tmp_path / "other.toml").write_text(CATALOGUE.replace("site-600", "other-300").replace("= 600", "= 300"))
+    text = BASE.replace('names = ["midband-250"]', 'names = ["other-300"]\ncatalogue = "mine.toml"')
+    s = load_survey(write(tmp_path, text), catalogue=tmp_path / "other.toml")
+    assert s.antenna_list()[0].centre_freq_hz == 300e6
+    assert s.describe()["catalogue"]["source"] == "--catalogue"
+    with pytest.raises(FileInputError, match=r"\[antennas\] names: antenna 'other-300' is not in the survey's"):
+        load_survey(write(tmp_path, text))
+
+
+def test_inline_name_also_in_catalogue_refused(tmp_path):
+    """An inline antenna with the name of a catalogue antenna is refused naming its table."""
+    (tmp_path / "mine.toml").write_text(CATALOGUE)
+    text = BASE.replace('names = ["midband-250"]', 'names = ["site-600"]\ncatalogue = "mine.toml"') + INLINE
+    with pytest.raises(FileInputError, match=r"survey\.toml: \[antennas\.define\.site-600\]: antenna 'site-600' "
+                                             r"is also in the catalogue"):
+        load_survey(write(tmp_path, text))
+
+
+@pytest.mark.parametrize("edit,where,near", [
+    (("centre_frequency_mhz", "centre_freq_mhz"), r"\[antennas\.define\.site-600\] centre_freq_mhz: unknown key",
+     "centre_frequency_mhz"),
+    (("system_performance_db = 120\n", ""), r"\[antennas\.define\.site-600\] system_performance_db: missing", None),
+])
+def test_inline_antenna_bad_keys(tmp_path, edit, where, near):
+    """An inline antenna's typo is refused with the closest field; a missing field names it."""
+    text = BASE.replace('names = ["midband-250"]', 'names = ["site-600"]') + INLINE.replace(*edit)
+    with pytest.raises(FileInputError, match=where) as err:
+        load_survey(write(tmp_path, text))
+    assert str(err.value).count("\n") == 0
+    if near:
+        assert f"did you mean '{near}'" in str(err.value)
+
+
+def test_antennas_table_needs_names_or_definitions(tmp_path):
+    """[antennas] with neither names nor inline antennas says what to give."""
+    text = BASE.replace('names = ["midband-250"]', 'catalogue = "x.toml"')
+    with pytest.raises(FileInputError, match=r"\[antennas\]: .*give names"):
+        load_survey(write(tmp_path, text))
 
 
 def test_sample_column_mapping(tmp_path):
@@ -319,11 +393,12 @@ def test_json_schema_accepts_example_and_refuses_typo():
 
 def test_readme_documents_every_schema_key():
     """Every key the schema declares appears in surveys/README.md (the prose cannot drift from the models)."""
+    from subsurf.planning.catalogue import AntennaEntry
     from subsurf.site import schema as sch
 
     readme = (EXAMPLE.parents[1] / "README.md").read_text(encoding="utf-8")
     for model in (sch.Site, sch.Grid, sch.SoilTable, sch.Samples, sch.Zones, sch.Raster, sch.Target,
-                  sch.Antennas, sch.Scenario, sch.MonteCarlo, sch.SurveyFile):
+                  sch.Antennas, sch.Scenario, sch.MonteCarlo, sch.SurveyFile, AntennaEntry):
         for key in model.model_fields:
             documented = f"`{key}`" in readme or re.search(rf"\[\[?([a-z_]+\.)?{key}\]", readme)
             assert documented, (model.__name__, key)

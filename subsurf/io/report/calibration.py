@@ -82,7 +82,7 @@ def calibrated_plan(path, survey, site, antennas, target, *, model_rows, from_fl
     rows = rank_antennas(ground.electrical, used, target)
 
     name = rec["antenna"]["name"]
-    ant = load_catalogue(survey.catalogue_path)[name]
+    ant = (survey.catalogue.antennas if survey.catalogue is not None else load_catalogue(survey.catalogue_path))[name]
     perf_rec = rec["effective_performance"]
     stacks, refl = int(perf_rec["stacks"]), float(perf_rec["reference_reflection"])
     cat_perf = ant.with_stacks(stacks).effective_performance_db

@@ -166,7 +166,7 @@ def _site_area_m2(survey) -> float:
     return float(project(survey.outline).area)
 
 
-def collect(survey_path, *, map_result: dict | None = None, bar=None, calibration=None) -> dict:
+def collect(survey_path, *, map_result: dict | None = None, bar=None, calibration=None, catalogue=None) -> dict:
     """Gather everything the report shows, as a dictionary (SI units).
 
     Parameters
@@ -182,9 +182,11 @@ def collect(survey_path, *, map_result: dict | None = None, bar=None, calibratio
         Site calibration file instead of the survey's ``[calibration] file``: the ranking,
         reach curves, settings and depth chart then use the measured ground and performance
         (:mod:`.calibration`), with the model's predictions beside the observations.
+    catalogue : str or Path, optional
+        Antenna catalogue replacing the survey's (``--catalogue``).
     """
     from ...detection.budget import max_depth
-    from ...planning.antennas import get_antenna, load_catalogue, make_target, rank_antennas, recommend
+    from ...planning.antennas import make_target, rank_antennas, recommend
     from ...safety import CAUTION_LINES
     from ...site.survey import load_survey
     from ..outputs import collect_warnings
@@ -194,13 +196,12 @@ def collect(survey_path, *, map_result: dict | None = None, bar=None, calibratio
             bar.advance(label)
 
     with collect_warnings() as notes:
-        survey = load_survey(survey_path)
+        survey = load_survey(survey_path, catalogue=catalogue)
         site = site_soil(survey)
         step("ground properties")
         ground = _ground_over_frequency(site.soil, REPORT_FREQS_HZ)
 
-        catalogue = load_catalogue(survey.catalogue_path)
-        antennas = [get_antenna(n, catalogue) for n in survey.antennas]
+        antennas = survey.antenna_list()
         t = survey.target
         target = make_target(t.kind, depth_m=t.depth_m, size_m=None if t.kind == "planar" else t.size_m,
                              material=t.material)

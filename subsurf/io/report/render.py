@@ -74,6 +74,7 @@ def summary_payload(data: dict, report_path) -> dict:
         "survey": data["survey"]["survey"],
         "site": data["survey"]["name"],
         "target": data["target"],
+        "catalogue": data["survey"]["catalogue"],
         "recommended": data["recommended"],
         "reason": data["reason"],
         "ranking": rows,
@@ -148,7 +149,7 @@ def table_file_names() -> list[str]:
 
 
 def write_report(survey_path, out_path, *, force: bool = False, map_result: dict | None = None,
-                 bar=None, tables_dir=None, calibration=None) -> dict:
+                 bar=None, tables_dir=None, calibration=None, catalogue=None) -> dict:
     """Build the report for ``survey_path`` and write it atomically to ``out_path``.
 
     Returns the summary of :func:`summary_payload` (with ``tables``: the CSV files
@@ -161,7 +162,8 @@ def write_report(survey_path, out_path, *, force: bool = False, map_result: dict
     out_path = Path(out_path)
     names = table_file_names()
     check_outputs_free([out_path] + ([Path(tables_dir) / n for n in names] if tables_dir else []), force=force)
-    data = collect(survey_path, map_result=map_result, bar=bar, calibration=calibration)
+    data = collect(survey_path, map_result=map_result, bar=bar, calibration=calibration,
+                   catalogue=catalogue)
     page = render_html(data)
     if bar is not None:
         bar.advance("writing")

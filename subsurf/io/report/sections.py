@@ -163,7 +163,8 @@ def site(data) -> dict:
     info = [["survey file", Path(d["survey"]).name], ["outline CRS", d["outline_crs"]],
             ["grid CRS", f"{d['grid_crs_name']} ({d['grid_crs']}, {d['grid_crs_source']})"],
             ["grid cell size", f"{d['cell_size_m']:g} m"], ["soil model", d["soil_model"]],
-            ["texture", d["texture"] or "not given"], ["antennas considered", ", ".join(d["antennas"])]]
+            ["texture", d["texture"] or "not given"], ["antennas considered", ", ".join(d["antennas"])],
+            ["antenna catalogue", d["catalogue"]["text"]]]
     rows = []
     for f in data["site_soil"].facts:
         label, unit, k, spec = HUMAN[f["quantity"]]
