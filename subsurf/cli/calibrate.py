@@ -203,6 +203,13 @@ def _calibrate(args, staged: dict):
             model = {"ground": medium.label, **model_predictions(
                 medium.electrical, centre_freq_hz=fc, performance_db=antenna.with_stacks(stacks).effective_performance_db,
                 gain=antenna.gain, reference_reflection=refl)}
+            from ..detection import Target
+            from ..planning.antennas import antenna_budget_for
+
+            ref = Target("planar", reflection=refl, depth_m=cal.penetration_m)  # the band budget, as perf above
+            model["penetration_m"] = float(np.asarray(antenna_budget_for(
+                medium.electrical, replace(antenna, separation_m=sep).with_stacks(stacks), ref,
+                depth_m=cal.penetration_m)["max_depth"]))
     record = calibration_record(cal, profile=profile, fmt=args.format, antenna=antenna, stacks=stacks,
                                 performance_db=perf, performance_se_db=perf_se, reference_reflection=refl,
                                 velocity_source=v_source, check_depth_m=check, model=model)
