@@ -212,6 +212,7 @@ def choose_schema() -> dict:
         "caution": CAUTION,
         "warnings": WARNINGS,
         "calibration": CALIBRATION_SUMMARY,
+        "catalogue": catalogue_used(),
     }, "subsurf choose --json: antennas ranked for a target")
 
 

@@ -209,13 +209,15 @@ def compute(medium, target, antennas, *, surface_loss_db=None, layers=()) -> dic
 
 def run(args) -> int:
     from ..io.outputs import Column, collect_warnings, format_table, print_notes, print_result
-    from ..planning.antennas import get_antenna, load_catalogue
+    from ..planning.antennas import get_antenna
+    from ..planning.catalogue import resolve_catalogue
     from ._medium_args import medium_from_args
 
     depth = parse_depth(args.depth)
     surface = parse_surface_loss(args.surface_loss)
     with collect_warnings() as notes:
-        catalogue = load_catalogue(args.catalogue)
+        choice = resolve_catalogue(file=args.catalogue, source="--catalogue")
+        catalogue = choice.antennas
         antennas = [get_antenna(n, catalogue) for n in args.antenna] if args.antenna else list(catalogue.values())
         medium = medium_from_args(args, required=not args.calibration)
         if args.target is None:
@@ -234,6 +236,7 @@ def run(args) -> int:
         medium = ground
     result["warnings"] = notes
     result["calibration"] = calibration
+    result["catalogue"] = choice.describe([a.name for a in antennas])
     t = result["target"]
     what = f"{t['kind']} target, {t['material']}" + (f", {t['size_m']:g} m across" if t["size_m"] else "")
     title = f"Ground: {medium.label}"
@@ -263,6 +266,7 @@ def run(args) -> int:
                  "if the pipe direction is not known.")
     if any(r["illustrative"] for r in result["rows"]):
         text += "\nCatalogue figures are ILLUSTRATIVE demo values; use your instrument's measured figures."
+    text += f"\nAntennas: {result['catalogue']['text']}."
     text += f"\nRecommendation: {result['recommendation']['reason']}."
     text += f"\nCaution: {result['caution']}"
     print_result(result, text, as_json=args.json)

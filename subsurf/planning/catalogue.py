@@ -200,7 +200,7 @@ class CatalogueChoice:
                     f"({', '.join(self.inline)})"
         ill = [n for n in used if self.antennas[n].illustrative]
         if ill:
-            text += f"; illustrative figures: {', '.join(ill)}"
+            text += "; illustrative figures" + (" only" if len(ill) == len(used) else f": {', '.join(ill)}")
         return text
 
 

@@ -163,3 +163,12 @@ def test_max_depth_follows_from_the_performance_figure(runs):
     # the package's 14-node band quadrature is within 0.1 dB of the full integral (detection/band.py):
     # at ~1.3 dB/m of two-way loss slope here that is well under 1 % of depth
     assert np.allclose(md, depth, rtol=0.01), (md.min(), depth)
+
+
+def test_choose_states_its_catalogue(runs):
+    """choose --catalogue names the file it read, in the JSON and the printed table; no illustrative figures."""
+    tmp, out = runs
+    cat = out["choose"]["catalogue"]
+    assert cat["source"] == "--catalogue" and cat["file"].endswith("rig.toml") and cat["illustrative"] == []
+    proc = subsurf("choose", *GROUND, "--target", "planar", "--depth", "1", "--material", "metal", cwd=tmp)
+    assert proc.returncode == 0 and "Antennas: the bundled illustrative catalogue" in proc.stdout
