@@ -143,8 +143,13 @@ def _describe(exc: BaseException, command: str | None) -> tuple[str, str, int, s
 
 
 def _report(exc: BaseException, command: str | None, *, as_json: bool) -> int:
+    from ..io.outputs import MESSAGE_WORDS
+
     kind, message, code, path = _describe(exc, command)
     message = " ".join(str(message).split())  # one line, whatever the message held
+    words = MESSAGE_WORDS.get()
+    if words is not None and kind in ("input", "file"):
+        message = words(message)
     prefix = f"subsurf {command}" if command else "subsurf"
     try:
         if as_json:
@@ -203,6 +208,11 @@ def run_guarded(build_parser, argv: list[str], commands) -> int:
             if not getattr(args, "command", None):
                 parser.print_help()
                 return EXIT_USAGE
+            from ..io.outputs import MESSAGE_WORDS
+            from ._names import translator
+
+            words = translator(args, command)
+            MESSAGE_WORDS.set(words)  # notes and the error line name the flags / file keys typed
             code = int(args._module.run(args) or 0)
             sys.stdout.flush()
             return code

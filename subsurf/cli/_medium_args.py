@@ -176,7 +176,13 @@ def medium_from_args(args, *, required: bool = True) -> Medium | None:
         mapping["interface_relaxation"] = False
     if "moisture" not in mapping:
         raise InputError("soil description needs a moisture (--moisture, e.g. '20 %')")
-    soil = Soil.from_mapping(mapping, source=source)
+    try:
+        soil = Soil.from_mapping(mapping, source=source)
+    except InputError as exc:
+        if args.soil or "needs porosity (0-1), bulk_density (kg/m³) or a texture preset" not in str(exc):
+            raise
+        raise InputError("the crim model needs the pore space: give --texture (a preset), --porosity or "
+                         "--bulk-density") from None
     parts = []
     if mapping.get("texture"):
         parts.append(str(mapping["texture"]))

@@ -7,6 +7,7 @@ place only when complete; an existing output is never replaced unless ``force`` 
 from __future__ import annotations
 
 import contextlib
+import contextvars
 import json
 import math
 import os
@@ -147,6 +148,10 @@ def atomic_write_text(path: os.PathLike | str, text: str, *, force: bool = False
 
 
 #: Warning kinds that third-party libraries address to programmers, never shown to a user.
+#: For one command run, a function that rewrites a message in the words the user typed (flags,
+#: file keys); set by the CLI guard (subsurf.cli._names), None outside a command run.
+MESSAGE_WORDS: contextvars.ContextVar = contextvars.ContextVar("subsurf_message_words", default=None)
+
 _LIBRARY_HOUSEKEEPING = (DeprecationWarning, PendingDeprecationWarning, FutureWarning)
 
 
@@ -169,6 +174,9 @@ def collect_warnings():
                 if issubclass(w.category, _LIBRARY_HOUSEKEEPING):
                     continue  # a library's note to its own developers (e.g. rioxarray/affine), not to our user
                 text = str(w.message)
+                words = MESSAGE_WORDS.get()
+                if words is not None:
+                    text = words(text)
                 if text not in messages:
                     messages.append(text)
 
