@@ -437,6 +437,7 @@ def map_schema() -> dict:
         "catalogue": catalogue_used(),
         "scenarios": array(obj({"name": text("scenario"), "description": text("what it changes", null=True)},
                                "a scenario"), "scenarios"),
+        "calibration": text("the site-calibration file ([calibration]), or null", null=True),
         "monte_carlo_draws": integer("draws of the reach probability", minimum=1),
         "monte_carlo_seed": integer("seed of the draws", minimum=0),
     }, "the survey's inputs")
@@ -458,8 +459,30 @@ def map_schema() -> dict:
                                    "^tif_(max_depth|margin_db|reach_probability)_.+$": text("a GeoTIFF layer")},
              "additionalProperties": False}
     paths["required"] = list(paths["properties"])
+    anchor = obj({k: v for k, v in defaults.items() if "_sd_" not in k},
+                 "the reference soil the calibration is anchored at (site medians), numbers in the unit their key "
+                 "names", optional=tuple(k for k in defaults if "_sd_" not in k))
+    calibration = obj({
+        "file": text("the site-calibration file"), "antenna": text("antenna the calibration was measured with"),
+        "attenuation_db_per_m": num("measured one-way attenuation (dB/m)"),
+        "attenuation_se_db_per_m": num("its standard error (dB/m)", null=True),
+        "reference_freq_mhz": num("frequency the attenuation applies at (MHz)"),
+        "q_star": num("measured band-limited Q* (dimensionless)", null=True),
+        "q_star_se": num("its standard error (dimensionless)", null=True),
+        "velocity_m_per_ns": num("velocity measured on site (m/ns)"),
+        "velocity_se_m_per_ns": num("its standard error (m/ns)", null=True),
+        "observed_penetration_m": num("observed penetration on the test profile (m)"),
+        "observed_penetration_se_m": num("its standard error (m)", null=True),
+        "effective_performance_single_trace_db": num("measured performance of one trace (dB)"),
+        "effective_performance_se_db": num("its standard error (dB)", null=True),
+        "catalogue_performance_db": num("the catalogue's performance of that antenna (dB)", null=True),
+        "performance_replaced_for": strings("antennas whose catalogue performance the measured one replaced"),
+        "anchor_soil": anchor,
+        "note": text("what the calibration changed, one line"),
+    }, "the site calibration applied to the map, or null", null=True)
     return obj({"caution": CAUTION, "paths": paths, "summary": array(row, "area fractions per scenario and antenna"),
-                "inputs": inputs, "monte_carlo": mc, "text": text("the table as printed"), "warnings": WARNINGS},
+                "inputs": inputs, "monte_carlo": mc, "calibration": calibration, "text": text("the table as printed"),
+                "warnings": WARNINGS},
                "subsurf map --json: feasibility maps of a survey site")
 
 

@@ -103,7 +103,9 @@ class GridCalibration:
         return eps_c.astype(complex), sig_c
 
     def describe(self) -> dict:
-        """The calibration as the map's JSON and the report state it (human units)."""
+        """The calibration as the map's JSON and the report state it (human units, keys with units)."""
+        from ..io.jsonstyle import soil_values_json
+
         rec = self.record
         att, pen, perf = rec["attenuation"], rec["penetration"], rec["effective_performance"]
         return {"file": str(self.path), "antenna": rec["antenna"]["name"],
@@ -116,7 +118,7 @@ class GridCalibration:
                 "effective_performance_se_db": perf.get("se_db"),
                 "catalogue_performance_db": rec["antenna"].get("catalogue_performance_db"),
                 "performance_replaced_for": list(self.replaced),
-                "anchor_soil": dict(self.reference), "note": self.note()}
+                "anchor_soil": soil_values_json(self.reference), "note": self.note()}
 
     def note(self) -> str:
         """One line saying that (and how) the map is calibrated."""

@@ -65,12 +65,14 @@ CASES = {
     "region": ("region", ("region", "--synthetic", "40x30", "--seed", "7", "--target", "planar", "--depth", "1.5",
                           "--out", "{tmp}/region.nc")),
     "map": ("map", ("map", "{survey}", "--out", "{tmp}/maps", "--no-geotiff")),
+    "map-calibrated": ("map", ("map", "{survey}", "--out", "{tmp}/maps-cal", "--no-geotiff", "--calibration",
+                               "{tmp}/cal/cal.json")),
     "report": ("report", ("report", "{survey}", "--out", "{tmp}/plan.html", "--no-maps")),
     "demo": ("demo", ("demo", "--out", "{tmp}/demo")),
     "calibrate": ("calibrate", ("calibrate", "{tmp}/cal/fictional_test_line.nc", "--antenna", "midband-250",
                                 "--velocity", "0.1", "--out", "{tmp}/cal/cal.json")),
 }
-NEEDS = {"region": "dask", "calibrate": "segyio", "choose-calibrated": "segyio"}  # optional extras: the case is skipped without them
+NEEDS = {"region": "dask", "calibrate": "segyio", "choose-calibrated": "segyio", "map-calibrated": "segyio"}  # optional extras: the case is skipped without them
 
 
 def schema(command: str) -> dict:
@@ -92,7 +94,7 @@ def outputs(workdir):
     def get(case: str) -> dict:
         if case not in done:
             command, args = CASES[case]
-            if case == "choose-calibrated":
+            if case in ("choose-calibrated", "map-calibrated"):
                 get("calibrate")  # writes the calibration file it reads
             if case == "calibrate":
                 (tmp / "cal").mkdir(exist_ok=True)
@@ -156,7 +158,7 @@ DIMENSIONLESS = {"eps_real", "eps_imag", "loss_tangent", "permittivity", "stacks
                  "draws", "seed", "monte_carlo_draws", "monte_carlo_seed", "max_standard_error",
                  "max_estimated_error", "archie_a", "archie_m", "archie_n", "eps_solid", "stone_eps", "interface_n",
                  "interface_chi_per_bound_water", "stone_size_sd_log", "covariance", "ns", "db", "m_per_ns",
-                 "se_ns", "se_m", "se_db", "se_m_per_ns", "se_db_per_m", "sampled_fraction", "dropped_traces"}
+                 "se_ns", "se_m", "se_db", "se_m_per_ns", "se_db_per_m", "sampled_fraction", "dropped_traces", "q_star_se"}
 
 
 def _numeric_keys(s, key=None):
