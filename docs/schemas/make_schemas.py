@@ -384,7 +384,34 @@ def _report_common() -> dict:
         "warnings": WARNINGS,
         "caution": CAUTION,
         "tables": strings("CSV tables written beside the report"),
+        "calibration": report_calibration(),
     }
+
+
+def report_calibration() -> dict:
+    comparison = obj({
+        "quantity": text("what is compared (its unit in 'unit')"),
+        "model": num("the soil model's prediction, in 'unit'", null=True),
+        "model_range": {"type": ["array", "null"], "items": num("bound, in 'unit'"),
+                        "description": "5-95 % range of the model over the soil spread, in 'unit', or null"},
+        "observed": num("the calibration's measurement, in 'unit'", null=True),
+        "observed_se": num("its standard error, in 'unit'", null=True),
+        "unit": text("unit of model, model_range, observed and observed_se (a table of different quantities)"),
+        "how": text("how the two figures were obtained"),
+    }, "one quantity: model vs site")
+    change = obj({
+        "antenna": text("antenna name"),
+        "max_depth_before_m": num("maximum depth by the soil model (m)", null=True),
+        "max_depth_after_m": num("maximum depth calibrated (m)", null=True),
+        "margin_before_db": num("margin by the soil model (dB)", null=True),
+        "margin_after_db": num("margin calibrated (dB)", null=True),
+        "verdict_before": text("verdict by the soil model"), "verdict_after": text("verdict calibrated"),
+    }, "what the calibration changed for one antenna")
+    return grid_calibration(soil_defaults(), {
+        "recommended_before": text("the antenna the soil model alone recommended", null=True),
+        "changes": array(change, "per antenna, before and after calibration"),
+        "comparison": array(comparison, "model against site, quantity by quantity"),
+    })
 
 
 def report_schema() -> dict:
@@ -398,6 +425,46 @@ def demo_schema() -> dict:
     return obj(props, "subsurf demo --json: the example chain run and its report")
 
 
+def grid_calibration(defaults: dict, extra: dict | None = None) -> dict:
+    """The site calibration of a map or report (subsurf.site.calibrated.GridCalibration.describe)."""
+    anchor = obj({k: v for k, v in defaults.items() if "_sd_" not in k},
+                 "the reference soil the calibration is anchored at (site medians), numbers in the unit their key "
+                 "names", optional=tuple(k for k in defaults if "_sd_" not in k))
+    calibration = obj({
+        "file": text("the site-calibration file"), "antenna": text("antenna the calibration was measured with"),
+        "attenuation_db_per_m": num("measured one-way attenuation (dB/m)"),
+        "attenuation_se_db_per_m": num("its standard error (dB/m)", null=True),
+        "reference_freq_mhz": num("frequency the attenuation applies at (MHz)"),
+        "q_star": num("measured band-limited Q* (dimensionless)", null=True),
+        "q_star_se": num("its standard error (dimensionless)", null=True),
+        "velocity_m_per_ns": num("velocity measured on site (m/ns)"),
+        "velocity_se_m_per_ns": num("its standard error (m/ns)", null=True),
+        "observed_penetration_m": num("observed penetration on the test profile (m)"),
+        "observed_penetration_se_m": num("its standard error (m)", null=True),
+        "effective_performance_single_trace_db": num("measured performance of one trace (dB)"),
+        "effective_performance_se_db": num("its standard error (dB)", null=True),
+        "catalogue_performance_db": num("the catalogue's performance of that antenna (dB)", null=True),
+        "performance_replaced_for": strings("antennas whose catalogue performance the measured one replaced"),
+        "anchor_soil": anchor,
+        "note": text("what the calibration changed, one line"),
+        **(extra or {}),
+    }, "the site calibration applied, or null", null=True, optional=tuple(extra or ()))
+    return calibration
+
+
+def soil_defaults() -> dict:
+    """[soil.defaults] keys with units (and their _sd), as the map and report write them."""
+    from subsurf.io.jsonstyle import FACT_KEYS, json_key
+    from subsurf.site.schema import QUANTITIES
+
+    defaults = {}
+    for q in QUANTITIES.values():
+        unit = FACT_KEYS[q.soil_field][3]
+        defaults[json_key(q.soil_field)] = num(f"site-wide {q.long_name}: {unit}")
+        defaults[json_key(q.soil_field, sd=True)] = num(f"its standard deviation: {unit}")
+    return defaults
+
+
 def map_schema() -> dict:
     row = obj({
         "scenario": text("scenario name"), "antenna": text("antenna name"),
@@ -409,14 +476,7 @@ def map_schema() -> dict:
         "median_max_depth_m": num("median maximum detectable depth over the area (m)", null=True),
         "recommended_pct": pct("area where this antenna is the recommended one"),
     }, "one scenario and antenna")
-    from subsurf.io.jsonstyle import FACT_KEYS, json_key
-    from subsurf.site.schema import QUANTITIES
-
-    defaults = {}
-    for q in QUANTITIES.values():
-        unit = FACT_KEYS[q.soil_field][3]
-        defaults[json_key(q.soil_field)] = num(f"site-wide {q.long_name}: {unit}")
-        defaults[json_key(q.soil_field, sd=True)] = num(f"its standard deviation: {unit}")
+    defaults = soil_defaults()
     inputs = obj({
         "survey": text("survey file"), "name": text("site name"), "description": text("site description", null=True),
         "outline_crs": text("CRS of the outline"), "grid_crs": text("CRS of the grid"),
@@ -459,27 +519,7 @@ def map_schema() -> dict:
                                    "^tif_(max_depth|margin_db|reach_probability)_.+$": text("a GeoTIFF layer")},
              "additionalProperties": False}
     paths["required"] = list(paths["properties"])
-    anchor = obj({k: v for k, v in defaults.items() if "_sd_" not in k},
-                 "the reference soil the calibration is anchored at (site medians), numbers in the unit their key "
-                 "names", optional=tuple(k for k in defaults if "_sd_" not in k))
-    calibration = obj({
-        "file": text("the site-calibration file"), "antenna": text("antenna the calibration was measured with"),
-        "attenuation_db_per_m": num("measured one-way attenuation (dB/m)"),
-        "attenuation_se_db_per_m": num("its standard error (dB/m)", null=True),
-        "reference_freq_mhz": num("frequency the attenuation applies at (MHz)"),
-        "q_star": num("measured band-limited Q* (dimensionless)", null=True),
-        "q_star_se": num("its standard error (dimensionless)", null=True),
-        "velocity_m_per_ns": num("velocity measured on site (m/ns)"),
-        "velocity_se_m_per_ns": num("its standard error (m/ns)", null=True),
-        "observed_penetration_m": num("observed penetration on the test profile (m)"),
-        "observed_penetration_se_m": num("its standard error (m)", null=True),
-        "effective_performance_single_trace_db": num("measured performance of one trace (dB)"),
-        "effective_performance_se_db": num("its standard error (dB)", null=True),
-        "catalogue_performance_db": num("the catalogue's performance of that antenna (dB)", null=True),
-        "performance_replaced_for": strings("antennas whose catalogue performance the measured one replaced"),
-        "anchor_soil": anchor,
-        "note": text("what the calibration changed, one line"),
-    }, "the site calibration applied to the map, or null", null=True)
+    calibration = grid_calibration(defaults)
     return obj({"caution": CAUTION, "paths": paths, "summary": array(row, "area fractions per scenario and antenna"),
                 "inputs": inputs, "monte_carlo": mc, "calibration": calibration, "text": text("the table as printed"),
                 "warnings": WARNINGS},

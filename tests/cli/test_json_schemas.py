@@ -68,11 +68,14 @@ CASES = {
     "map-calibrated": ("map", ("map", "{survey}", "--out", "{tmp}/maps-cal", "--no-geotiff", "--calibration",
                                "{tmp}/cal/cal.json")),
     "report": ("report", ("report", "{survey}", "--out", "{tmp}/plan.html", "--no-maps")),
+    "report-calibrated": ("report", ("report", "{survey}", "--out", "{tmp}/plan-cal.html", "--no-maps",
+                                      "--calibration", "{tmp}/cal/cal.json")),
     "demo": ("demo", ("demo", "--out", "{tmp}/demo")),
     "calibrate": ("calibrate", ("calibrate", "{tmp}/cal/fictional_test_line.nc", "--antenna", "midband-250",
                                 "--velocity", "0.1", "--out", "{tmp}/cal/cal.json")),
 }
-NEEDS = {"region": "dask", "calibrate": "segyio", "choose-calibrated": "segyio", "map-calibrated": "segyio"}  # optional extras: the case is skipped without them
+NEEDS = {"region": "dask", "calibrate": "segyio", "choose-calibrated": "segyio", "map-calibrated": "segyio",
+         "report-calibrated": "segyio"}  # optional extras: the case is skipped without them
 
 
 def schema(command: str) -> dict:
@@ -94,7 +97,7 @@ def outputs(workdir):
     def get(case: str) -> dict:
         if case not in done:
             command, args = CASES[case]
-            if case in ("choose-calibrated", "map-calibrated"):
+            if case in ("choose-calibrated", "map-calibrated", "report-calibrated"):
                 get("calibrate")  # writes the calibration file it reads
             if case == "calibrate":
                 (tmp / "cal").mkdir(exist_ok=True)
@@ -161,6 +164,10 @@ DIMENSIONLESS = {"eps_real", "eps_imag", "loss_tangent", "permittivity", "stacks
                  "se_ns", "se_m", "se_db", "se_m_per_ns", "se_db_per_m", "sampled_fraction", "dropped_traces", "q_star_se"}
 
 
+#: the report's calibration comparison: a table of different quantities, each row's unit in its "unit" key
+UNIT_IN_ROW = {"model", "model_range", "observed", "observed_se"}
+
+
 def _numeric_keys(s, key=None):
     if isinstance(s, dict):
         t = s.get("type")
@@ -177,5 +184,5 @@ def _numeric_keys(s, key=None):
 @pytest.mark.parametrize("command", sorted(p.name.removesuffix(".schema.json") for p in SCHEMAS.glob("*.schema.json")))
 def test_numeric_keys_name_their_unit(command):
     """Every number's key ends in its unit (_m, _m_per_ns, _ms_per_m, _db, _pct ...) or is dimensionless by nature."""
-    bad = sorted({k for k in _numeric_keys(schema(command)) if not UNIT_SUFFIX.search(k) and k not in DIMENSIONLESS})
+    bad = sorted({k for k in _numeric_keys(schema(command)) if not UNIT_SUFFIX.search(k) and k not in DIMENSIONLESS | UNIT_IN_ROW})
     assert not bad, f"numeric keys without a unit in their name: {bad}"
