@@ -95,8 +95,10 @@ class CalibratedGround:
     def attenuation_at(self, freq_hz) -> np.ndarray:
         """α(f) in dB/m (≥ 0), warning once when a frequency lies outside the calibrated band.
 
-        With Q*: the constant-Q line α_ref + s·(f − f_ref), clipped at 0 and, far below the
-        band, at the largest α any ground of this velocity can have (ε' ≥ 1:
+        With Q*: the constant-Q line α_ref + s·(f − f_ref), held at its value at the band's
+        lower edge below the band (conservative: conduction loss does not vanish at low
+        frequency as the line does), clipped at 0 and at the largest α any ground of this
+        velocity can have (ε' ≥ 1:
         α ≤ β·√(1 − v²/c²), β = 2πf/v).  Without Q*: the α(f) of the constant-(ε', σ)
         medium that has α_ref and v at f_ref (nearly flat above its transition frequency,
         falling below it), so the ground stays physical at every frequency of the band.
@@ -115,7 +117,14 @@ class CalibratedGround:
             eps, sigma = effective_medium(self.attenuation_db_per_m / NP_TO_DB, self.velocity, self.reference_freq_hz)
             alpha, _ = _alpha_beta(eps, 0.0, sigma, 2.0 * np.pi * f)
             return alpha * NP_TO_DB
-        line = np.maximum(self.attenuation_db_per_m + self.slope_db_per_m_per_hz * (f - self.reference_freq_hz), 0.0)
+        # below the measured band the line is held at its value at the band's lower edge: the
+        # constant-Q line falls towards 0 there (0.49 dB/m at 50 MHz for Q* 20 measured at
+        # 120-320 MHz, so a 50 MHz antenna was planned to reach 118 m), while real grounds keep
+        # the frequency-independent conduction loss alpha ~ sigma/2 sqrt(mu/eps) at low
+        # frequency; the flat edge value is the conservative extrapolation
+        f_line = np.maximum(f, lo)
+        line = np.maximum(self.attenuation_db_per_m + self.slope_db_per_m_per_hz * (f_line - self.reference_freq_hz),
+                          0.0)
         ceiling = 0.999 * NP_TO_DB * 2.0 * np.pi * f / self.velocity * np.sqrt(
             max(1.0 - (self.velocity / constants.c) ** 2, 0.0))
         return np.minimum(line, ceiling)

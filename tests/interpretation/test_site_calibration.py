@@ -186,3 +186,30 @@ def test_model_predictions_attenuation_matches_textbook():
     a, b = textbook_alpha_beta(9.0, 0.01, 250e6)
     assert out["attenuation_db_per_m"] == pytest.approx(a * NP_TO_DB, rel=1e-9)
     assert out["velocity_m_per_ns"] == pytest.approx(2 * np.pi * 250e6 / b * 1e-9, rel=1e-9)
+
+
+def test_calibrated_attenuation_is_held_flat_below_the_measured_band():
+    """Below the band the Q* line is not followed down towards zero loss.
+
+    A constant-Q line measured at 120-320 MHz with Q* = 20 falls to 0.5 dB/m at 50 MHz and
+    to 0 near 13 MHz, which let a 50 MHz antenna be planned to 118 m; conduction loss
+    (alpha ~ sigma/2 sqrt(mu/eps), frequency independent: Annan 2009, from memory) keeps real
+    grounds lossy there, so alpha is held at its band-edge value.  Inside and above the band
+    the line dalpha/df = 8.686 pi / (Q* v) (Quan & Harris 1997 with alpha = pi f / (Q v)) holds.
+    """
+    import warnings
+
+    import numpy as np
+
+    from subsurf.interpretation.calibrated_ground import CalibratedGround
+
+    v, q = 1.0e8, 20.0
+    slope = 20 / np.log(10) * np.pi / (q * v)
+    g = CalibratedGround(2.71, 215.5e6, slope, v, (120e6, 320e6))
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        a = g.attenuation_at(np.array([10e6, 50e6, 120e6, 215.5e6, 320e6, 400e6]))
+    edge = 2.71 + slope * (120e6 - 215.5e6)
+    np.testing.assert_allclose(a[:3], edge, rtol=1e-12)
+    np.testing.assert_allclose(a[3], 2.71, rtol=1e-12)
+    np.testing.assert_allclose(a[4:], 2.71 + slope * (np.array([320e6, 400e6]) - 215.5e6), rtol=1e-12)
