@@ -99,6 +99,12 @@ class GridCalibration:
         a_g, b_g = _alpha_beta_plain(eps_g, sig_g, f)
         alpha = a_g * ratio_a
         velocity = 2.0 * np.pi * f / b_g * b_ref / b_cell
+        # a scaled α may not exceed what any ground of the scaled velocity can have (ε' ≥ 1:
+        # α ≤ β·√(1 − v²/c²)), the ceiling the measured ground itself keeps below its band
+        from .. import _codata as constants
+
+        ceiling = 0.999 * (2.0 * np.pi * f / velocity) * np.sqrt(np.clip(1.0 - (velocity / constants.c) ** 2, 0.0, None))
+        alpha = np.minimum(alpha, ceiling)
         eps_c, sig_c = effective_medium(alpha, velocity, f)
         return eps_c.astype(complex), sig_c
 
