@@ -44,6 +44,7 @@ def summary_text(result: dict, out_dir) -> str:
     cal = [result["calibration"]["note"] + ".", ""] if result.get("calibration") else []
     return "\n".join([
         *cal, table, "",
+        f"Definition: {result['reach_definition']}.",
         f"Reach probability: first-order where accurate, Monte Carlo ({mc['draws']} draws, seed "
         f"{mc['seed']}) on " + ", ".join(f"{100 * f:.1f} %" for f in mc["sampled_fraction"].values())
         + f" of the cells; estimated error <= {mc['max_estimated_error']:.3f}.",
@@ -78,8 +79,8 @@ def run(args) -> int:
                          catalogue=args.catalogue)
     result = txn.public(result)
     text = summary_text(result, args.out)
-    payload = {"caution": CAUTION, **{k: result[k] for k in ("paths", "summary", "inputs", "monte_carlo",
-                                                              "calibration")},
+    payload = {"caution": CAUTION, **{k: result[k] for k in ("paths", "thresholds", "reach_definition", "summary",
+                                                             "inputs", "monte_carlo", "calibration")},
                "text": text, "warnings": notes}
     print_result(payload, text, as_json=args.json)
     print_notes(list(txn.notes) + notes, quiet=args.quiet or args.json)

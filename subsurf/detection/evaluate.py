@@ -45,7 +45,8 @@ def antenna_budget(eps, sigma, freqs_hz, weights, target, *, depth_m, performanc
     surface_power_factor :
         As :func:`subsurf.detection.budget.loss_terms` (leading-shape arrays get a node axis here).
     margin_only : bool
-        Only ``margin_db`` and ``too_shallow`` (what the reach probability needs).
+        Only ``margin_db``, ``too_shallow`` and ``blind_zone_slack_m`` (depth minus the
+        blind-zone depth, m; negative inside it), what the reach probability needs.
 
     Returns
     -------
@@ -83,7 +84,8 @@ def antenna_budget(eps, sigma, freqs_hz, weights, target, *, depth_m, performanc
     margin = perf - band_loss_db(terms.k0_db, terms.p, terms.alpha, terms.weights, d, half_separation_m=h,
                                  depth_shift_m=terms.shift_m)
     if margin_only:
-        return {"margin_db": margin, "too_shallow": np.broadcast_to(too_shallow, np.shape(margin))}
+        return {"margin_db": margin, "too_shallow": np.broadcast_to(too_shallow, np.shape(margin)),
+                "blind_zone_slack_m": np.broadcast_to(d - d_min, np.shape(margin))}
     r = band_range_from_loss_terms(terms.k0_db, terms.p, terms.alpha, terms.weights, perf)
     dmax = depth_from_range(r, half_separation_m=h, depth_shift_m=terms.shift_m)
     e = received_energy(d, terms)

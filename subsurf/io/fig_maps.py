@@ -219,8 +219,11 @@ def antenna_figure(grid, result, *, scenario: str, target_depth_m: float, outlin
                                 target_depth_m,
                                 too_shallow=None if shallow is None else shallow.sel(antenna=name).values)
         _mesh(ax, grid, classes, cmap=cmap, norm=norm, outline=outline)
-        frac = float(np.nanmean(np.where(np.isfinite(data), data >= target_depth_m, np.nan)))
-        ax.set_title(f"{name}: reaches {target_depth_m:g} m over {100 * frac:.0f} % of site", fontsize=SIZES["title"])
+        # the share the summary table counts: cells that reach (classes 2 and 3, margin >= the threshold
+        # below the blind zone) among the cells with values
+        frac = float(np.count_nonzero(classes >= 2) / max(np.count_nonzero(np.isfinite(classes)), 1))
+        ax.set_title(f"{name}: reaches {target_depth_m:g} m (>= {REACHES_MARGIN_DB:g} dB) over {100 * frac:.0f} % "
+                     "of site", fontsize=SIZES["title"])
         _decorate(ax, grid, outline=outline, samples=samples, extrapolated=result["extrapolated"].values,
                   crs_name=crs_name, first_col=(i % ncols == 0), last_row=(i >= len(names) - ncols))
     t, m = target_depth_m, REACHES_MARGIN_DB
@@ -248,7 +251,7 @@ def scenario_figure(grid, result, *, target_depth_m: float, outline, samples, cr
     """
     from matplotlib.colors import BoundaryNorm, ListedColormap
 
-    from ..detection.verdicts import share_word
+    from ..detection.verdicts import REACHES_MARGIN_DB, reaches, share_word
 
     scen = [str(s) for s in result["scenario"].values]
     names = [str(a) for a in result["antenna"].values]
@@ -266,10 +269,14 @@ def scenario_figure(grid, result, *, target_depth_m: float, outline, samples, cr
         _mesh(ax, grid, shown, cmap=cmap, norm=norm, outline=outline)
         counts = {names[k]: int(np.count_nonzero((rec == k) & inside)) for k in range(len(names))}
         top = max(counts, key=counts.get) if counts else "-"
-        none = int(np.count_nonzero((rec < 0) & inside))
-        share = counts.get(top, 0) / max(int(inside.sum()), 1)
-        ax.set_title(_wrap_title(f"{s}: {top} best over a {share_word(share)} of cells ({100 * share:.0f} %); "
-                                 f"no antenna: {100 * none / max(inside.sum(), 1):.0f} %", ax),
+        # "none reaches": no antenna has margin >= the threshold below the blind zone (detection.verdicts)
+        shallow = result["too_shallow"].sel(scenario=s).values.astype(bool) if "too_shallow" in result else False
+        ok = reaches(result["margin_db"].sel(scenario=s).values, too_shallow=shallow)
+        none = int(np.count_nonzero(~np.any(ok, axis=0) & inside))
+        n_site = max(int(inside.sum()), 1)
+        share = counts.get(top, 0) / n_site
+        ax.set_title(_wrap_title(f"{s}: {top} recommended on a {share_word(share)} of cells ({100 * share:.0f} %); "
+                                 f"none reaches (>= {REACHES_MARGIN_DB:g} dB): {100 * none / n_site:.0f} %", ax),
                      fontsize=SIZES["title"])
         used = np.unique(rec[inside])
         if used.size > 1:  # boundaries between the cells of different recommended antennas
@@ -286,7 +293,8 @@ def scenario_figure(grid, result, *, target_depth_m: float, outline, samples, cr
     entries.append((f"{pct[-1]} or more", PROBABILITY_CLASSES[-1][1]))
     _class_legend(fig, entries, ncols=4, title=f"Chance that the antenna recommended for the cell reaches "
                         f"{target_depth_m:g} m (dashed line: where the recommended antenna changes)")
-    fig.suptitle(title or "Scenarios: probability that the target depth is reachable", fontsize=SIZES["suptitle"])
+    fig.suptitle(title or f"Scenarios: probability of reaching the target (margin >= {REACHES_MARGIN_DB:g} dB below "
+                 "the blind zone)", fontsize=SIZES["suptitle"])
     return fig
 
 

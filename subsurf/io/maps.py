@@ -14,7 +14,7 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from ..detection.verdicts import REACHES_MARGIN_DB
+from ..detection.verdicts import REACHES_MARGIN_DB, reach_definition
 from .tables import sidecar_names
 
 __all__ = ["NETCDF_NAME", "SUMMARY_COLUMNS", "GEOTIFF_LAYERS", "OWN_FILES", "output_paths", "write_map_outputs",
@@ -32,11 +32,18 @@ OWN_FILES = (NETCDF_NAME, f"{SUMMARY_STEM}.*", "map_*.png", "geotiff/*.tif")
 #: summary columns: row key, header, unit, number format ("s": text)
 SUMMARY_COLUMNS = (
     ("scenario", "scenario", "", "s"), ("antenna", "antenna", "", "s"),
-    ("centre_frequency_mhz", "f_c", "MHz", ".0f"), ("reach_pct", f"reaches (+{REACHES_MARGIN_DB:g} dB)", "% area", ".0f"),
+    ("centre_frequency_mhz", "f_c", "MHz", ".0f"),
+    ("reach_pct", f"reaches (>= {REACHES_MARGIN_DB:g} dB)", "% area", ".0f"),
     ("marginal_or_better_pct", "margin >= 0 dB", "% area", ".0f"),
     ("expected_reach_pct", "mean P(reach)", "%", ".0f"), ("reach_p90_pct", "P(reach)>=0.9", "% area", ".0f"),
     ("median_max_depth_m", "median max depth", "m", ".2f"), ("recommended_pct", "recommended", "% area", ".0f"),
 )
+
+
+def thresholds() -> dict:
+    """The reach threshold and its definition, as every map output states them (the keys ``choose`` uses)."""
+    return {"thresholds": {"reaches_margin_db": REACHES_MARGIN_DB, "marginal_margin_db": 0.0},
+            "reach_definition": reach_definition()}
 
 
 def have_rioxarray() -> bool:
@@ -104,6 +111,7 @@ def summary_markdown(rows, survey, caution: str, calibration=None) -> str:
         f"Reach probability: first-order where accurate, else Monte Carlo ({survey.draws} draws, "
         f"seed {survey.seed}). Antennas: {survey.catalogue.text(survey.antennas)}.", "",
         *([f"**{calibration.note()}.**", ""] if calibration is not None else []),
+        f"Definition: {reach_definition()}. Mean P(reach) and P(reach) are the probability of reaching.", "",
         head, sep, *body, "", f"> **Caution.** {caution}", ""])
 
 
@@ -247,7 +255,8 @@ def write_map_outputs(maps, out_dir, *, force: bool = False, geotiff: bool = Tru
     written["summary_md"] = atomic_write_text(
         paths["summary_md"], summary_markdown(rows, survey, CAUTION, maps.calibration), force=force)
     grid = maps.grid
-    summary_json = {"caution": CAUTION, "inputs": survey.describe(), "summary": rows, "monte_carlo": maps.monte_carlo,
+    summary_json = {"caution": CAUTION, "inputs": survey.describe(), **thresholds(), "summary": rows,
+                    "monte_carlo": maps.monte_carlo,
                     "grid": {"nx": int(grid.sizes["x"]), "ny": int(grid.sizes["y"]),
                              "cells_inside": int(grid["mask"].values.sum())},
                     "calibration": None if maps.calibration is None else maps.calibration.describe()}
@@ -306,7 +315,8 @@ def run_map(survey_path, out_dir, *, force: bool = False, quiet: bool = False, g
     maps = compute_maps(survey, quiet=quiet, calibration=calibration)
     written = write_map_outputs(maps, out_dir, force=force, geotiff=geotiff)
     grid = maps.grid
-    return {"paths": {k: str(v) for k, v in written.items()}, "summary": maps.rows, "inputs": survey.describe(),
+    return {"paths": {k: str(v) for k, v in written.items()}, **thresholds(), "summary": maps.rows,
+            "inputs": survey.describe(),
             "monte_carlo": maps.monte_carlo, "caution": CAUTION, "geotiff": geotiff,
             "grid": {"nx": int(grid.sizes["x"]), "ny": int(grid.sizes["y"]),
                      "cells_inside": int(grid["mask"].values.sum()), "crs_name": survey.grid_crs.name,

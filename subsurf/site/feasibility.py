@@ -133,7 +133,8 @@ def feasibility_chain(moisture, *, freq_hz, performance_db, target, target_depth
         ``attenuation_db_per_m`` (at the centre frequency), ``max_depth`` (m), ``margin_db``,
         ``min_depth`` (m, blind zone), ``too_shallow`` (bool), ``received_freq`` (Hz) and
         ``vertical_resolution`` (m, λ/4 at the received frequency), broadcast over all inputs.
-        ``margin_only``: ``margin_db`` and ``too_shallow``.
+        ``margin_only``: ``margin_db``, ``too_shallow`` and ``blind_zone_slack_m`` (target depth
+        minus the blind-zone depth, m).
 
     Notes
     -----
@@ -182,7 +183,8 @@ def feasibility_chain(moisture, *, freq_hz, performance_db, target, target_depth
                          validate=False, margin_only=margin_only)
     if margin_only:
         vm = np.broadcast_to(valid, np.shape(res["margin_db"]))
-        return {"margin_db": np.where(vm, res["margin_db"], np.nan), "too_shallow": res["too_shallow"] & vm}
+        return {"margin_db": np.where(vm, res["margin_db"], np.nan), "too_shallow": res["too_shallow"] & vm,
+                "blind_zone_slack_m": np.where(vm, res["blind_zone_slack_m"], np.nan)}
     eps, sigma = soil.electrical(freq_hz) if calibration is None else calibration.electrical(
         soil, freq_hz, *soil.electrical(freq_hz))
     omega = 2.0 * np.pi * freq
@@ -352,13 +354,15 @@ def recommend_antenna(margin_db, freq_hz, *, reaches_db=None, too_shallow=None):
 
 
 def reach_probability(values: dict, sds: dict, antennas, *, target, target_depth_m, draws: int, seed: int,
-                      texture=None, model="crim", method="auto", calibration=None):
-    """Per-cell probability that each antenna reaches the target depth (margin ≥ 0), and its error.
+                      texture=None, model="crim", method="auto", calibration=None, reaches_db=None):
+    """Per-cell probability that each antenna reaches the target depth, and its error.
 
-    The estimate of :func:`subsurf.site.probability.reach_probability` (first-order where
-    it is accurate to 0.01, seeded Monte Carlo with ``draws`` draws where clipping or
-    nonlinearity matter; draws keyed per tile of cells, so results do not depend on how the
-    work is cut).
+    "Reaches" is the one definition of :mod:`subsurf.detection.verdicts`: margin ≥
+    ``reaches_db`` (default :data:`~subsurf.detection.verdicts.REACHES_MARGIN_DB`) outside
+    the blind zone.  The estimate of :func:`subsurf.site.probability.reach_probability`
+    (first-order where it is accurate to 0.01, seeded Monte Carlo with ``draws`` draws where
+    clipping or nonlinearity matter; draws keyed per tile of cells, so results do not depend
+    on how the work is cut).
 
     Returns
     -------
@@ -369,29 +373,46 @@ def reach_probability(values: dict, sds: dict, antennas, *, target, target_depth
     from .probability import reach_probability as _estimate
 
     r = _estimate(values, sds, antennas, target=target, target_depth_m=target_depth_m, draws=draws, seed=seed,
-                  texture=texture, model=model, method=method, calibration=calibration)
+                  texture=texture, model=model, method=method, calibration=calibration, reaches_db=reaches_db)
     return r.probability, r.error
 
 
-def area_fractions(margin_db, mask, *, probability=None, reaches_db=None):
+def area_fractions(margin_db, mask, *, probability=None, reaches_db=None, too_shallow=None):
     """Fractions of the site area where each antenna reaches the target.
+
+    Parameters
+    ----------
+    margin_db : ndarray, shape (n_antennas, *cells)
+    mask : ndarray of bool, shape cells
+        Cells inside the site.
+    probability : ndarray, shape (n_antennas, *cells), optional
+        Reach probability per cell.
+    reaches_db : float, optional
+        The reach threshold (default :data:`subsurf.detection.verdicts.REACHES_MARGIN_DB`).
+    too_shallow : ndarray of bool, optional
+        Cells inside an antenna's blind zone (never reached, whatever the margin).
 
     Returns
     -------
     dict of ndarray, each of shape (n_antennas,)
-        ``reach`` (margin ≥ 0), ``reach_with_headroom`` (margin ≥ reaches_db) and, when
-        ``probability`` is given, ``expected_reach`` (mean probability over the site) and
-        ``reach_p90`` (probability ≥ 0.9).
+        ``reach`` (the one "reaches": margin ≥ reaches_db outside the blind zone,
+        :func:`subsurf.detection.verdicts.reaches`), ``marginal_or_better`` (margin ≥ 0
+        outside the blind zone) and, when ``probability`` is given, ``expected_reach`` (mean
+        probability over the site) and ``reach_p90`` (probability ≥ 0.9).
     """
-    from ..detection.verdicts import REACHES_MARGIN_DB
+    from ..detection.verdicts import REACHES_MARGIN_DB, reaches
 
-    reaches = REACHES_MARGIN_DB if reaches_db is None else reaches_db
+    threshold = REACHES_MARGIN_DB if reaches_db is None else reaches_db
     m = np.asarray(margin_db, dtype=float)
     inside = np.broadcast_to(np.asarray(mask, bool), m.shape[1:])
+    shallow = np.zeros(m.shape, bool) if too_shallow is None else np.broadcast_to(np.asarray(too_shallow, bool),
+                                                                                  m.shape)
     n_in = max(int(inside.sum()), 1)
+    axes = tuple(range(1, m.ndim))
     out = {
-        "reach": np.array([np.count_nonzero((mi >= 0) & inside) / n_in for mi in m]),
-        "reach_with_headroom": np.array([np.count_nonzero((mi >= reaches) & inside) / n_in for mi in m]),
+        "reach": np.count_nonzero(reaches(m, too_shallow=shallow, reaches_db=threshold) & inside, axis=axes) / n_in,
+        "marginal_or_better": np.count_nonzero(reaches(m, too_shallow=shallow, reaches_db=0.0) & inside,
+                                               axis=axes) / n_in,
     }
     if probability is not None:
         p = np.asarray(probability, float)

@@ -26,7 +26,8 @@ class FeasibilityMaps:
     survey : subsurf.site.survey.Survey
     dataset : xarray.Dataset
         Layers (``max_depth``, ``margin_db``, ``velocity``, ..., ``reach_probability``,
-        ``reach_probability_se``; dims scenario, antenna, y, x; SI units in CF attributes),
+        ``reach_probability_se``, ``too_shallow``; dims scenario, antenna, y, x; SI units in CF
+        attributes),
         ``recommended_antenna`` (scenario, y, x; flag values), the soil inputs on the grid
         (``soil_<quantity>``, ``distance_to_sample``, ``extrapolated``), ``mask``, the grid
         mapping ``crs``; string coordinates ``scenario`` and ``antenna``; global attributes
@@ -97,7 +98,7 @@ def compute_maps(survey, *, quiet: bool = True, calibration=None) -> Feasibility
     """
     import xarray as xr
 
-    from ..detection.verdicts import REACHES_MARGIN_DB
+    from ..detection.verdicts import REACHES_MARGIN_DB, reach_definition
     from ..io.progress import steps
     from . import feasibility as fz
     from .grid import build_grid, soil_on_grid
@@ -124,7 +125,7 @@ def compute_maps(survey, *, quiet: bool = True, calibration=None) -> Feasibility
 
         cal = _replace(cal, reference=fz._clip_moisture(reference_soil(base_values, inside), texture=survey.texture))
     layers = {k: [] for k in fz.LAYER_ATTRS}
-    rec_all, fractions, sampled = [], [], []
+    rec_all, fractions, sampled, shallow_all = [], [], [], []
     freqs = [a.centre_freq_hz for a in antennas]
     with steps(n_sc, desc="subsurf map", quiet=quiet) as bar:
         for sc in survey.scenarios:
@@ -139,9 +140,12 @@ def compute_maps(survey, *, quiet: bool = True, calibration=None) -> Feasibility
             out["reach_probability"], out["reach_probability_se"] = p, se
             for k in layers:
                 layers[k].append(out[k])
-            rec = fz.recommend_antenna(out["margin_db"], freqs, too_shallow=out.get("too_shallow"))
+            shallow = np.asarray(out["too_shallow"], bool) & inside
+            shallow_all.append(shallow)
+            rec = fz.recommend_antenna(out["margin_db"], freqs, too_shallow=shallow)
             rec_all.append(np.where(inside, rec, -2).astype(np.int16))
-            fractions.append(fz.area_fractions(out["margin_db"], grid["mask"].values, probability=p))
+            fractions.append(fz.area_fractions(out["margin_db"], grid["mask"].values, probability=p,
+                                               too_shallow=shallow))
             bar.advance()
     dims = ("scenario", "antenna", "y", "x")
     ds = xr.Dataset(coords=grid.coords)
@@ -154,13 +158,19 @@ def compute_maps(survey, *, quiet: bool = True, calibration=None) -> Feasibility
                                 {"long_name": "system performance including stacking", "units": "dB"})
     for k, arrs in layers.items():
         ds[k] = (dims, np.stack(arrs).astype(np.float32), dict(fz.LAYER_ATTRS[k], grid_mapping="crs"))
-    names = " ".join(["outside_site", "none_reaches"] + [a.name.replace(" ", "_") for a in antennas])
+    ds["too_shallow"] = (dims, np.stack(shallow_all).astype(np.int8), {
+        "long_name": "target inside the antenna's blind zone (its echo arrives within the direct wave; not "
+                     "reached whatever the margin)", "flag_values": np.array([0, 1], np.int8),
+        "flag_meanings": "below_blind_zone in_blind_zone", "grid_mapping": "crs"})
+    names = " ".join(["outside_site", "none_even_marginal"] + [a.name.replace(" ", "_") for a in antennas])
     ds["recommended_antenna"] = (("scenario", "y", "x"), np.stack(rec_all), {
         "long_name": f"recommended antenna (highest frequency with >= {REACHES_MARGIN_DB:g} dB margin, else largest "
                      "margin >= 0)",
         "flag_values": np.arange(-2, n_ant, dtype=np.int16), "flag_meanings": names, "grid_mapping": "crs"})
     for q in soil.data_vars:
         ds["soil_" + q if q not in ("distance_to_sample", "extrapolated") else q] = soil[q]
+    ds["reach_probability"].attrs["long_name"] = (
+        f"probability that the target is reached (margin >= {REACHES_MARGIN_DB:g} dB outside the blind zone)")
     ds["reach_probability"].attrs["comment"] = (
         "per-cell soil values normal with the measurement and interpolation standard deviations; "
         f"first-order (linearised) probability where its estimated error is <= {DEFAULT_TOLERANCE:g}, "
@@ -172,6 +182,8 @@ def compute_maps(survey, *, quiet: bool = True, calibration=None) -> Feasibility
     ds.attrs = {
         "target": f"{t.kind} {t.material} {t.size_m:g} m at {t.depth_m:g} m",
         "target_depth_m": t.depth_m,
+        "reaches_margin_db": REACHES_MARGIN_DB,
+        "reach_definition": reach_definition(),
         "monte_carlo_draws": survey.draws,
         "monte_carlo_seed": survey.seed,
         "cell_size_m": survey.cell_size_m,
@@ -194,10 +206,13 @@ def compute_maps(survey, *, quiet: bool = True, calibration=None) -> Feasibility
 def summary_rows(maps: FeasibilityMaps) -> list[dict]:
     """Area fractions per scenario and antenna, in percent of the cells inside the site.
 
-    Keys: ``scenario``, ``antenna``, ``centre_frequency_mhz``, ``marginal_or_better_pct`` (margin ≥ 0),
-    ``reach_pct`` (margin ≥ the reach threshold, :data:`subsurf.detection.verdicts.REACHES_MARGIN_DB`), ``expected_reach_pct``
-    (mean reach probability), ``reach_p90_pct`` (probability ≥ 0.9), ``median_max_depth_m``
-    and ``recommended_pct`` (area where the antenna is the recommended one).
+    Keys: ``scenario``, ``antenna``, ``centre_frequency_mhz``, ``reach_pct`` (area where it
+    reaches: margin ≥ the reach threshold :data:`subsurf.detection.verdicts.REACHES_MARGIN_DB`
+    outside the blind zone), ``marginal_or_better_pct`` (margin ≥ 0 dB), ``expected_reach_pct``
+    (mean probability of reaching), ``reach_p90_pct`` (probability ≥ 0.9), ``median_max_depth_m``,
+    ``max_depth_min_m`` / ``max_depth_max_m`` (its range over the site),
+    ``median_vertical_resolution_m`` (at the target, λ/4 at the received frequency) and ``recommended_pct``
+    (area where the antenna is the recommended one).
     """
     ds = maps.dataset
     inside = ds["mask"].values.astype(bool)
@@ -210,11 +225,15 @@ def summary_rows(maps: FeasibilityMaps) -> list[dict]:
             md = ds["max_depth"].values[si, ai][inside]
             rows.append({
                 "scenario": sc.name, "antenna": a.name, "centre_frequency_mhz": a.centre_freq_hz / 1e6,
-                "marginal_or_better_pct": 100 * float(fr["reach"][ai]),
-                "reach_pct": 100 * float(fr["reach_with_headroom"][ai]),
+                "reach_pct": 100 * float(fr["reach"][ai]),
+                "marginal_or_better_pct": 100 * float(fr["marginal_or_better"][ai]),
                 "expected_reach_pct": 100 * float(fr["expected_reach"][ai]),
                 "reach_p90_pct": 100 * float(fr["reach_p90"][ai]),
                 "median_max_depth_m": float(np.median(md)),
+                "median_vertical_resolution_m": float(np.median(ds["vertical_resolution"].values[si, ai][inside]))
+                if md.size else float("nan"),
+                "max_depth_min_m": float(np.min(md)) if md.size else float("nan"),
+                "max_depth_max_m": float(np.max(md)) if md.size else float("nan"),
                 "recommended_pct": 100 * float(np.count_nonzero(rec[inside] == ai)) / n_inside,
             })
     return rows

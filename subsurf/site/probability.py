@@ -4,7 +4,10 @@ The margin M (dB) of :func:`subsurf.site.feasibility.feasibility_chain` is a smo
 function of the soil quantities x, independent per cell and quantity: normal with mean μ
 and standard deviation σ truncated to the quantity's accepted range (``_truncated``; not
 clipped, so no draw sits on a bound), log-normal with that mean and σ for the pore-water
-conductivity and salinity (``_lognormal``).  The probability P(M ≥ 0) is
+conductivity and salinity (``_lognormal``).  The antenna *reaches* the target when the
+margin is at least T outside the blind zone, T the one threshold of every subsurf output
+(:data:`subsurf.detection.verdicts.REACHES_MARGIN_DB`, 6 dB); below, M stands for the
+shifted margin (margin − T), so P(M ≥ 0) is the probability of reaching.  It is
 estimated per cell and antenna by one of two methods:
 
 ``"linearised"`` (first-order second-moment, the delta method)
@@ -75,7 +78,7 @@ class ReachProbability:
     Attributes
     ----------
     probability : ndarray, shape (n_antennas, *cells)
-        P(margin ≥ 0); NaN outside the data.
+        P(margin ≥ the reach threshold, outside the blind zone); NaN outside the data.
     error : ndarray, shape (n_antennas, *cells)
         Standard error √(p(1 − p)/N) where sampled; the linearisation's estimated error
         (second-order difference plus clipping bound) elsewhere.
@@ -112,8 +115,9 @@ def _normal_cdf(x):
 class _Problem:
     """The flattened inputs and the margin function M(x) of a reach-probability call."""
 
-    def __init__(self, values, sds, antennas, *, target, target_depth_m, texture, model, calibration=None):
-        from .feasibility import _antenna_axes, _soil_porosity_limit
+    def __init__(self, values, sds, antennas, *, target, target_depth_m, texture, model, reaches_db,
+                 calibration=None):
+        from .feasibility import _antenna_chain_kwargs, _soil_porosity_limit
         from .survey import QUANTITIES
 
         ref = np.asarray(next(iter(values.values())))
@@ -132,25 +136,30 @@ class _Problem:
         phi = _soil_porosity_limit(texture, self.flat.get("bulk_density"))
         if phi is not None and "moisture" in self.flat:  # moisture also below the porosity (as the chain clips)
             self.high["moisture"] = np.minimum(self.high["moisture"], 0.995 * np.broadcast_to(phi, (ref.size,)))
-        self.freq, self.perf, self.gain, _ = _antenna_axes(antennas, 2)
+        # every antenna input the map's own chain takes (band, separation, pulse length), so the probability
+        # judges the same budget and blind zone as the map's margin and verdicts
+        self.antenna_kw = _antenna_chain_kwargs(antennas, 2)
         self.n_ant = len(antennas)
         self.kw = {"target": target, "target_depth_m": target_depth_m, "texture": texture, "model": model,
                    "calibration": calibration}
+        self.reaches_db = float(reaches_db)
 
-    def margins(self, fields):
-        """Margin (dB) of every antenna, shape (n_antennas, m, c), for fields of shape (m, c)."""
+    def margins(self, fields, *, with_slack: bool = False):
+        """Margin above the reach threshold (dB) of every antenna, shape (n_antennas, m, c), for fields of
+        shape (m, c); the antenna reaches the target where it is >= 0."""
         from .feasibility import _chain_kwargs, _clip_moisture, feasibility_chain
         from .survey import QUANTITIES
 
         clipped = {k: np.clip(v, QUANTITIES[k].low, QUANTITIES[k].high) for k, v in fields.items()}
         clipped = _clip_moisture(clipped, texture=self.kw["texture"])
         try:
-            out = feasibility_chain(freq_hz=self.freq, performance_db=self.perf, gain=self.gain,
-                                    margin_only=True, **self.kw, **_chain_kwargs(clipped))
+            out = feasibility_chain(**self.antenna_kw, margin_only=True, **self.kw, **_chain_kwargs(clipped))
         except SubsurfError as exc:
             raise InputError(f"draws of the soil inputs are not physically possible: {exc}") from None
         # inside the antenna's blind zone the target is not seen, whatever the margin (as recommend_antenna)
-        return np.where(out["too_shallow"], -np.inf, out["margin_db"])
+        # M − T: the antenna reaches the target where this is >= 0
+        m = np.where(out["too_shallow"], -np.inf, out["margin_db"] - self.reaches_db)
+        return (m, out["blind_zone_slack_m"]) if with_slack else m
 
 
 def _blocks(cells: np.ndarray, per_cell: int):
@@ -177,9 +186,16 @@ def _linearised(prob: _Problem, cells: np.ndarray, h: float):
                 pts[1 + 2 * i] += step
                 pts[2 + 2 * i] -= step
             fields[q] = pts
-        m = prob.margins(fields)
+        m, slack = prob.margins(fields, with_slack=True)
         # a stencil point in the blind zone (margin -inf): no linear model; 'auto' samples these cells
         kinked = ~np.all(np.isfinite(m), axis=1)
+        # the blind zone is a step the linear model of M cannot see: the probability of entering it (the
+        # depth's slack below the blind zone, linearised on the same stencil) is put at stake and added
+        # to the estimated error, so 'auto' samples cells near its edge
+        s_up, s_dn = slack[:, 1::2], slack[:, 2::2]
+        s_g = np.sqrt(np.sum(((s_up - s_dn) / (2.0 * h)) ** 2, axis=1))
+        with np.errstate(divide="ignore", invalid="ignore"):
+            p_blind = np.where(s_g > 0, _normal_cdf(-slack[:, 0] / s_g), (slack[:, 0] < 0).astype(float))
         centre_reaches = (m[:, 0] >= 0).astype(float)
         m = np.where(np.isfinite(m), m, 0.0)
         m0 = m[:, 0]
@@ -196,6 +212,8 @@ def _linearised(prob: _Problem, cells: np.ndarray, h: float):
         e = np.abs(first - second)
         for i, q in enumerate(prob.uncertain):
             e = e + _clip_bound(prob, q, blk, m0, g[:, i], var1)
+        p_blind = np.where(np.isfinite(p_blind), p_blind, 1.0)
+        first, e = first * (1.0 - p_blind), e + p_blind  # not reached inside the blind zone (independence assumed)
         first = np.where(kinked, centre_reaches, first)
         e = np.where(kinked | ~np.isfinite(e), 1.0, e)
         n = blk.size
@@ -336,8 +354,9 @@ def _sampled(prob: _Problem, cells: np.ndarray, draws: int, seed: int):
 
 def reach_probability(values: dict, sds: dict, antennas, *, target, target_depth_m: float, draws: int,
                       seed: int, texture: str | None = None, model: str = "crim", method: Method = "auto",
-                      tolerance: float = DEFAULT_TOLERANCE, calibration=None) -> ReachProbability:
-    """Per-cell probability that each antenna reaches the target depth (margin ≥ 0).
+                      tolerance: float = DEFAULT_TOLERANCE, calibration=None,
+                      reaches_db: float | None = None) -> ReachProbability:
+    """Per-cell probability that each antenna reaches the target depth (margin ≥ the reach threshold).
 
     Parameters
     ----------
@@ -357,6 +376,9 @@ def reach_probability(values: dict, sds: dict, antennas, *, target, target_depth
         Largest estimated error of the linearised estimate accepted by ``"auto"``.
     calibration : subsurf.site.calibrated.GridCalibration, optional
         Site calibration in every evaluation (its own standard errors are not drawn).
+    reaches_db : float, optional
+        Margin (dB) at which the target counts as reached; default
+        :data:`subsurf.detection.verdicts.REACHES_MARGIN_DB`, the threshold every output states.
 
     Returns
     -------
@@ -371,8 +393,11 @@ def reach_probability(values: dict, sds: dict, antennas, *, target, target_depth
     seed = check_seed(seed)
     if not 0.0 < tolerance < 1.0:
         raise InputError(f"tolerance must be between 0 and 1 (a probability), got {tolerance!r}")
+    from ..detection.verdicts import REACHES_MARGIN_DB
+
     prob = _Problem(values, sds, antennas, target=target, target_depth_m=target_depth_m, texture=texture,
-                    model=model, calibration=calibration)
+                    model=model, calibration=calibration,
+                    reaches_db=REACHES_MARGIN_DB if reaches_db is None else reaches_db)
     n = prob.valid.size
     p = np.full((prob.n_ant, n), np.nan)
     err = np.full((prob.n_ant, n), np.nan)

@@ -8,6 +8,7 @@ from scipy.optimize import brentq
 from scipy.stats import norm
 
 from subsurf.detection import budget as detection
+from subsurf.detection.verdicts import REACHES_MARGIN_DB
 from subsurf.ground import Soil
 from subsurf.planning.antennas import make_target
 from subsurf.site.feasibility import (
@@ -89,28 +90,39 @@ def test_area_fractions_count_cells():
     margin = np.array([[[1.0, -1.0], [7.0, 5.0]]])
     mask = np.array([[True, True], [True, False]])
     fr = area_fractions(margin, mask)
-    assert fr["reach"][0] == pytest.approx(2 / 3) and fr["reach_with_headroom"][0] == pytest.approx(1 / 3)
+    # inside: 1.0 (marginal), -1.0 (does not reach), 7.0 (reaches, >= 6 dB); 5.0 is outside the site
+    assert fr["reach"][0] == pytest.approx(1 / 3) and fr["marginal_or_better"][0] == pytest.approx(2 / 3)
+
+
+def test_area_fractions_never_count_the_blind_zone():
+    """A cell inside the blind zone is not reached whatever its margin (verdicts.reaches), in both fractions."""
+    margin = np.array([[[20.0, 20.0], [3.0, -2.0]]])
+    shallow = np.array([[[True, False], [False, False]]])
+    fr = area_fractions(margin, np.ones((2, 2), bool), too_shallow=shallow)
+    assert fr["reach"][0] == pytest.approx(1 / 4) and fr["marginal_or_better"][0] == pytest.approx(2 / 4)
 
 
 def test_monte_carlo_without_uncertainty_is_deterministic_verdict():
-    """With zero standard deviations the probability is 1 where the margin is >= 0 outside the blind zone, else 0."""
+    """With zero standard deviations the probability is 1 where the margin is >= the reach threshold (6 dB)
+    outside the blind zone, else 0."""
     m = np.linspace(0.05, 0.35, 12).reshape(3, 4)
     vals = {"moisture": m, "pore_water_ec": np.full_like(m, 0.03)}
     out = evaluate(vals, ANTS, target=PIPE, target_depth_m=1.0, texture="loamy_sand")
     p, _ = reach_probability(vals, {}, ANTS, target=PIPE, target_depth_m=1.0, draws=20, seed=1,
                              texture="loamy_sand")
-    assert np.array_equal(p, ((out["margin_db"] >= 0) & ~out["too_shallow"]).astype(float))
+    assert np.array_equal(p, ((out["margin_db"] >= REACHES_MARGIN_DB) & ~out["too_shallow"]).astype(float))
 
 
 def test_monte_carlo_matches_analytic_normal_probability():
-    """With only moisture uncertain, P(reach) = Φ((θ* − μ)/s), θ* the brentq moisture where margin = 0."""
+    """With only moisture uncertain, P(reach) = Φ((θ* − μ)/s), θ* the brentq moisture where the margin equals the
+    reach threshold (6 dB)."""
     a = ANTS[1]
     s = 0.02
 
     def margin(theta):
         return float(feasibility_chain(theta, freq_hz=a.centre_freq_hz, performance_db=a.performance_db,
                                        gain=a.gain, target=PIPE, target_depth_m=2.0, pore_water_ec25=0.05,
-                                       texture="loamy_sand")["margin_db"])
+                                       texture="loamy_sand")["margin_db"]) - REACHES_MARGIN_DB
 
     theta_star = brentq(margin, 0.02, 0.35, xtol=1e-10)
     mu = theta_star - 0.5 * s

@@ -7,10 +7,16 @@ import numpy as np
 import pytest
 from scipy.stats import norm
 
+from subsurf.detection.verdicts import REACHES_MARGIN_DB
 from subsurf.errors import InputError
 from subsurf.planning.antennas import get_antenna, load_catalogue, make_target
 from subsurf.site import probability as pr
-from subsurf.site.feasibility import AntennaParameters, _antenna_axes, apply_scenario, feasibility_chain
+from subsurf.site.feasibility import (
+    AntennaParameters,
+    _antenna_chain_kwargs,
+    apply_scenario,
+    feasibility_chain,
+)
 from subsurf.site.survey import QUANTITIES
 
 PIPE = make_target("line", depth_m=1.2, size_m=0.15, material="metal")
@@ -20,13 +26,18 @@ ANTS = [AntennaParameters("low", 100e6, 70.0, 2.0), AntennaParameters("mid", 250
 def _reference(vals, sds, antennas, *, target, depth, texture, draws, seed):
     """Plain seeded Monte Carlo written out here, independent of the module under test.
 
-    Draws value + sd·z per cell, clips to each quantity's accepted range and the moisture to
-    0.995 of the texture's porosity, and counts margin ≥ 0 from the public chain.
+    Draws each uncertain quantity per cell from the distribution the map states (module
+    docstring): pore-water EC log-normal with the given mean and sd (scipy.stats.lognorm,
+    σ_ln² = ln(1 + sd²/mean²)), the others normal truncated to the quantity's accepted range
+    (scipy.stats.truncnorm), moisture also below 0.995 of the texture's porosity; counts
+    margin ≥ the reach threshold (6 dB) below the blind zone from the public chain.
     """
+    from scipy.stats import lognorm, truncnorm
+
     from subsurf.ground.presets import texture_preset
 
     rng = np.random.default_rng(seed)
-    freq, perf, gain, _ = _antenna_axes(antennas, 2)
+    ant = _antenna_chain_kwargs(antennas, 2)  # band, separation and pulse length as the map's chain takes them
     preset = texture_preset(texture)
     n = next(iter(vals.values())).size
     hits = np.zeros((len(antennas), n))
@@ -34,16 +45,26 @@ def _reference(vals, sds, antennas, *, target, depth, texture, draws, seed):
     for _ in range(draws // per):
         d = {}
         for k, v in vals.items():
-            x = v[None, :] + (sds[k][None, :] * rng.standard_normal((per, n)) if k in sds else 0.0)
-            x = np.clip(np.broadcast_to(x, (per, n)), QUANTITIES[k].low, QUANTITIES[k].high)
+            lo, hi = QUANTITIES[k].low, np.full(n, QUANTITIES[k].high)
             if k == "moisture":
                 rb = vals.get("bulk_density", preset["bulk_density"])
-                x = np.minimum(x, 0.995 * (1.0 - np.asarray(rb) / preset["particle_density"]))
-            d[k] = x
-        m = feasibility_chain(d["moisture"], freq_hz=freq, performance_db=perf, gain=gain, target=target,
-                              target_depth_m=depth, texture=texture, pore_water_ec25=d.get("pore_water_ec"),
-                              temp_c=d.get("temperature", 20.0), margin_only=True)["margin_db"]
-        hits += np.sum(m >= 0, axis=1)
+                hi = np.minimum(hi, 0.995 * (1.0 - np.asarray(rb) / preset["particle_density"]))
+            sd = sds[k] if k in sds else np.zeros(n)
+            x = np.broadcast_to(v[None, :], (per, n)).copy()
+            on = sd > 0
+            if k == "pore_water_ec":
+                s_ln = np.sqrt(np.log1p((sd[on] / v[on]) ** 2))
+                x[:, on] = lognorm.rvs(s_ln, scale=v[on] * np.exp(-s_ln**2 / 2), size=(per, on.sum()),
+                                       random_state=rng)
+            elif np.any(on):
+                a, b = (lo - v[on]) / sd[on], (hi[on] - v[on]) / sd[on]
+                x[:, on] = truncnorm.rvs(a, b, loc=v[on], scale=sd[on], size=(per, on.sum()), random_state=rng)
+            d[k] = np.clip(x, lo, hi)
+        out = feasibility_chain(d["moisture"], **ant, target=target,
+                                target_depth_m=depth, texture=texture, pore_water_ec25=d.get("pore_water_ec"),
+                                temp_c=d.get("temperature", 20.0), margin_only=True)
+        # reached: margin >= the threshold and the target below the blind zone (detection.verdicts)
+        hits += np.sum((out["margin_db"] >= REACHES_MARGIN_DB) & ~out["too_shallow"], axis=1)
     return hits / draws
 
 
@@ -110,7 +131,8 @@ def test_reported_error_covers_the_difference_from_reference(example_cells, exam
 
 
 def test_linearised_equals_exact_probability_when_margin_is_linear_in_moisture():
-    """Only moisture uncertain, small sd: P = Φ((θ* − μ)/s) with θ* the moisture where margin = 0 (brentq)."""
+    """Only moisture uncertain, small sd: P = Φ((θ* − μ)/s) with θ* the moisture where the margin equals the reach
+    threshold (brentq)."""
     from scipy.optimize import brentq
 
     a = ANTS[1]
@@ -118,7 +140,7 @@ def test_linearised_equals_exact_probability_when_margin_is_linear_in_moisture()
     def margin(theta):
         return float(feasibility_chain(theta, freq_hz=a.centre_freq_hz, performance_db=a.performance_db,
                                        gain=a.gain, target=PIPE, target_depth_m=2.0, pore_water_ec25=0.05,
-                                       texture="loamy_sand")["margin_db"])
+                                       texture="loamy_sand")["margin_db"]) - REACHES_MARGIN_DB
 
     theta_star = brentq(margin, 0.02, 0.35, xtol=1e-12)
     s = 0.002  # over ±4 s the margin is linear to well below the tolerance
@@ -136,7 +158,8 @@ def test_clipping_sends_cells_to_sampling_where_the_linear_model_is_wrong():
     the linear model extrapolates to negative moisture and says p > 0; 'auto' samples and gets 0."""
     vals = {"moisture": np.full(3, 0.02), "pore_water_ec": np.full(3, 0.05)}
     sds = {"moisture": np.full(3, 0.02)}
-    kw = dict(target=PIPE, target_depth_m=60.0, draws=400, seed=4, texture="loamy_sand")
+    # threshold 0 dB: the construction below ("dry ground does not reach", margin < 0) is about the estimator
+    kw = dict(target=PIPE, target_depth_m=60.0, draws=400, seed=4, texture="loamy_sand", reaches_db=0.0)
     dry = feasibility_chain(0.0, freq_hz=100e6, performance_db=70.0, gain=2.0, target=PIPE, target_depth_m=60.0,
                             pore_water_ec25=0.05, texture="loamy_sand", margin_only=True)["margin_db"]
     assert dry < 0  # not reachable even in perfectly dry ground

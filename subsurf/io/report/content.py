@@ -19,8 +19,8 @@ import numpy as np
 from .soil import SiteSoil, site_soil
 from .texts import MAP_CAPTIONS
 
-__all__ = ["REPORT_FREQS_HZ", "collect", "velocity_draws", "depth_chart", "maps_section", "ground_table",
-           "site_geometry"]
+__all__ = ["REPORT_FREQS_HZ", "collect", "velocity_draws", "depth_chart", "maps_section", "map_decision",
+           "ground_table", "site_geometry"]
 
 #: Frequencies (Hz) of the ground-property and reach curves: 10 MHz to 3 GHz.
 REPORT_FREQS_HZ = np.geomspace(10e6, 3e9, 121)
@@ -213,7 +213,12 @@ def collect(survey_path, *, map_result: dict | None = None, bar=None, calibratio
             cal = calibrated_plan(calibration if calibration is not None else survey.calibration_path, survey, site,
                                   antennas, target, model_rows=rows, from_flag=calibration is not None)
             rows, antennas, electrical = cal["rows"], cal["antennas"], cal["ground"].electrical
-        rec_name, reason = recommend(rows)
+        median_name, median_reason = recommend(rows)
+        decision = map_decision(map_result, [s.name for s in survey.scenarios])
+        if decision is not None:  # the headline from the maps' area statistics, every scenario
+            rec_name, reason = decision.bring, decision.headline
+        else:
+            rec_name, reason = median_name, f"from the site-median soil (no feasibility maps): {median_reason}"
         for r in rows:
             r["recommended"] = r["name"] == rec_name
         step("maximum depth")
@@ -251,6 +256,8 @@ def collect(survey_path, *, map_result: dict | None = None, bar=None, calibratio
         "ranking": rows,
         "recommended": rec_name,
         "reason": reason,
+        "decision": decision,
+        "site_median_recommendation": {"antenna": median_name, "reason": median_reason},
         "chart_antenna": chart_ant.name,
         "antennas_illustrative": any(a.illustrative for a in antennas),
         "max_depth_curves": curves,
@@ -261,6 +268,15 @@ def collect(survey_path, *, map_result: dict | None = None, bar=None, calibratio
         "warnings": list(notes),
         "caution": list(CAUTION_LINES),
     }
+
+
+def map_decision(map_result: dict | None, scenarios: list[str]):
+    """The :class:`subsurf.site.decision.Decision` from the map's summary rows (None without maps)."""
+    if not map_result or not map_result.get("summary"):
+        return None
+    from ...site.decision import decide
+
+    return decide(list(map_result["summary"]), scenarios=scenarios)
 
 
 def maps_section(map_result: dict | None) -> dict | None:

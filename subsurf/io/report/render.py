@@ -77,6 +77,8 @@ def summary_payload(data: dict, report_path) -> dict:
         "catalogue": data["survey"]["catalogue"],
         "recommended": data["recommended"],
         "reason": data["reason"],
+        "decision": data["decision"].as_dict() if data.get("decision") is not None else None,
+        "site_median_recommendation": data.get("site_median_recommendation"),
         "ranking": rows,
         "velocity_m_per_ns": c["velocity"] * 1e-9,
         "velocity_p05_m_per_ns": c["velocity_p05"] * 1e-9,

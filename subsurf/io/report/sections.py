@@ -78,42 +78,41 @@ def fmt(v, spec=".3g") -> str:
 
 def summary(data) -> dict:
     rows, rec, t, chart = data["ranking"], data["recommended"], data["target"], data["depth_chart"]
-    rec_row = next((r for r in rows if r["name"] == rec), None)
-    reaching = [r["name"] for r in rows if r["verdict"] == "reaches"]
+    decision = data.get("decision")
     cards = []
-    if rec_row:
-        cards.append(("recommended antenna", rec, f"{rec_row['centre_freq_hz'] / 1e6:.0f} MHz", False))
-        cards.append(("max depth, this target", f"{rec_row['max_depth_m']:.2f} m",
-                      f"target at {t['depth_m']:.2f} m · margin {rec_row['margin_db']:.0f} dB",
-                      rec_row["verdict"] != "reaches"))
+    if decision is not None:
+        cards += _decision_cards(decision, rows, (data.get("maps") or {}).get("summary", []))
     else:
-        cards.append(("recommended antenna", "none", "no listed antenna reaches the target", True))
-        best = max(rows, key=lambda r: r["margin_db"])
-        cards.append(("closest antenna", best["name"], f"max depth {best['max_depth_m']:.2f} m", True))
+        rec_row = next((r for r in rows if r["name"] == rec), None)
+        if rec_row:
+            cards.append(("recommended antenna", rec, f"{rec_row['centre_freq_hz'] / 1e6:.0f} MHz (site-median soil)",
+                          False))
+            cards.append(("max depth, this target", f"{rec_row['max_depth_m']:.2f} m",
+                          f"target at {t['depth_m']:.2f} m · margin {rec_row['margin_db']:.0f} dB",
+                          rec_row["verdict"] != "reaches"))
+        else:
+            cards.append(("recommended antenna", "none", "no listed antenna reaches the target", True))
+            best = max(rows, key=lambda r: r["margin_db"])
+            cards.append(("closest antenna", best["name"], f"max depth {best['max_depth_m']:.2f} m", True))
+        reaching = [r["name"] for r in rows if r["verdict"] == "reaches"]
+        cards.append(("antennas that reach", f"{len(reaching)} of {len(rows)}",
+                      ", ".join(reaching) if reaching else "none with margin", not reaching))
     cards.append(("ground velocity" + (" (measured)" if data.get("calibration") else ""),
                   f"{chart['velocity'] * 1e-9:.3f} m/ns",
-                  f"5–95 %: {chart['velocity_p05'] * 1e-9:.3f}–{chart['velocity_p95'] * 1e-9:.3f} m/ns", False))
-    cards.append(("antennas that reach", f"{len(reaching)} of {len(rows)}",
-                  ", ".join(reaching) if reaching else "none with margin", not reaching))
+                  f"site median; 5–95 %: {chart['velocity_p05'] * 1e-9:.3f}–{chart['velocity_p95'] * 1e-9:.3f} m/ns",
+                  False))
     size = f", {t['size_m']:.2g} m across" if t["kind"] != "planar" else ""
     across = ""
-    maps = data.get("maps") or {}
-    if maps.get("summary"):
-        # "reaches" means >= REACHES_MARGIN_DB to spare everywhere else in the report; margin >= 0 is only "marginal"
-        best = {}
-        for r in maps["summary"]:
-            key = (r["reach_pct"], r["marginal_or_better_pct"])
-            if r["scenario"] not in best or key > (best[r["scenario"]]["reach_pct"],
-                                                   best[r["scenario"]]["marginal_or_better_pct"]):
-                best[r["scenario"]] = r
-        across = "; ".join(f"{sc}: {r['antenna']} reaches the target with {REACHES_MARGIN_DB:g} dB to spare over "
-                           f"{r['reach_pct']:.0f} % of the area (at least marginally over "
-                           f"{r['marginal_or_better_pct']:.0f} %)" for sc, r in best.items())
+    if decision is not None:
+        across = "; ".join(f"{c.scenario}: {c.antenna or 'none'} — {c.reason} (reaches {c.reach_pct:.0f} % of the "
+                           f"site, mean probability of reaching {c.expected_reach_pct:.0f} %)"
+                           for c in decision.per_scenario)
     return {"description": data["survey"].get("description") or "",
             "cards": [{"k": k, "v": v, "s": s, "bad": bad} for k, v, s, bad in cards],
             "target_text": f"{t['kind']} target of {t['material'].replace('_', ' ')}{size}, top at {t['depth_m']:.2f} m",
             "reason": data["reason"], "across": across, "caution": " ".join(data["caution"]),
             "calibrated": (data.get("calibration") or {}).get("note", ""),
+            "from_maps": decision is not None, "reaches_db": f"{REACHES_MARGIN_DB:g}",
             "illustrative": bool(data.get("antennas_illustrative"))}
 
 
@@ -151,6 +150,25 @@ def calibration(data) -> dict | None:
                "(site calibration).")
     return {"note": cal["note"], "file": cal["file"], "comparison": comparison, "changes": changes,
             "recommendation": verdict, "draws": cal["model_draws"], "seed": cal["seed"]}
+
+
+def _decision_cards(decision, rows, map_rows) -> list:
+    """The headline cards from the maps' decision: what to bring, its worst-scenario area, antennas reaching."""
+    freq = {r["name"]: r["centre_freq_hz"] for r in rows}
+    if decision.bring is None:
+        return [("bring", "none", f"no antenna reaches the target with {REACHES_MARGIN_DB:g} dB anywhere", True)]
+    also = "; ".join(f"{s}: also {a}" for s, a in decision.also.items())
+    cards = [("bring", decision.bring, f"{freq.get(decision.bring, 0) / 1e6:.0f} MHz" + (f" · {also}" if also else ""),
+              False)]
+    w = next(r for r in map_rows if r["scenario"] == decision.worst_scenario and r["antenna"] == decision.bring)
+    cards.append((f"area reached, worst scenario ({decision.worst_scenario})", f"{w['reach_pct']:.0f} %",
+                  f"{decision.bring}, margin ≥ {REACHES_MARGIN_DB:g} dB · mean probability {w['expected_reach_pct']:.0f} %",
+                  w["reach_pct"] < 99.5))
+    whole = [a for a in dict.fromkeys(r["antenna"] for r in map_rows)
+             if all(r["reach_pct"] >= 100.0 - 1e-9 for r in map_rows if r["antenna"] == a)]
+    cards.append(("antennas that reach the whole site", f"{len(whole)} of {len(rows)}",
+                  (", ".join(whole) if whole else "none") + " (every scenario)", not whole))
+    return cards
 
 
 def site(data) -> dict:
@@ -225,10 +243,19 @@ def antennas(data) -> dict:
                      Verdict(r["verdict"]), fmt(r["vertical_resolution_m"], ".2g"),
                      fmt(r["fresnel_radius_m"], ".2g"), fmt(r["received_freq_hz"] / 1e6, ".3g")])
         classes.append("rec" if r["recommended"] else "")
-    return {"table": Table(["antenna", "f_c (MHz)", "performance (dB)", "max depth (m)", "margin at target (dB)",
-                            "verdict", "vertical resolution (m)", "horizontal resolution (m)", "received f (MHz)"],
-                           rows, numeric=(1, 2, 3, 4, 6, 7, 8), row_classes=classes),
-            "reason": data["reason"]}
+    out = {"table": Table(["antenna", "f_c (MHz)", "performance (dB)", "max depth (m)", "margin at target (dB)",
+                           "verdict", "vertical resolution (m)", "horizontal resolution (m)", "received f (MHz)"],
+                          rows, numeric=(1, 2, 3, 4, 6, 7, 8), row_classes=classes),
+           "reason": data["reason"], "decision": None,
+           "median": data.get("site_median_recommendation") or {}}
+    decision = data.get("decision")
+    if decision is not None:  # the choice per scenario, from the maps' area statistics
+        out["decision"] = Table(
+            ["scenario", "antenna chosen", f"area reached, margin ≥ {REACHES_MARGIN_DB:g} dB (%)",
+             "mean probability of reaching (%)", "why"],
+            [[c.scenario, c.antenna or "none", fmt(c.reach_pct, ".0f"), fmt(c.expected_reach_pct, ".0f"), c.reason]
+             for c in decision.per_scenario], numeric=(2, 3))
+    return out
 
 
 def settings(data) -> dict:

@@ -86,9 +86,9 @@ MAP_CAPTIONS = {
 #: map summary columns shown in the scenario comparison: key, header, format
 MAP_COLUMNS = (
     ("scenario", "scenario", "s"), ("antenna", "antenna", "s"),
-    ("reach_pct", f"reached with {REACHES_MARGIN_DB:g} dB to spare (%)", ".0f"),
-    ("marginal_or_better_pct", "at least marginal, margin ≥ 0 dB (%)", ".0f"),
-    ("expected_reach_pct", "mean probability of reaching (%)", ".0f"),
+    ("reach_pct", f"area reached, margin ≥ {REACHES_MARGIN_DB:g} dB (%)", ".0f"),
+    ("marginal_or_better_pct", "area with margin ≥ 0 dB (%)", ".0f"),
+    ("expected_reach_pct", f"mean probability of reaching (margin ≥ {REACHES_MARGIN_DB:g} dB) (%)", ".0f"),
     ("median_max_depth_m", "median max depth (m)", ".2f"), ("recommended_pct", "area where recommended (%)", ".0f"),
 )
 
@@ -123,7 +123,9 @@ ASSUMPTIONS = (
     "antenna centre frequency, and air–ground transmission loss. Real detection also depends on clutter, "
     "target orientation and operator experience; treat depths within a few decibels of the limit as "
     "uncertain.",
-    "Site-wide charts use one median soil; the maps show how the answer changes across the site.",
+    "The recommendation comes from the feasibility maps: the area of the site each antenna reaches in each "
+    "scenario. The site-wide charts (ground properties, reach curves, the site-median ranking, acquisition "
+    "settings and the depth chart) use one median soil; the maps show how the answer changes across the site.",
 )
 
 #: the safety section, in full sentences (the short form is subsurf.safety.CAUTION)
