@@ -74,6 +74,8 @@ def strings(desc: str) -> dict:
     return array(text("one line"), desc)
 
 
+THRESHOLDS = obj({"reaches_margin_db": num("margin from which a target 'reaches' (dB)"),
+                  "marginal_margin_db": num("margin from which it is 'marginal' (dB)")}, "verdict thresholds")
 CAUTION = text("the safety caution: predictions are not locations; verify buried services before digging")
 WARNINGS = strings("model warnings (a published validity range left), one line each")
 WRITTEN = strings("files written by this run (paths as given)")
@@ -375,8 +377,26 @@ def _report_common() -> dict:
                        "size_m": num("target diameter (m)", null=True), "material": text("target material")},
                       "the survey's target"),
         "catalogue": catalogue_used(),
-        "recommended": text("recommended antenna, or null", null=True),
+        "recommended": text("recommended antenna (from the maps when they were computed), or null", null=True),
         "reason": text("why, one line"),
+        "decision": obj({
+            "bring": text("the antenna to bring, or null when none reaches", null=True),
+            "also": {"type": "object", "description": "scenario -> a further antenna that scenario needs",
+                     "additionalProperties": text("antenna name")},
+            "worst_scenario": text("scenario where the antenna to bring reaches the least area", null=True),
+            "headline": text("the recommendation in words"),
+            "reaches_margin_db": num("margin from which a target 'reaches' (dB)"),
+            "per_scenario": array(obj({
+                "scenario": text("scenario name"),
+                "antenna": text("antenna chosen for it, or null", null=True),
+                "reach_pct": pct("area it reaches, margin >= the reach threshold"),
+                "expected_reach_pct": pct("its mean probability of reaching over the area"),
+                "whole_site": boolean("it reaches every cell of the site"),
+                "reason": text("why, one line")}, "one scenario's choice"), "the choice per scenario"),
+        }, "what to bring, from the maps' area statistics (null without maps)", null=True),
+        "site_median_recommendation": obj({"antenna": text("antenna recommended for the site-median soil", null=True),
+                                           "reason": text("why, one line")},
+                                          "the ranking of the site-median soil alone"),
         "ranking": array(ranking, "antennas at the site median"),
         "velocity_m_per_ns": num("site-median ground velocity (m/ns)"),
         "velocity_p05_m_per_ns": num("5th percentile of the ground velocity (m/ns)"),
@@ -474,6 +494,10 @@ def map_schema() -> dict:
         "expected_reach_pct": pct("mean probability of reaching over the area"),
         "reach_p90_pct": pct("area where the probability of reaching is >= 0.9"),
         "median_max_depth_m": num("median maximum detectable depth over the area (m)", null=True),
+        "median_vertical_resolution_m": num("median vertical resolution at the target over the area (m)",
+                                            null=True),
+        "max_depth_min_m": num("smallest maximum detectable depth over the area (m)", null=True),
+        "max_depth_max_m": num("largest maximum detectable depth over the area (m)", null=True),
         "recommended_pct": pct("area where this antenna is the recommended one"),
     }, "one scenario and antenna")
     defaults = soil_defaults()
@@ -520,7 +544,9 @@ def map_schema() -> dict:
              "additionalProperties": False}
     paths["required"] = list(paths["properties"])
     calibration = grid_calibration(defaults)
-    return obj({"caution": CAUTION, "paths": paths, "summary": array(row, "area fractions per scenario and antenna"),
+    return obj({"caution": CAUTION, "paths": paths, "thresholds": THRESHOLDS,
+                "reach_definition": text("the verdicts in words"),
+                "summary": array(row, "area fractions per scenario and antenna"),
                 "inputs": inputs, "monte_carlo": mc, "calibration": calibration, "text": text("the table as printed"),
                 "warnings": WARNINGS},
                "subsurf map --json: feasibility maps of a survey site")

@@ -109,7 +109,7 @@ def two_zones(tmp_path_factory):
 def test_uniform_site_map_reach_is_choose_verdict(uniform):
     """Uniform soil: each antenna reaches 100 % of the site where `choose` says 'reaches', else 0 %."""
     chosen, mapped, _ = uniform
-    verdicts = {r["name"]: r["verdict"] for r in chosen["rows"]}
+    verdicts = {r["antenna"]: r["verdict"] for r in chosen["rows"]}
     assert set(verdicts.values()) >= {"reaches"} and set(verdicts.values()) - {"reaches"}  # both kinds occur
     for row in mapped["summary"]:
         assert row["reach_pct"] == (100.0 if verdicts[row["antenna"]] == "reaches" else 0.0), row["antenna"]
@@ -118,7 +118,7 @@ def test_uniform_site_map_reach_is_choose_verdict(uniform):
 def test_uniform_site_map_depth_is_choose_depth(uniform):
     """Uniform soil: the map's maximum depth equals `choose`'s in every cell, within 1 % (the map stores float32)."""
     chosen, mapped, _ = uniform
-    depth = {r["name"]: r["max_depth_m"] for r in chosen["rows"]}
+    depth = {r["antenna"]: r["max_depth_m"] for r in chosen["rows"]}
     for row in mapped["summary"]:
         for key in ("max_depth_min_m", "max_depth_max_m"):
             assert row[key] == pytest.approx(depth[row["antenna"]], rel=0.01), (row["antenna"], key)
@@ -144,7 +144,7 @@ def test_two_zone_site_area_is_the_hand_computed_zone_share(two_zones):
     """Two uniform zones: each antenna's reached area is the share of the zones where `choose` says it reaches,
     with the shares counted by hand from the zone geometry (8 and 16 of 24 cells)."""
     chosen, mapped, _ = two_zones
-    reach = {z: {r["name"]: r["verdict"] == "reaches" for r in c["rows"]} for z, c in chosen.items()}
+    reach = {z: {r["antenna"]: r["verdict"] == "reaches" for r in c["rows"]} for z, c in chosen.items()}
     # the zones differ for the chosen soils: a high-frequency antenna reaches only in the dry zone
     assert reach["dry"] != reach["damp"]
     for row in mapped["summary"]:
@@ -158,7 +158,7 @@ def test_two_zone_report_follows_the_map_not_the_median_soil(two_zones):
     finest resolution in the larger zone (the site median); the site-median soil (10 %) would say otherwise."""
     chosen, mapped, report = two_zones
     whole = [r["antenna"] for r in mapped["summary"] if r["reach_pct"] == 100.0]
-    res = {r["name"]: r["vertical_resolution_m"] for r in chosen["damp"]["rows"]}  # 16 of 24 cells: the median
+    res = {r["antenna"]: r["vertical_resolution_m"] for r in chosen["damp"]["rows"]}  # 16 of 24 cells: the median
     assert whole and report["recommended"] == min(whole, key=res.get)
     median = report["site_median_recommendation"]["antenna"]
     assert median != report["recommended"]  # the median soil recommends an antenna that misses two thirds

@@ -137,7 +137,7 @@ def test_demo_report_headline_comes_from_the_map(demo):
     page = html.unescape((cwd / "subsurf-demo" / "report.html").read_text(encoding="utf-8"))
     for c in summary["decision"]["per_scenario"]:
         area = next(r["reach_pct"] for r in rows if r["scenario"] == c["scenario"] and r["antenna"] == c["antenna"])
-        m = re.search(rf"{c['scenario']}: {c['antenna']} — [^(]+\(reaches (\d+) % of the site", page)
+        m = re.search(rf"{c['scenario']}: {c['antenna']} — [^;]*?\(reaches (\d+) % of the site", page)
         assert m and int(m.group(1)) == round(area), c["scenario"]
     # the example's wet scenario: the antenna brought reaches under half the site there, so another is named
     bring = summary["recommended"]
