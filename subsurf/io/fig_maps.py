@@ -293,8 +293,8 @@ def scenario_figure(grid, result, *, target_depth_m: float, outline, samples, cr
     entries.append((f"{pct[-1]} or more", PROBABILITY_CLASSES[-1][1]))
     _class_legend(fig, entries, ncols=4, title=f"Chance that the antenna recommended for the cell reaches "
                         f"{target_depth_m:g} m (dashed line: where the recommended antenna changes)")
-    fig.suptitle(title or f"Scenarios: probability of reaching the target (margin >= {REACHES_MARGIN_DB:g} dB below "
-                 "the blind zone)", fontsize=SIZES["suptitle"])
+    fig.suptitle(title or f"Scenarios: probability of reaching (margin >= {REACHES_MARGIN_DB:g} dB)",
+                 fontsize=SIZES["suptitle"])
     return fig
 
 
