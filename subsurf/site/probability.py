@@ -139,6 +139,9 @@ class _Problem:
         # every antenna input the map's own chain takes (band, separation, pulse length), so the probability
         # judges the same budget and blind zone as the map's margin and verdicts
         self.antenna_kw = _antenna_chain_kwargs(antennas, 2)
+        if calibration is not None:  # the calibrated ground is anchored at the band centre: drawn soils over the
+            # band's nodes can make impossible (eps, alpha) pairs, so calibrated maps keep the centre frequency here
+            self.antenna_kw["bandwidth_hz"] = None
         self.n_ant = len(antennas)
         self.kw = {"target": target, "target_depth_m": target_depth_m, "texture": texture, "model": model,
                    "calibration": calibration}
