@@ -9,6 +9,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from example_site import coarse_copy
 
 EXAMPLE = Path(__file__).resolve().parents[2] / "surveys" / "example-site"
 
@@ -16,17 +17,6 @@ EXAMPLE = Path(__file__).resolve().parents[2] / "surveys" / "example-site"
 def run(*args, cwd=None):
     return subprocess.run([sys.executable, "-m", "subsurf", "map", *map(str, args)], capture_output=True,
                           text=True, cwd=cwd, timeout=300)
-
-
-def coarse_copy(tmp_path) -> Path:
-    """The example survey with 6 m cells and 40 draws (fast), reading the example's own inputs."""
-    text = (EXAMPLE / "survey.toml").read_text()
-    for name in ("outline.geojson", "samples.csv", "zones.geojson", "ground_temperature.nc"):
-        text = text.replace(f'"{name}"', f'"{(EXAMPLE / name).as_posix()}"')
-    text = text.replace('cell_size = "2 m"', 'cell_size = "6 m"').replace("draws = 200", "draws = 40")
-    p = tmp_path / "coarse.toml"
-    p.write_text(text)
-    return p
 
 
 @pytest.fixture(scope="module")

@@ -18,6 +18,7 @@ from pathlib import Path
 
 import jsonschema
 import pytest
+from example_site import coarse_copy
 
 ROOT = Path(__file__).resolve().parents[2]
 SCHEMAS = ROOT / "docs" / "schemas"
@@ -30,17 +31,6 @@ PIPE = ("--target", "line", "--depth", "1.2", "--size", "15 cm", "--material", "
 def run(*args, cwd):
     return subprocess.run([sys.executable, "-m", "subsurf", *map(str, args), "--json", "--quiet"],
                           capture_output=True, text=True, cwd=cwd, timeout=300)
-
-
-def _coarse_survey(tmp: Path) -> Path:
-    """The example survey with 6 m cells and 40 draws (fast), reading the example's own inputs."""
-    text = (EXAMPLE / "survey.toml").read_text()
-    for name in ("outline.geojson", "samples.csv", "zones.geojson", "ground_temperature.nc"):
-        text = text.replace(f'"{name}"', f'"{(EXAMPLE / name).as_posix()}"')
-    text = text.replace('cell_size = "2 m"', 'cell_size = "6 m"').replace("draws = 200", "draws = 40")
-    p = tmp / "coarse.toml"
-    p.write_text(text)
-    return p
 
 
 #: case -> (command, arguments); {tmp} and {survey} are filled in per run
@@ -85,7 +75,7 @@ def schema(command: str) -> dict:
 @pytest.fixture(scope="module")
 def workdir(tmp_path_factory):
     tmp = tmp_path_factory.mktemp("json-schemas")
-    return tmp, _coarse_survey(tmp)
+    return tmp, coarse_copy(tmp)
 
 
 @pytest.fixture(scope="module")

@@ -11,25 +11,15 @@ from __future__ import annotations
 from pathlib import Path
 
 import pytest
+from example_site import coarse_copy
 from figure_layout import layout_problems
 
 EXAMPLE = Path(__file__).resolve().parents[2] / "surveys" / "example-site"
 
 
-def _coarse_copy(tmp_path) -> Path:
-    """The example survey with 6 m cells and 40 draws (fast), reading the example's own inputs."""
-    text = (EXAMPLE / "survey.toml").read_text()
-    for name in ("outline.geojson", "samples.csv", "zones.geojson", "ground_temperature.nc"):
-        text = text.replace(f'"{name}"', f'"{(EXAMPLE / name).as_posix()}"')
-    text = text.replace('cell_size = "2 m"', 'cell_size = "6 m"').replace("draws = 200", "draws = 40")
-    p = tmp_path / "coarse.toml"
-    p.write_text(text)
-    return p
-
-
 @pytest.fixture(scope="module")
 def survey_path(tmp_path_factory):
-    return _coarse_copy(tmp_path_factory.mktemp("layout"))
+    return coarse_copy(tmp_path_factory.mktemp("layout"))
 
 
 @pytest.fixture(scope="module")
