@@ -191,7 +191,11 @@ def fit_flags(names, values, covariance, *, relative_se_limit: float = RELATIVE_
     for name, v, s in zip(names, values, se):
         if name in positions:
             continue
-        if v != 0 and s > relative_se_limit * abs(v):
+        if v != 0 and s >= abs(v):
+            places = max(0, 1 - int(np.floor(np.log10(s))))  # two significant digits of the error
+            flags.append(f"{name} poorly constrained: {v:.{places}f} ± {s:.{places}f}, not distinguishable from 0 "
+                         f"(standard error above the value itself; limit {relative_se_limit:.0%} of it)")
+        elif v != 0 and s > relative_se_limit * abs(v):
             flags.append(f"{name} poorly constrained: standard error {s / abs(v):.0%} of its value "
                          f"(limit {relative_se_limit:.0%})")
         elif v == 0 and s > 0:

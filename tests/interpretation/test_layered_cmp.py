@@ -100,6 +100,13 @@ def test_flags_relative_error_and_correlation():
     assert any("x0 and depth strongly correlated (+0.990" in f for f in flags)
 
 
+def test_flag_for_a_value_inside_its_own_error_says_zero_not_a_percentage():
+    """0.001 ± 0.13 is reported as not distinguishable from 0, not as a 13000 % error."""
+    flags = fit_flags(["radius"], [0.001], np.array([[0.13**2]]))
+    assert flags == ["radius poorly constrained: 0.00 ± 0.13, not distinguishable from 0 "
+                     "(standard error above the value itself; limit 20% of it)"]
+
+
 def test_fitted_radius_of_point_diffractor_is_flagged():
     """Fitting a radius to noisy point-diffractor picks is flagged as poorly constrained (issue 13)."""
     rng = np.random.default_rng(7)
