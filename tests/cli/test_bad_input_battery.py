@@ -1,15 +1,24 @@
-"""A battery of bad inputs and faults, run as a careless or unlucky user would (as subprocesses).
+"""A battery of bad inputs and faults, run as a careless or unlucky user would (each in its own process).
 
 Every case must end with its exit code, exactly one line on stderr naming the offending
 file, flag or value, no traceback, no new file anywhere in the workspace (or on the
 special mounts) and every pre-existing file byte-identical.  The cases run concurrently
-(a few subprocesses at once) in a module fixture; each test then checks one case.
+(a few processes at once) in a module fixture; each test then checks one case.
+
+The cases in ``REAL`` (at least one per command, the top-level usage errors and the
+``--json`` errors) run as genuine ``python -m subsurf`` subprocesses; the others run as
+forks of a warm interpreter (tests/cli/warm_runner.py: a real process with its own working
+folder, descriptors and exit status, without the interpreter start-up and imports, which
+cost ~1.2 s of CPU per case and ~250 s for the battery).  The checks are the same for
+both.  ``python -m pytest -m slow`` runs every case as a genuine subprocess as well
+(``test_bad_input_as_subprocess``); so does the default test with SUBSURF_BATTERY_REAL=1.
 """
 
 from __future__ import annotations
 
 import json
 import os
+import queue
 import shutil
 import tempfile
 from concurrent.futures import ThreadPoolExecutor
@@ -17,6 +26,7 @@ from pathlib import Path
 
 import pytest
 from battery_support import C, check_failure, fingerprint, make_workspace, run_subsurf, special_mounts
+from warm_runner import WarmRunner
 
 HYP = "picks/fictional_hyperbolas.csv"
 UTIL = "picks/fictional_utility_picks.csv"
@@ -329,14 +339,30 @@ CASES_ALL = [
 ]
 
 
+#: cases run as genuine ``python -m subsurf`` subprocesses (the rest as forks of a warm interpreter): the
+#: top-level usage errors, the --json errors and, per command, a case where the file system refuses or protects
+REAL = {
+    "no-such-command", "unknown-global-flag",
+    "map-missing-survey-json", "medium-soil-folder-json", "depth-error-json", "map-error-json",
+    "medium-soil-not-utf8", "choose-catalogue-not-utf8", "setup-stacks-1e20", "depth-out-dangling-link-force",
+    "depth-out-read-only", "velocity-figure-ok-json-blocked", "calibrate-profile-not-netcdf",
+    "map-out-earlier-output", "map-out-full-disk", "region-out-exists", "report-out-exists",
+    "demo-out-foreign-folder-force",
+}
+
 #: the cases to run (all; SUBSURF_BATTERY_ONLY=text narrows them to ids containing it, while debugging)
 CASES = [c for c in CASES_ALL if os.environ.get("SUBSURF_BATTERY_ONLY", "") in c.id]
 
 
-@pytest.fixture(scope="module")
-def battery():
+def _run_battery(*, all_real: bool) -> dict:
     """Run every case (three at a time), each in its own fresh workspace; results by case id."""
     results = {}
+    runners: queue.Queue = queue.Queue()
+    made: list[WarmRunner] = []
+    warm_cases = 0 if all_real else sum(c.id not in REAL for c in CASES)
+    for _ in range(min(2, warm_cases)):  # two warm interpreters: one per core
+        made.append(WarmRunner())
+        runners.put(made[-1])
     with special_mounts() as (mounts, reasons):
         base = Path(tempfile.mkdtemp(prefix="subsurf-battery-"))
         try:
@@ -354,7 +380,14 @@ def battery():
                 argv = [_fill(a, sub) for a in case.argv]
                 watched = [ws, *mounts.values()]
                 before = fingerprint(*watched)
-                proc = run_subsurf(argv, ws)
+                if all_real or case.id in REAL:
+                    proc = run_subsurf(argv, ws)
+                else:
+                    runner = runners.get()
+                    try:
+                        proc = runner.run(argv, ws)
+                    finally:
+                        runners.put(runner)
                 after = fingerprint(*watched)
                 case_filled = type(case)(case.id, argv, case.code, tuple(_fill(n, sub) for n in case.names))
                 return case.id, ("ran", (check_failure(case_filled, proc, before, after), proc))
@@ -363,7 +396,22 @@ def battery():
                 results = dict(pool.map(one, CASES))
         finally:
             shutil.rmtree(base, ignore_errors=True)
+            for r in made:
+                r.close()
     return results
+
+
+@pytest.fixture(scope="module")
+def battery():
+    """Every case once: the REAL ones as subprocesses, the rest as warm forks (all subprocesses with
+    SUBSURF_BATTERY_REAL=1)."""
+    return _run_battery(all_real=os.environ.get("SUBSURF_BATTERY_REAL") == "1")
+
+
+@pytest.fixture(scope="module")
+def battery_real():
+    """Every case once as a genuine ``python -m subsurf`` subprocess."""
+    return _run_battery(all_real=True)
 
 
 def _fill(text: str, sub: dict) -> str:
@@ -380,12 +428,27 @@ def test_battery_is_large_enough():
     assert len({c.id for c in CASES_ALL}) == len(CASES_ALL)
     covered = {c.argv[0] for c in CASES_ALL}
     assert set(COMMANDS) <= covered, set(COMMANDS) - covered
+    ids = {c.id for c in CASES_ALL}
+    assert REAL <= ids, REAL - ids
+    real = {c.argv[0] for c in CASES_ALL if c.id in REAL and not c.needs}  # a real subprocess per command, root or not
+    assert set(COMMANDS) <= real, set(COMMANDS) - real
 
 
 @pytest.mark.parametrize("case", CASES, ids=[c.id for c in CASES])
 def test_bad_input(battery, case):
     """Exit code, one line, no traceback, the offending thing named, nothing new, nothing changed."""
-    status, detail = battery[case.id]
+    _check(battery, case)
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("case", CASES, ids=[c.id for c in CASES])
+def test_bad_input_as_subprocess(battery_real, case):
+    """The same checks, every case as a genuine ``python -m subsurf`` subprocess (interpreter start-up included)."""
+    _check(battery_real, case)
+
+
+def _check(results, case):
+    status, detail = results[case.id]
     if status == "skip":
         pytest.skip(detail)
     problems, proc = detail
