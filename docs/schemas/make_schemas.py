@@ -586,12 +586,33 @@ def region_schema() -> dict:
                           "verdict thresholds"),
         "rows": array(row, "one row per antenna"),
         "no_antenna_marginal_or_better_pct": pct("cells where no antenna has margin >= 0 dB"),
+        "coverage": obj({
+            "cells_with_data_pct": pct("cells of the region with moisture (the rest are empty in the map)"),
+            "default_used_pct": {"type": "object", "description": "per quantity of the file: cells with data "
+                                 "where it was missing and its default was used (%)",
+                                 "additionalProperties": pct("percent of the cells with data")},
+        }, "how much of the region the soil raster covers"),
+        "soil_inputs": obj({
+            "format": text("raster format of --soil", enum=("geotiff", "netcdf")),
+            "quantities": array(obj({
+                "quantity": text("soil quantity"),
+                "read_from": text("the variable or band it was read from"),
+                "units": text("unit of the stored numbers (as stated by the file or --soil-unit)"),
+                "time": text("how a time dimension was reduced ('' without one)"),
+            }, "one quantity read"), "the quantities read from --soil"),
+            "crs": text("CRS of the raster (EPSG code and name, or name)"),
+            "crs_source": text("where the CRS came from"),
+            "gaps": text("what cells lacking a quantity became", enum=("defaults", "empty")),
+            "fill_values": {"type": "object", "description": "value filling each quantity's gaps (defaults)",
+                            "additionalProperties": obj({"value": num("the value, in 'unit'"),
+                                                         "unit": text("its SI unit (UDUNITS)")}, "one default")},
+        }, "what was read from --soil and how"),
         "warnings": WARNINGS,
         "caution": CAUTION,
     }, "subsurf region --json: feasibility over a regional soil raster",
         optional=("soil_write_duration_s", "target", "texture", "soil_model", "scheduler", "tiles", "batch",
                   "cells_with_data", "map_duration_s", "cells_per_second", "thresholds", "rows",
-                  "no_antenna_marginal_or_better_pct"))
+                  "no_antenna_marginal_or_better_pct", "coverage", "soil_inputs"))
 
 
 def calibrate_schema() -> dict:

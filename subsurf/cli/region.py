@@ -1,6 +1,6 @@
 """``subsurf region``: feasibility maps over a whole region, chunk by chunk (dask).
 
-The input is a regional soil raster (NetCDF, read lazily) or a seeded synthetic region
+The input is a regional soil raster (GeoTIFF or NetCDF, read lazily) or a seeded synthetic region
 generated per chunk; the output is a CF NetCDF map written tile by tile, so memory is
 bounded by the chunk size, not by the region.  Needs the ``scale`` extra (dask,
 distributed).
@@ -14,14 +14,34 @@ HELP = "feasibility maps over a regional soil raster (or a synthetic region), ch
 EXAMPLE = """subsurf region --synthetic 4000x3000 --target planar --depth 1.5 --out region-map.nc
 subsurf region --synthetic 20000x20000 --write-soil region-soil.nc
 subsurf region --soil region-soil.nc --target line --depth 1 --size "20 cm" --material metal --out map.nc --chunk 1024
+subsurf region --soil soil.tif --soil-var moisture=1 --soil-var pore_water_ec=EC --soil-unit pore_water_ec=mS/m --target planar --depth 2 --out map.nc
+subsurf region --soil monthly.nc --soil-var moisture=vwc --soil-time 2024-06-01 --target planar --depth 2 --out map.nc
 subsurf region --soil region-soil.nc --target planar --depth 2 --out map.nc --scheduler tcp://scheduler.example.org:8786"""
 
 
 def add_arguments(parser) -> None:
     g = parser.add_argument_group("soil input (one of)")
-    g.add_argument("--soil", metavar="FILE", help="regional soil raster (NetCDF) with variables named as the "
-                   "survey quantities (moisture required; pore_water_ec, clay, sand, salinity, temperature, "
-                   "bulk_density optional), dims y/x, CF grid mapping, 'units' where not SI")
+    g.add_argument("--soil", metavar="FILE", help="regional soil raster, GeoTIFF (bands) or NetCDF (variables), "
+                   "read tile by tile: quantities moisture (required), pore_water_ec, clay, sand, salinity, "
+                   "temperature, bulk_density, found by name (variable name, CF standard_name or band "
+                   "description) or mapped with --soil-var; units from the file (NetCDF 'units', GeoTIFF band "
+                   "unit) or --soil-unit, else SI; CRS from the file or --soil-crs")
+    g.add_argument("--soil-var", action="append", metavar="QUANTITY=NAME", default=[],
+                   help="which variable (NetCDF) or band (GeoTIFF: number or description) holds QUANTITY, "
+                        "e.g. moisture=vwc or pore_water_ec=2 (repeatable)")
+    g.add_argument("--soil-unit", action="append", metavar="QUANTITY=UNIT", default=[],
+                   help="unit of the stored numbers of QUANTITY, overriding the file's, e.g. moisture=%%, "
+                        "pore_water_ec=mS/m (repeatable)")
+    tg = g.add_mutually_exclusive_group()
+    tg.add_argument("--soil-time", metavar="DATE", help="with a time dimension: use the time step nearest DATE "
+                    "(e.g. 2024-06-01)")
+    tg.add_argument("--soil-time-aggregate", choices=["mean", "median", "min", "max"],
+                    help="with a time dimension: combine the time steps (default with several steps: mean, noted)")
+    g.add_argument("--soil-crs", metavar="CRS", help="CRS of --soil (EPSG code or WKT) when the file states none")
+    g.add_argument("--soil-gaps", choices=["defaults", "empty"], default="defaults",
+                   help="cells with moisture but without another quantity of the file: fill it with the texture "
+                        "preset's value (defaults, the default; layer soil_default_used) or leave the cell "
+                        "empty; cells without moisture are always empty")
     g.add_argument("--synthetic", metavar="NXxNY", help="generate a seeded synthetic region of NX by NY cells "
                    "(smooth random moisture, pore-water EC and clay; invented data) instead of reading --soil")
     g.add_argument("--seed", type=int, default=0, help="seed of the synthetic region (default 0)")
@@ -95,7 +115,12 @@ def _check_flags(args) -> None:
     from ..errors import InputError
 
     if (args.soil is None) == (args.synthetic is None):
-        raise InputError("give the soil as exactly one of --soil FILE.nc or --synthetic NXxNY")
+        raise InputError("give the soil as exactly one of --soil FILE (.tif or .nc) or --synthetic NXxNY")
+    soil_flags = [f for f, v in (("--soil-var", args.soil_var), ("--soil-unit", args.soil_unit),
+                                 ("--soil-time", args.soil_time), ("--soil-time-aggregate", args.soil_time_aggregate),
+                                 ("--soil-crs", args.soil_crs)) if v]
+    if soil_flags and args.soil is None:
+        raise InputError(f"{soil_flags[0]} describes the --soil raster; it has no meaning with --synthetic")
     if args.write_soil and not args.synthetic:
         raise InputError("--write-soil writes a synthetic region; use it with --synthetic")
     if not args.out and not args.write_soil:
@@ -111,6 +136,49 @@ def _check_flags(args) -> None:
         raise InputError(f"--nodata-fraction must be between 0 and 0.5, got {args.nodata_fraction:g}")
     if args.out and (args.target is None or args.depth is None):
         raise InputError("a map needs the target: --target planar|point|line and --depth")
+
+
+def _pairs(flag: str, items) -> dict:
+    """``QUANTITY=VALUE`` flags as a dict, refusing malformed or repeated ones."""
+    from ..errors import InputError
+    from ..site.schema import QUANTITIES
+
+    out = {}
+    for item in items:
+        q, sep, value = item.partition("=")
+        q, value = q.strip(), value.strip()
+        if not sep or not q or not value:
+            raise InputError(f"{flag} {item!r}: expected QUANTITY=VALUE, e.g. {flag} moisture=vwc")
+        if q not in QUANTITIES:
+            raise InputError(f"{flag} {item!r}: {q!r} is not a soil quantity; allowed: {', '.join(QUANTITIES)}")
+        if q in out:
+            raise InputError(f"{flag} gives {q} twice ({out[q]!r} and {value!r})")
+        out[q] = value
+    return out
+
+
+def _open_soil(args):
+    from ..site import regional
+
+    crs = None
+    if args.soil_crs:
+        from pyproj import CRS
+        from pyproj.exceptions import CRSError
+
+        from ..errors import InputError
+        from ..site.crs import horizontal_crs_problem
+
+        try:
+            crs = CRS.from_user_input(args.soil_crs)
+        except CRSError:
+            raise InputError(f"--soil-crs: unknown CRS {args.soil_crs[:60]!r}; give an EPSG code such as "
+                             "EPSG:32633 or WKT") from None
+        problem = horizontal_crs_problem(crs, args.soil_crs)
+        if problem:
+            raise InputError(f"--soil-crs: {problem}")
+    return regional.open_region(args.soil, chunk=args.chunk, variables=_pairs("--soil-var", args.soil_var),
+                                units=_pairs("--soil-unit", args.soil_unit), time=args.soil_time,
+                                time_aggregate=args.soil_time_aggregate, crs=crs)
 
 
 def _estimate(args, nx: int, ny: int, n_antennas: int, n_layers: int):
@@ -162,7 +230,7 @@ def run(args) -> int:
             est = _estimate(args, nx, ny, len(antennas), len(layers))
             soil = None
         else:
-            soil = regional.open_region(args.soil, chunk=args.chunk)
+            soil = _open_soil(args)
             ny, nx = soil.sizes["y"], soil.sizes["x"]
             est = _estimate(args, nx, ny, len(antennas), len(layers))
         txn.require_space(est.output_bytes)
@@ -174,6 +242,9 @@ def run(args) -> int:
             source = f"synthetic region {nx}x{ny} cells of {cell:g} m, seed {args.seed} (invented data)"
         else:
             source = str(args.soil)
+        fill = None
+        if args.soil is not None and args.soil_gaps == "defaults":
+            fill = regional.gap_fill_values(args.texture, [q for q in soil.data_vars if q != "crs"])
         payload = {"soil": source, "cells": nx * ny, "shape": {"y": ny, "x": nx}, "chunk": args.chunk,
                    "estimate": {"memory_bytes": est.memory_bytes, "duration_s": est.seconds,
                                 "output_bytes": est.output_bytes}, "outputs": {}}
@@ -187,14 +258,54 @@ def run(args) -> int:
                                       texture=args.texture, model=args.model, layers=layers,
                                       scheduler=args.scheduler, workers=args.workers, batch=args.batch,
                                       float64=args.float64, force=True, quiet=args.quiet or args.json,
-                                      expected_seconds=est.seconds))
+                                      expected_seconds=est.seconds, fill_gaps=fill))
             payload["outputs"]["map"] = str(args.out)
+    if args.soil is not None:
+        from ..site.schema import QUANTITIES
+
+        payload["soil_inputs"] = {"format": soil.attrs["format"], "quantities": soil.attrs["inputs"],
+                                  "crs": _crs_label(soil), "crs_source": soil.attrs["crs_source"],
+                                  "gaps": args.soil_gaps,
+                                  "fill_values": {q: {"value": v, "unit": QUANTITIES[q].si_unit}
+                                                  for q, v in (fill or {}).items()}}
     payload["warnings"] = notes
     payload["caution"] = CAUTION
     print_notes(txn.notes, quiet=args.quiet or args.json)
     print_result(payload, summary_text(payload, args), as_json=args.json)
     print_notes(notes, quiet=args.quiet or args.json)
     return 0
+
+
+def _crs_label(soil) -> str:
+    from pyproj import CRS
+
+    crs = CRS.from_wkt(soil["crs"].attrs["crs_wkt"])
+    code = crs.to_epsg(min_confidence=70)
+    return f"EPSG:{code} ({crs.name})" if code else crs.name
+
+
+def _input_lines(payload: dict, args) -> list[str]:
+    """What was read from --soil, how time and units were handled, and what the gaps became."""
+    from ..site.schema import QUANTITIES
+
+    info = payload["soil_inputs"]
+    lines = [f"CRS: {info['crs']} (from {info['crs_source']})"]
+    for q in info["quantities"]:
+        lines.append(f"  {q['quantity']}: {q['read_from']}, units {q['units']}" + (f", {q['time']}" if q["time"] else ""))
+    absent = [q for q in QUANTITIES if q not in {r["quantity"] for r in info["quantities"]}]
+    if absent:
+        lines.append(f"  not in the file (texture preset {args.texture} or model defaults everywhere): {', '.join(absent)}")
+    if args.out:
+        cov = payload["coverage"]
+        text = (f"Coverage: {cov['cells_with_data_pct']:.1f} % of the cells have moisture; the rest are empty "
+                "(no data) in the map")
+        if info["gaps"] == "defaults" and cov["default_used_pct"]:
+            filled = ", ".join(f"{q} {p:.1f} %" for q, p in cov["default_used_pct"].items())
+            text += f"; filled with defaults where the file lacks them (layer soil_default_used): {filled} of those cells"
+        elif info["gaps"] == "empty":
+            text += "; cells lacking any other quantity of the file are empty too (--soil-gaps empty)"
+        lines.append(text)
+    return lines
 
 
 def summary_text(payload: dict, args) -> str:
@@ -204,6 +315,8 @@ def summary_text(payload: dict, args) -> str:
 
     nx, ny = payload["shape"]["x"], payload["shape"]["y"]
     lines = [f"Soil: {payload['soil']}; {nx} x {ny} = {nx * ny:,} cells, chunk {args.chunk}"]
+    if "soil_inputs" in payload:
+        lines += _input_lines(payload, args)
     if args.write_soil:
         lines.append(f"Wrote synthetic soil raster {args.write_soil} ({payload['soil_write_duration_s']:.1f} s)")
     if args.out:

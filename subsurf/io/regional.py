@@ -46,7 +46,7 @@ def write_region(result, path, *, force: bool = False, batch: int = 4, dtype: st
     """
     from ..detection.verdicts import REACHES_MARGIN_DB
     from ..errors import InputError
-    from ..site.regional import REC_FILL, RegionSummary
+    from ..site.regional import DEFAULT_USED_FILL, REC_FILL, RegionSummary
     from .netcdf import write_netcdf
 
     if dtype not in ("float32", "float64"):
@@ -55,11 +55,15 @@ def write_region(result, path, *, force: bool = False, batch: int = 4, dtype: st
         result = result.chunk({"y": result.sizes["y"], "x": result.sizes["x"]})
     result = result.copy()
     result["recommended_antenna"].encoding["_FillValue"] = REC_FILL
-    summary = RegionSummary(antennas=[str(a) for a in result["antenna"].values])
+    filled = []
+    if "soil_default_used" in result:
+        result["soil_default_used"].encoding["_FillValue"] = DEFAULT_USED_FILL
+        filled = [m.removesuffix("_default") for m in result["soil_default_used"].attrs["flag_meanings"].split()]
+    summary = RegionSummary(antennas=[str(a) for a in result["antenna"].values], filled_names=filled)
 
     def on_tile(blocks):
         summary.add(blocks["max_depth"], blocks["margin_db"], blocks["recommended_antenna"],
-                    reaches_db=REACHES_MARGIN_DB)
+                    reaches_db=REACHES_MARGIN_DB, used=blocks.get("soil_default_used"))
 
     attrs = {"title": "subsurf regional GPR feasibility map", "source": "subsurf.io.regional.write_region"}
     if caution:
@@ -122,7 +126,7 @@ def _tile_bar(quiet: bool, *, long_run: bool = False):
 def map_region(soil, antennas, out, *, target, target_depth_m: float, texture: str, model: str, layers,
                scheduler: str | None = "threads", workers: int | None = None, batch: int | None = None,
                float64: bool = False, force: bool = False, quiet: bool = False,
-               expected_seconds: float = 0.0) -> dict:
+               expected_seconds: float = 0.0, fill_gaps: dict | None = None) -> dict:
     """Evaluate and write the regional map of ``soil`` to ``out``; return what the command reports.
 
     Progress: a bar of tiles on a terminal; without one, a line per tenth of the tiles with
@@ -136,7 +140,9 @@ def map_region(soil, antennas, out, *, target, target_depth_m: float, texture: s
         ``centre_frequency_mhz``, ``reach_pct`` margin ≥ the reach threshold (``reaches``),
         ``marginal_or_better_pct`` margin ≥ 0 dB, ``mean_max_depth_m``, ``recommended_pct``) and
         ``no_antenna_marginal_or_better_pct``, percentages of the cells with soil data (the keys
-        ``subsurf map`` uses for the same quantities).
+        ``subsurf map`` uses for the same quantities); ``coverage``: ``cells_with_data_pct`` of all
+        cells, and per quantity filled with its default (``fill_gaps``) ``default_used_pct`` of
+        the cells with data.
     """
     from ..detection.verdicts import REACHES_MARGIN_DB
     from ..planning.antennas import target_summary
@@ -144,7 +150,7 @@ def map_region(soil, antennas, out, *, target, target_depth_m: float, texture: s
     from .outputs import CAUTION
 
     result = regional.feasibility_region(soil, antennas, target=target, target_depth_m=target_depth_m,
-                                         texture=texture, model=model, layers=layers)
+                                         texture=texture, model=model, layers=layers, fill_gaps=fill_gaps)
     progress, close = _tile_bar(quiet, long_run=expected_seconds > 60)
     t1 = time.perf_counter()
     try:
@@ -169,4 +175,6 @@ def map_region(soil, antennas, out, *, target, target_depth_m: float, texture: s
         "cells_per_second": summary.cells / seconds if seconds > 0 else None,
         "thresholds": {"reaches_margin_db": REACHES_MARGIN_DB, "marginal_margin_db": 0.0},
         "rows": rows, "no_antenna_marginal_or_better_pct": 100 * none,
+        "coverage": {"cells_with_data_pct": 100 * summary.cells_with_data / max(summary.cells, 1),
+                     "default_used_pct": {q: 100 * f for q, f in summary.filled_fractions().items()}},
     }

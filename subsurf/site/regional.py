@@ -30,14 +30,17 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from ..errors import FileInputError, InputError
+from .regional_input import gap_fill_values, open_region  # the input side; re-exported (public here)
 
 __all__ = [
     "ALWAYS_LAYERS",
     "OPTIONAL_LAYERS",
     "open_region",
+    "gap_fill_values",
     "feasibility_region",
     "RegionSummary",
     "REC_FILL",
+    "DEFAULT_USED_FILL",
     "scheduler",
     "chain_antennas",
 ]
@@ -49,106 +52,8 @@ OPTIONAL_LAYERS = ("velocity", "attenuation_db_per_m", "eps_real", "eps_imag", "
 
 #: ``recommended_antenna`` where a cell has no soil data
 REC_FILL = np.int16(-32768)
-
-
-# --- input ------------------------------------------------------------------------------
-
-def _udunits_to_pint(unit: str) -> str:
-    """CF/UDUNITS products with signed exponents ("S m-1", "kg m-3") as pint text ("S/m", "kg/m**3")."""
-    import re
-
-    num, den = [], []
-    for tok in unit.split():
-        m = re.fullmatch(r"([A-Za-z%]+)(-?\d+)?", tok)
-        if not m:
-            return unit
-        base, exp = m.group(1), int(m.group(2) or 1)
-        (den if exp < 0 else num).append(base if abs(exp) == 1 else f"{base}**{abs(exp)}")
-    if not den:
-        return unit
-    return "*".join(num or ["1"]) + "/" + "/".join(den)
-
-
-def _unit_conversion(unit: str, quantity: str, *, path) -> tuple[float, float]:
-    """(factor, offset) taking raster values in ``unit`` to SI for ``quantity``."""
-    from ..units import parse_quantity
-    from .survey import QUANTITIES
-
-    q = QUANTITIES[quantity]
-    unit = _udunits_to_pint(unit)
-    if unit in ("", "1", _udunits_to_pint(q.si_unit)) or (q.si_unit == "1" and unit in ("m3 m-3", "m3/m3", "fraction")):
-        return 1.0, 0.0
-    try:
-        one = parse_quantity(f"1 {unit}", q.kind, default_unit=unit, name="units")
-        zero = parse_quantity(f"0 {unit}", q.kind, default_unit=unit, name="units")
-    except InputError:
-        raise FileInputError(path, f"cannot read units {unit!r} as a {q.kind}", field=quantity) from None
-    return one - zero, zero
-
-
-def open_region(path, *, chunk: int = 512, quantities=None):
-    """Open a regional soil raster (NetCDF) lazily, in ``chunk`` × ``chunk`` cell tiles.
-
-    Parameters
-    ----------
-    path : path-like
-        NetCDF file with 2-D variables named as the survey quantities
-        (:data:`subsurf.survey.QUANTITIES`: ``moisture`` required, ``pore_water_ec``,
-        ``salinity``, ``clay``, ``sand``, ``temperature``, ``bulk_density`` optional),
-        dims (y, x) (or lat/lon ...), a ``units`` attribute where not SI, and a CF
-        grid-mapping variable giving the CRS.
-    chunk : int
-        Tile edge in cells.
-    quantities : sequence of str, optional
-        Quantities to use (default: every quantity found).
-
-    Returns
-    -------
-    xarray.Dataset
-        Dask-backed, dims renamed to (y, x), values converted to SI (lazily), plus the
-        grid-mapping variable ``crs`` when the file has one.
-    """
-    import xarray as xr
-
-    from .survey import QUANTITIES, _raster_dims
-
-    path = os.fspath(path)
-    if not os.path.exists(path):
-        raise FileInputError(path, "regional soil raster not found")
-    if int(chunk) < 16:
-        raise InputError(f"chunk must be at least 16 cells, got {chunk}")
-    from ..io.netcdf import limit_read_chunk_cache
-
-    try:
-        # netCDF-C's default 64 MiB cache per variable would grow with the region read tile by tile
-        limit_read_chunk_cache(path, int(chunk))
-        ds = xr.open_dataset(path, chunks={}, engine="netcdf4")
-    except (OSError, ValueError) as exc:
-        raise FileInputError(path, f"cannot read as NetCDF: {exc}") from None
-    names = [q for q in QUANTITIES if q in ds.data_vars] if quantities is None else list(quantities)
-    missing = [q for q in names if q not in ds.data_vars]
-    if missing or "moisture" not in names:
-        need = missing[0] if missing else "moisture"
-        raise FileInputError(path, f"no variable {need!r} (variables: {', '.join(map(str, ds.data_vars))}); "
-                             f"soil variables are named {', '.join(QUANTITIES)}", field=need)
-    xdim, ydim = _raster_dims(ds[names[0]], path=path)
-    out = {}
-    gm_name = ds[names[0]].attrs.get("grid_mapping") or ds[names[0]].encoding.get("grid_mapping")
-    for q in names:
-        da = ds[q]
-        if set(da.dims) != {xdim, ydim}:
-            raise FileInputError(path, f"variable {q!r} has dims {da.dims}, expected ({ydim}, {xdim})", field=q)
-        da = da.transpose(ydim, xdim).rename({xdim: "x", ydim: "y"}).chunk({"y": int(chunk), "x": int(chunk)})
-        factor, offset = _unit_conversion(str(da.attrs.get("units", "")).strip(), q, path=path)
-        if (factor, offset) != (1.0, 0.0):
-            da = da * factor + offset
-        da.attrs = {"long_name": QUANTITIES[q].long_name, "units": QUANTITIES[q].si_unit, "grid_mapping": "crs"}
-        out[q] = da.astype(float)
-    result = xr.Dataset(out)
-    if gm_name and gm_name in ds:
-        result["crs"] = ((), np.int32(0), dict(ds[gm_name].attrs))
-    result.attrs = {"source": path}
-    return result
+#: ``soil_default_used`` where a cell has no moisture (no soil data)
+DEFAULT_USED_FILL = np.int8(-1)
 
 
 # --- the chain on chunks ----------------------------------------------------------------
@@ -182,12 +87,31 @@ def _check_block_ranges(values: dict, source: str):
                                  f"{lo:g} to {hi:g} {QUANTITIES[q].si_unit}; check the variable's units", field=q)
 
 
-def _chain_block(*arrays, names, antennas, target, target_depth_m, texture, model, layers, source):
+def _fill_block(values: dict, fill: dict):
+    """Fill the gaps of the quantities in ``fill`` where moisture is known; the bitmask of what was filled.
+
+    Bit k (value 2**k) is set where the k-th quantity of ``fill`` was missing; -1 where moisture is.
+    """
+    known = np.isfinite(values["moisture"])
+    used = np.zeros(known.shape, np.int8)
+    out = dict(values)
+    for k, (q, v) in enumerate(fill.items()):
+        gap = known & ~np.isfinite(values[q])
+        if np.any(gap):
+            out[q] = np.where(gap, v, values[q])
+            used |= (gap.astype(np.int8) << k)
+    return out, np.where(known, used, np.int8(DEFAULT_USED_FILL)).astype(np.int8)
+
+
+def _chain_block(*arrays, names, antennas, target, target_depth_m, texture, model, layers, source, fill=None):
     """The feasibility chain on one tile; outputs with the antenna axis last (apply_ufunc's core dim)."""
     from .feasibility import evaluate, recommend_antenna
 
     values = dict(zip(names, arrays))
     _check_block_ranges(values, source)
+    used = None
+    if fill:
+        values, used = _fill_block(values, fill)
     res = evaluate(values, antennas, target=target, target_depth_m=target_depth_m, texture=texture, model=model)
     rec = recommend_antenna(res["margin_db"], [a.centre_freq_hz for a in antennas], too_shallow=res.get("too_shallow"))
     rec = np.where(np.isfinite(res["margin_db"][0]), rec, REC_FILL).astype(np.int16)
@@ -195,11 +119,11 @@ def _chain_block(*arrays, names, antennas, target, target_depth_m, texture, mode
     for name in layers:
         v = res[name]
         outs.append(v[0] if name == "sigma" else np.moveaxis(v, 0, -1))
-    return (*outs, rec)
+    return (*outs, rec) if used is None else (*outs, rec, used)
 
 
 def feasibility_region(soil, antennas, *, target, target_depth_m: float, texture: str | None = None,
-                       model: str = "crim", layers=("velocity", "attenuation_db_per_m")):
+                       model: str = "crim", layers=("velocity", "attenuation_db_per_m"), fill_gaps: dict | None = None):
     """The feasibility chain over a (dask-backed) soil Dataset, lazily.
 
     Parameters
@@ -215,6 +139,11 @@ def feasibility_region(soil, antennas, *, target, target_depth_m: float, texture
         As for :func:`subsurf.feasibility.evaluate`.
     layers : sequence of str
         Layers besides :data:`ALWAYS_LAYERS`, from :data:`OPTIONAL_LAYERS`.
+    fill_gaps : dict, optional
+        ``{quantity: SI value}`` (e.g. :func:`gap_fill_values`) filling the cells where that
+        quantity is missing but moisture is known; without it such cells have no data.
+        With it the output has a ``soil_default_used`` layer (CF flag_masks, one bit per
+        quantity; -1 where there is no moisture).
 
     Returns
     -------
@@ -241,17 +170,30 @@ def feasibility_region(soil, antennas, *, target, target_depth_m: float, texture
         raise InputError("the soil dataset needs a 'moisture' variable")
     chain_ants = chain_antennas(antennas, band_resolution="vertical_resolution" in layers)
     n_ant = len(chain_ants)
-    core = [[] if name == "sigma" else ["antenna"] for name in layers] + [[]]
-    dtypes = [float] * len(layers) + [np.int16]
+    fill = {q: float(v) for q, v in (fill_gaps or {}).items() if q in names and q != "moisture"}
+    core = [[] if name == "sigma" else ["antenna"] for name in layers] + [[]] + ([[]] if fill else [])
+    dtypes = [float] * len(layers) + [np.int16] + ([np.int8] if fill else [])
     results = xr.apply_ufunc(
         _chain_block, *(soil[q] for q in names),
         kwargs={"names": names, "antennas": chain_ants, "target": target, "target_depth_m": float(target_depth_m),
                 "texture": texture, "model": model, "layers": layers,
-                "source": str(soil.attrs.get("source", "soil raster"))},
-        output_core_dims=core, dask="parallelized", output_dtypes=dtypes,
+                "source": str(soil.attrs.get("source", "soil raster")), "fill": fill},
+        output_core_dims=core, dask="parallelized", output_dtypes=dtypes, keep_attrs=False,
         dask_gufunc_kwargs={"output_sizes": {"antenna": n_ant}},
     )
     out = xr.Dataset()
+    if fill:
+        *results, used = results
+        out["soil_default_used"] = used.assign_attrs({
+            "long_name": "soil quantities missing from the raster here, filled with the default",
+            "flag_masks": np.array([1 << k for k in range(len(fill))], np.int8),
+            "flag_meanings": " ".join(f"{q}_default" for q in fill),
+            "grid_mapping": "crs",
+            "comment": "defaults: " + "; ".join(f"{q} {v:g} {QUANTITIES[q].si_unit}" for q, v in fill.items())
+                       + f" (texture preset {texture or 'none'}, ground-model defaults); 0 where the raster gave "
+                       "every quantity",
+        })
+        out["soil_default_used"].encoding["_FillValue"] = DEFAULT_USED_FILL
     for name, da in zip(layers, results[:-1]):
         if "antenna" in da.dims:
             da = da.transpose("antenna", "y", "x")
@@ -367,6 +309,8 @@ class RegionSummary:
     depth_sum: np.ndarray = field(default=None)
     recommended: np.ndarray = field(default=None)  # counts: index 0 = none reaches, i+1 = antenna i
     tiles: int = 0
+    filled_names: list = field(default_factory=list)  # quantities of the soil_default_used bits
+    filled: np.ndarray = field(default=None)  # cells where each was filled with its default
 
     def __post_init__(self):
         n = len(self.antennas)
@@ -374,8 +318,9 @@ class RegionSummary:
         self.reach_with_headroom = np.zeros(n, np.int64)
         self.depth_sum = np.zeros(n)
         self.recommended = np.zeros(n + 1, np.int64)
+        self.filled = np.zeros(len(self.filled_names), np.int64)
 
-    def add(self, max_depth, margin, rec, *, reaches_db: float):
+    def add(self, max_depth, margin, rec, *, reaches_db: float, used=None):
         valid = rec != REC_FILL
         self.cells += rec.size
         self.cells_with_data += int(valid.sum())
@@ -383,7 +328,17 @@ class RegionSummary:
         self.reach_with_headroom += np.count_nonzero((margin >= reaches_db) & valid, axis=(1, 2))
         self.depth_sum += np.where(valid, max_depth, 0.0).sum(axis=(1, 2))
         self.recommended += np.bincount(rec[valid].astype(np.int64) + 1, minlength=self.recommended.size)
+        if used is not None:
+            u = np.asarray(used)
+            u = u[u >= 0]
+            for k in range(len(self.filled_names)):
+                self.filled[k] += np.count_nonzero(u & (1 << k))
         self.tiles += 1
+
+    def filled_fractions(self) -> dict:
+        """Fraction of the cells with soil data where each quantity was filled with its default."""
+        n = max(self.cells_with_data, 1)
+        return {q: self.filled[k] / n for k, q in enumerate(self.filled_names)}
 
     def rows(self) -> list[dict]:
         n = max(self.cells_with_data, 1)

@@ -136,6 +136,29 @@ def make_workspace(ws: Path) -> None:
     (ws / "earlier_map").mkdir()
     (ws / "earlier_map" / "feasibility.nc").write_bytes(b"an earlier map (stand-in)\n")
     os.symlink("nowhere.csv", ws / "dangling.csv")
+    _region_rasters(ws)
+
+
+def _region_rasters(ws: Path) -> None:
+    """Soil rasters for `region --soil` written by rasterio and netCDF4 (independent writers), good and bad."""
+    import netCDF4
+    import numpy as np
+    import rasterio
+    from rasterio.transform import from_origin
+
+    a = np.full((3, 24, 32), 0.2, np.float32)
+    profile = {"driver": "GTiff", "width": 32, "height": 24, "dtype": "float32", "crs": "EPSG:32633",
+               "transform": from_origin(500000, 5800000, 25, 25)}
+    with rasterio.open(ws / "region3.tif", "w", count=3, **profile) as dst:  # three undescribed bands
+        dst.write(a)
+    with rasterio.open(ws / "region1.tif", "w", count=1, **profile) as dst:  # one band: moisture
+        dst.write(a[:1])
+    (ws / "broken.tif").write_text("not a GeoTIFF\n")
+    with netCDF4.Dataset(ws / "region_nocrs.nc", "w") as nc:  # x/y in metres, no grid mapping
+        for d, n in (("y", 24), ("x", 32)):
+            nc.createDimension(d, n)
+            nc.createVariable(d, "f8", (d,))[:] = 25.0 * np.arange(n)
+        nc.createVariable("moisture", "f4", ("y", "x"))[:] = a[0]
 
 
 def _in_flight(path: Path) -> bool:
