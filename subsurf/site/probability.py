@@ -10,22 +10,20 @@ margin is at least T outside the blind zone, T the one threshold of every subsur
 shifted margin (margin − T), so P(M ≥ 0) is the probability of reaching.  It is
 estimated per cell and antenna by one of two methods:
 
-``"linearised"`` (first-order second-moment, the delta method)
-    M is evaluated at the centre and at ±h standard deviations along each uncertain
-    quantity (2k + 1 chain evaluations for k uncertain quantities); with the central
-    difference slopes g_i and curvatures c_i,
-
-        p₁ = Φ(M₀ / s₁),   s₁² = Σ g_i²,
-
-    and its error is estimated as |p₁ − p₂| (p₂ from the second-order moments,
-    mean M₀ + Σ c_i and variance s₁² + 2 Σ c_i² of the diagonal quadratic model)
-    plus the probability put at stake by clipping (the mass of each quantity's normal
-    beyond its range, times the largest change the linear model could make there).
+``"linearised"`` (first-order second-moment, the delta method, :mod:`subsurf.site.first_order`)
+    M and the blind-zone slack S (target depth − blind-zone depth, which moves with the
+    drawn velocity) are evaluated at the centre and at ±h standard deviations along each
+    uncertain quantity (2k + 1 chain evaluations for k uncertain quantities); with the
+    central-difference slopes of both, P(M ≥ 0, S ≥ 0) is the bivariate normal probability
+    of the two linear models, and its error is estimated as its difference from the same
+    probability with the second-order moments of the diagonal quadratic models, plus the
+    probability that clipping a quantity to its range changes either event.
 ``"sampling"`` (Monte Carlo)
     ``draws`` draws per cell; the standard error is √(p(1 − p)/N).
 ``"auto"`` (default)
-    the linearised estimate wherever its estimated error is at most ``tolerance``,
-    sampling elsewhere (where clipping or nonlinearity matter).
+    the linearised estimate wherever its estimated error is at most ``tolerance`` or at most
+    the standard error √(max(p(1 − p), 1/N)/N) that sampling with N = ``draws`` would have;
+    sampling elsewhere (where clipping or nonlinearity matter more than N draws' noise).
 
 The Monte Carlo normals are keyed per tile of :data:`TILE_CELLS` consecutive cells of
 the flattened grid: tile ``j`` draws its normals from
@@ -54,6 +52,7 @@ import numpy as np
 
 from ..errors import InputError, SubsurfError
 from .draws import _LOGNORMAL, TILE_CELLS, _lognormal, _tile_normals, _truncated  # noqa: F401  (tests use them here)
+from .first_order import _bivariate_normal_cdf, _clip_bound, linearised  # noqa: F401  (tests use them here)
 
 __all__ = ["ReachProbability", "reach_probability", "TILE_CELLS", "DEFAULT_TOLERANCE", "STEP_SD"]
 
@@ -105,12 +104,6 @@ class ReachProbability:
         return float(np.count_nonzero(self.sampled & ok) / max(np.count_nonzero(ok), 1))
 
 
-def _normal_cdf(x):
-    from scipy.special import ndtr
-
-    return ndtr(x)
-
-
 class _Problem:
     """The flattened inputs and the margin function M(x) of a reach-probability call."""
 
@@ -146,22 +139,47 @@ class _Problem:
                    "calibration": calibration}
         self.reaches_db = float(reaches_db)
 
-    def margins(self, fields, *, with_slack: bool = False):
-        """Margin above the reach threshold (dB) of every antenna, shape (n_antennas, m, c), for fields of
-        shape (m, c); the antenna reaches the target where it is >= 0."""
+    def draw(self, q: str, cells, z):
+        """Values of uncertain quantity ``q`` at ``cells`` for standard normals ``z`` (broadcast against
+        (…, cells)): the truncated-normal or log-normal map the Monte Carlo draws with."""
+        draw = _lognormal if q in _LOGNORMAL else _truncated
+        return draw(self.flat[q][cells][None, :], self.sd[q][cells][None, :], z, self.low[q],
+                    self.high[q][cells][None, :])
+
+    def _chain(self, fields):
         from .feasibility import _chain_kwargs, _clip_moisture, feasibility_chain
         from .survey import QUANTITIES
 
         clipped = {k: np.clip(v, QUANTITIES[k].low, QUANTITIES[k].high) for k, v in fields.items()}
         clipped = _clip_moisture(clipped, texture=self.kw["texture"])
         try:
-            out = feasibility_chain(**self.antenna_kw, margin_only=True, **self.kw, **_chain_kwargs(clipped))
+            return feasibility_chain(**self.antenna_kw, margin_only=True, **self.kw, **_chain_kwargs(clipped))
         except SubsurfError as exc:
             raise InputError(f"draws of the soil inputs are not physically possible: {exc}") from None
+
+    def margins(self, fields):
+        """Margin above the reach threshold (dB) of every antenna, shape (n_antennas, m, c), for fields of
+        shape (m, c); −inf inside the blind zone: the antenna reaches the target where it is >= 0."""
+        out = self._chain(fields)
         # inside the antenna's blind zone the target is not seen, whatever the margin (as recommend_antenna)
-        # M − T: the antenna reaches the target where this is >= 0
-        m = np.where(out["too_shallow"], -np.inf, out["margin_db"] - self.reaches_db)
-        return (m, out["blind_zone_slack_m"]) if with_slack else m
+        return np.where(out["too_shallow"], -np.inf, out["margin_db"] - self.reaches_db)
+
+    def margin_and_slack(self, fields):
+        """The two limit states of the first-order estimate, each (n_antennas, m, c); reached where both >= 0.
+
+        The margin above the threshold (dB, as if there were no blind zone) and the blind zone as the
+        ratio vτ*/vτ − 1 (dimensionless): d_min = ½√(vτ(2x + vτ)) (detection.blindzone) is below the
+        target depth d exactly when vτ ≤ vτ* = √(x² + 4d²) − x, so this is the same event as
+        d − d_min ≥ 0, but proportional to the slowness 1/v, which the soil quantities move almost
+        linearly (√ε' is linear in moisture under CRIM), where d_min itself is convex in them.
+        """
+        out = self._chain(fields)
+        x = np.asarray(self.antenna_kw["separation_m"], float).reshape((-1, 1, 1))
+        d = float(self.kw["target_depth_m"])
+        d_min = d - out["blind_zone_slack_m"]
+        with np.errstate(divide="ignore", invalid="ignore"):
+            ratio = (np.sqrt(x * x + 4.0 * d * d) - x) / (np.sqrt(x * x + 4.0 * d_min * d_min) - x) - 1.0
+        return out["margin_db"] - self.reaches_db, ratio
 
 
 def _blocks(cells: np.ndarray, per_cell: int):
@@ -169,114 +187,6 @@ def _blocks(cells: np.ndarray, per_cell: int):
     size = max(1, BLOCK_ELEMENTS // max(per_cell, 1))
     for start in range(0, cells.size, size):
         yield cells[start:start + size]
-
-
-def _linearised(prob: _Problem, cells: np.ndarray, h: float):
-    """First-order probability and its estimated error at ``cells`` (flat indices)."""
-    k = len(prob.uncertain)
-    p1 = np.empty((prob.n_ant, cells.size))
-    err = np.empty_like(p1)
-    done = 0
-    for blk in _blocks(cells, prob.n_ant * (2 * k + 1)):
-        # evaluation points on the first axis: centre, then +h, -h for each uncertain quantity
-        fields = {}
-        for q, v in prob.flat.items():
-            pts = np.repeat(v[blk][None, :], 2 * k + 1, axis=0)
-            if q in prob.uncertain:
-                i = prob.uncertain.index(q)
-                step = h * prob.sd[q][blk]
-                pts[1 + 2 * i] += step
-                pts[2 + 2 * i] -= step
-            fields[q] = pts
-        m, slack = prob.margins(fields, with_slack=True)
-        # a stencil point in the blind zone (margin -inf): no linear model; 'auto' samples these cells
-        kinked = ~np.all(np.isfinite(m), axis=1)
-        # the blind zone is a step the linear model of M cannot see: the probability of entering it (the
-        # depth's slack below the blind zone, linearised on the same stencil) is put at stake and added
-        # to the estimated error, so 'auto' samples cells near its edge
-        s_up, s_dn = slack[:, 1::2], slack[:, 2::2]
-        s_g = np.sqrt(np.sum(((s_up - s_dn) / (2.0 * h)) ** 2, axis=1))
-        with np.errstate(divide="ignore", invalid="ignore"):
-            p_blind = np.where(s_g > 0, _normal_cdf(-slack[:, 0] / s_g), (slack[:, 0] < 0).astype(float))
-        centre_reaches = (m[:, 0] >= 0).astype(float)
-        m = np.where(np.isfinite(m), m, 0.0)
-        m0 = m[:, 0]
-        up, dn = m[:, 1::2], m[:, 2::2]
-        g = (up - dn) / (2.0 * h)                      # dM/dz_i
-        c = (up + dn - 2.0 * m0[:, None]) / (2.0 * h * h)  # ½ d²M/dz_i²
-        var1 = np.sum(g * g, axis=1)
-        s1 = np.sqrt(var1)
-        with np.errstate(divide="ignore", invalid="ignore"):
-            first = np.where(s1 > 0, _normal_cdf(m0 / s1), (m0 >= 0).astype(float))
-            mean2 = m0 + np.sum(c, axis=1)
-            s2 = np.sqrt(var1 + 2.0 * np.sum(c * c, axis=1))
-            second = np.where(s2 > 0, _normal_cdf(mean2 / s2), (mean2 >= 0).astype(float))
-        e = np.abs(first - second)
-        for i, q in enumerate(prob.uncertain):
-            e = e + _clip_bound(prob, q, blk, m0, g[:, i], var1)
-        p_blind = np.where(np.isfinite(p_blind), p_blind, 1.0)
-        first, e = first * (1.0 - p_blind), e + p_blind  # not reached inside the blind zone (independence assumed)
-        first = np.where(kinked, centre_reaches, first)
-        e = np.where(kinked | ~np.isfinite(e), 1.0, e)
-        n = blk.size
-        p1[:, done:done + n], err[:, done:done + n] = first, e
-        done += n
-    return p1, err
-
-
-def _bivariate_normal_cdf(h, k, rho):
-    """Φ₂(h, k; ρ) = P(X ≤ h, Y ≤ k) for standard normals of correlation ρ (|ρ| < 1), by Owen's T.
-
-    Owen (1956): Φ₂ = ½Φ(h) + ½Φ(k) − T(h, a_h) − T(k, a_k) − β, with
-    a_h = (k − ρh)/(h√(1 − ρ²)), a_k = (h − ρk)/(k√(1 − ρ²)) and β = ½ where hk < 0 or
-    (hk = 0 and h + k < 0), else 0; an argument 0 is nudged to 1e-300 (T is continuous there).
-    """
-    from scipy.special import owens_t
-
-    q = np.sqrt(1.0 - rho * rho)
-    hh = np.where(h == 0, 1e-300, h)
-    kk = np.where(k == 0, 1e-300, k)
-    beta = np.where((hh * kk < 0), 0.5, 0.0)
-    return (0.5 * _normal_cdf(h) + 0.5 * _normal_cdf(k) - owens_t(hh, (kk - rho * hh) / (hh * q))
-            - owens_t(kk, (hh - rho * kk) / (kk * q)) - beta)
-
-
-def _clip_bound(prob: _Problem, q: str, cells, m0, g, var1):
-    """Change of the reach probability that clipping ``q`` to its range makes, under the linear model.
-
-    Beyond a bound at a standard deviations (z < −a, or z > a for the upper one) the clipped
-    margin stays at the bound's value M₀ + g·(∓a) while the linear one keeps moving.  With
-    Y = M₀ + g·Z + (the other quantities' terms, variance r² = s₁² − g²) the change is
-    Δ = Φ(−a)·Φ((M₀ ∓ g·a)/r) − P(Z beyond the bound, Y ≥ 0), the last term a bivariate
-    normal probability of correlation g/s₁ (:func:`_bivariate_normal_cdf`); with r = 0 both
-    terms are one-dimensional.  Returned: Σ |Δ| over the two bounds.
-    """
-    sd = prob.sd[q][cells]
-    mu = prob.flat[q][cells]
-    s1 = np.sqrt(var1)
-    rest = np.sqrt(np.maximum(var1 - g * g, 0.0))
-    total = np.zeros_like(m0)
-    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        for bound, sign in ((prob.low[q], -1.0), (prob.high[q][cells], 1.0)):
-            a = np.where(sd > 0, sign * (bound - mu) / sd, np.inf)  # distance to the bound in sd, ≥ 0 inside
-            tail = _normal_cdf(-a)
-            at_bound = m0 + g * sign * a
-            # the margin's variable w = sign·Z: beyond the bound means w > a; slope of Y in w is sign·g
-            gw = sign * g
-            clipped = tail * np.where(rest > 0, _normal_cdf(at_bound / rest), (at_bound >= 0).astype(float))
-            # P(w > a, Y ≥ 0) = P(−w < −a, −Y' < M₀/s₁), Y' standardised, corr(−w, −Y') = gw/s₁
-            rho = np.clip(np.where(s1 > 0, gw / s1, 0.0), -1.0, 1.0)
-            joint = np.where(
-                rest > 1e-12 * np.maximum(s1, 1e-300),
-                _bivariate_normal_cdf(-a, np.where(s1 > 0, m0 / s1, np.inf), np.clip(rho, -0.999999, 0.999999)),
-                # one-dimensional: Y = M₀ + gw·w ≥ 0 with w > a
-                np.where(gw > 0, _normal_cdf(-np.maximum(a, -m0 / np.where(gw != 0, gw, 1.0))),
-                         np.where(gw < 0, np.maximum(_normal_cdf(-a) - _normal_cdf(-(-m0 / np.where(gw != 0, gw, 1.0))),
-                                                     0.0),
-                                  tail * (m0 >= 0))))
-            delta = np.where(tail > 0, np.abs(clipped - joint), 0.0)
-            total = total + delta
-    return np.nan_to_num(total, nan=1.0)
 
 
 def _sampled(prob: _Problem, cells: np.ndarray, draws: int, seed: int):
@@ -298,9 +208,7 @@ def _sampled(prob: _Problem, cells: np.ndarray, draws: int, seed: int):
         for q, v in prob.flat.items():
             base = v[blk][None, :]
             if q in prob.uncertain:
-                draw = _lognormal if q in _LOGNORMAL else _truncated
-                fields[q] = draw(base, prob.sd[q][blk][None, :], z[prob.uncertain.index(q)],
-                                 prob.low[q], prob.high[q][blk][None, :])
+                fields[q] = prob.draw(q, blk, z[prob.uncertain.index(q)])
             else:
                 fields[q] = np.broadcast_to(base, (draws, blk.size))
         hits[:, done:done + blk.size] = np.mean(prob.margins(fields) >= 0.0, axis=1)
@@ -329,7 +237,8 @@ def reach_probability(values: dict, sds: dict, antennas, *, target, target_depth
     method : {"auto", "linearised", "sampling"}
         See the module docstring.
     tolerance : float
-        Largest estimated error of the linearised estimate accepted by ``"auto"``.
+        Largest estimated error of the linearised estimate accepted by ``"auto"`` in any case;
+        a larger one is kept where it is still below the standard error of ``draws`` draws.
     calibration : subsurf.site.calibrated.GridCalibration, optional
         Site calibration in every evaluation (its own standard errors are not drawn).
     reaches_db : float, optional
@@ -367,10 +276,14 @@ def reach_probability(values: dict, sds: dict, antennas, *, target, target_depth
     elif cells.size:
         to_sample = cells
         if method != "sampling":
-            p1, e1 = _linearised(prob, cells, STEP_SD)
+            p1, e1 = linearised(prob, cells, STEP_SD, _blocks)
             cost += cells.size * (2 * len(prob.uncertain) + 1)
             p[:, cells], err[:, cells] = p1, e1
-            to_sample = cells[np.any(e1 > tolerance, axis=0)] if method == "auto" else cells[:0]
+            # sampled where the first-order error estimate exceeds the tolerance and the standard error the
+            # sampled estimate would have (floored at p(1 - p) = 1/N): never replaced by a noisier estimate
+            se_mc = np.sqrt(np.maximum(p1 * (1.0 - p1), 1.0 / draws) / draws)
+            worse = (e1 > tolerance) & (e1 > se_mc)
+            to_sample = cells[np.any(worse, axis=0)] if method == "auto" else cells[:0]
         if to_sample.size:
             ps, es = _sampled(prob, to_sample, int(draws), seed)
             p[:, to_sample], err[:, to_sample] = ps, es
