@@ -173,7 +173,8 @@ def compute_maps(survey, *, quiet: bool = True, calibration=None) -> Feasibility
         f"probability that the target is reached (margin >= {REACHES_MARGIN_DB:g} dB outside the blind zone)")
     ds["reach_probability"].attrs["comment"] = (
         "per-cell soil values normal with the measurement and interpolation standard deviations; "
-        f"first-order (linearised) probability where its estimated error is <= {DEFAULT_TOLERANCE:g}, "
+        f"first-order (linearised) probability of margin and blind zone jointly where its estimated error is "
+        f"<= {DEFAULT_TOLERANCE:g} or below the draws' standard error, "
         f"seeded Monte Carlo elsewhere ({survey.draws} draws, seed {survey.seed}; cells sampled per scenario: "
         + ", ".join(f"{s.name} {100 * f:.1f} %" for s, f in zip(survey.scenarios, sampled))
         + "); estimated error in reach_probability_se")
@@ -248,7 +249,8 @@ def monte_carlo_info(maps: FeasibilityMaps) -> dict:
             "max_estimated_error": float(np.nanmax(ds["reach_probability_se"].values)),
             "sampled_fraction": dict(zip([s.name for s in survey.scenarios], sampled)),
             "method": "per-cell normal soil quantities (measurement and interpolation sd); first-order "
-                      "(linearised) probability where its estimated error is <= 0.01, else Monte Carlo draws "
+                      "(linearised) probability of margin and blind zone jointly where its estimated error is "
+                      "<= 0.01 or below the draws' standard error, else Monte Carlo draws "
                       "keyed per tile of 256 cells, common random numbers across antennas"}
 
 
