@@ -16,7 +16,7 @@ from pathlib import Path
 __version__ = "0.1.0"
 __all__ = ["SubsurfError", "InputError", "ModelRangeWarning", "config_dir", "__version__",
            "medium", "ground_properties", "target", "choose_antenna", "plan_survey", "time_to_depth",
-           "fit_hyperbola", "fit_cmp", "load_survey", "feasibility_maps", "write_report"]
+           "fit_hyperbola", "fit_cmp", "load_survey", "feasibility_maps", "open_map", "write_report"]
 
 _SUBMODULES = {
     # layers, in the direction of the data flow
@@ -53,7 +53,7 @@ _FROM_ERRORS = ("SubsurfError", "InputError", "ModelRangeWarning")
 _API = {
     **{name: ("subsurf.api", name) for name in (
         "medium", "ground_properties", "target", "choose_antenna", "plan_survey", "load_survey",
-        "feasibility_maps", "write_report")},
+        "feasibility_maps", "open_map", "write_report")},
     "time_to_depth": ("subsurf.interpretation.homogeneous", "depth_with_uncertainty"),
     "fit_hyperbola": ("subsurf.interpretation.hyperbola", "fit_hyperbola"),
     "fit_cmp": ("subsurf.interpretation.cmp", "fit_cmp"),

@@ -24,6 +24,7 @@ __all__ = [
     "plan_survey",
     "load_survey",
     "feasibility_maps",
+    "open_map",
     "write_report",
 ]
 
@@ -203,6 +204,18 @@ def feasibility_maps(survey):
     except ImportError:  # pragma: no cover - rioxarray is a base dependency
         return ds
     return ds.rio.write_crs(survey.grid_crs.to_wkt())
+
+
+def open_map(path, *, chunks=None):
+    """Open a map written by ``subsurf map`` or ``subsurf region`` (CF NetCDF) as an :class:`xarray.Dataset`.
+
+    Antenna and scenario names are selectable again
+    (``ds.max_depth.sel(antenna="midband-500", scenario="wet")``) and the CRS is attached for
+    rioxarray (``ds.rio.crs``); ``chunks={}`` reads lazily (dask), for regional maps.
+    """
+    from .io.netcdf import read_netcdf
+
+    return read_netcdf(path, chunks=chunks)
 
 
 def write_report(survey_path, out_path, *, force: bool = False):

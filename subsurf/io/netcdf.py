@@ -49,7 +49,7 @@ import os
 
 import numpy as np
 
-__all__ = ["write_netcdf", "label_name", "CONVENTIONS", "limit_read_chunk_cache"]
+__all__ = ["write_netcdf", "read_netcdf", "label_name", "CONVENTIONS", "limit_read_chunk_cache"]
 
 CONVENTIONS = "CF-1.8"
 #: default edge (cells) of the y/x chunks of variables held in memory
@@ -348,3 +348,36 @@ def write_netcdf(ds, path, *, force: bool = False, attrs: dict | None = None, dt
         finally:
             nc.close()
     return {"path": str(path), "tiles": tiles, "chunk_cache": caches}
+
+
+def read_netcdf(path, *, chunks=None):
+    """Open a file written by :func:`write_netcdf` with its names back as selectable coordinates.
+
+    xarray reads a label variable ``<dim>_name`` (CF-1.8 section 6.1) as a plain auxiliary
+    coordinate, so ``ds.sel(antenna="midband-500")`` would fail on the file alone; here each
+    becomes the string index of its dimension again (the ``<dim>_name`` variable is kept), the
+    grid mapping is decoded as the ``crs`` coordinate and, with rioxarray, attached
+    (``ds.rio.crs``).  ``chunks`` is passed to :func:`xarray.open_dataset` (e.g. ``{}`` for a
+    regional map too large for memory).
+    """
+    import xarray as xr
+
+    from ..errors import FileInputError
+
+    try:
+        ds = xr.open_dataset(os.fspath(path), engine="netcdf4", decode_coords="all", chunks=chunks)
+    except (OSError, ValueError) as exc:
+        raise FileInputError(path, f"cannot read as NetCDF: {' '.join(str(exc).split())[:160]}") from None
+    names = {}
+    for dim in ds.dims:
+        lab = label_name(str(dim))
+        if lab in ds.variables and ds[lab].dims == (dim,):
+            names[dim] = [str(v) for v in ds[lab].values]
+    ds = ds.assign_coords({dim: (dim, values) for dim, values in names.items()})
+    if _GRID_MAPPING in ds.variables and "crs_wkt" in ds[_GRID_MAPPING].attrs:
+        try:
+            import rioxarray  # noqa: F401 - registers the .rio accessor
+        except ImportError:  # pragma: no cover - rioxarray is a base dependency
+            return ds
+        ds = ds.rio.write_crs(ds[_GRID_MAPPING].attrs["crs_wkt"], grid_mapping_name=_GRID_MAPPING)
+    return ds

@@ -27,6 +27,7 @@ descriptions and units; xarray with netCDF4 for NetCDF.
 
 from __future__ import annotations
 
+import os
 import re
 from dataclasses import dataclass
 from pathlib import Path
@@ -48,6 +49,8 @@ NETCDF_SUFFIXES = (".nc", ".nc4", ".netcdf", ".cdf")
 GEOTIFF_SUFFIXES = (".tif", ".tiff", ".gtiff")
 TIME_AGGREGATES = ("mean", "median", "min", "max")
 _TIME_DIMS = ("time", "t", "date", "band_time")
+#: GDAL block cache (MB) while a GeoTIFF is read tile by tile
+_GDAL_CACHE_MB = 64
 
 #: how the user makes each choice, worded for a survey file (the map) by default
 SURVEY_HINTS = {
@@ -173,6 +176,11 @@ class RasterSource:
             raise FileInputError(self.path, f"cannot read as NetCDF: {_short(exc)}") from None
 
     def _open_geotiff(self):
+        if self.chunk is not None:
+            # GDAL's block cache (default 5 % of the machine's memory) would fill with the region read tile by
+            # tile; each tile reads its own blocks once, so a small cache loses nothing.  Read by GDAL when it
+            # first allocates the cache; a value the user set in the environment is kept.
+            os.environ.setdefault("GDAL_CACHEMAX", str(_GDAL_CACHE_MB))
         import rasterio
         import rioxarray
 
