@@ -111,14 +111,23 @@ def soil_facts() -> dict:
 
 TARGET = obj({
     "kind": text("target kind", enum=("planar", "point", "line")),
-    "depth_m": num("depth to the top of the target (m)", null=True),
+    "depth_m": num("depth to the top of the target (m): the depth at which reach (margin, verdict) is judged; "
+                   "for a range of depths of interest, its bottom", null=True),
+    "depth_top_m": num("a range of depths of interest: its shallowest depth (m), where the blind zone and the "
+                       "resolution are judged"),
+    "depth_bottom_m": num("a range of depths of interest: its deepest depth (m), = depth_m"),
+    "depths_m": array(num("depth (m)"), "the depths of interest when given as a list, ascending"),
     "size_m": num("diameter of a point or line target (m); null for a planar one", null=True),
     "material": text("target material (configs/materials.toml name, or the direct ε'/σ)"),
     "orientation": text("antenna dipoles relative to a line target", null=True),
     "perfect_conductor": boolean("the target is treated as a perfect conductor"),
     "eps_real": num("target relative permittivity ε' (dimensionless)"),
     "sigma_ms_per_m": num("target conductivity (mS/m)"),
-}, "the target", optional=("orientation", "perfect_conductor", "eps_real", "sigma_ms_per_m"))
+}, "the target", optional=("orientation", "perfect_conductor", "eps_real", "sigma_ms_per_m", "depth_top_m",
+                           "depth_bottom_m", "depths_m"))
+
+#: Reach verdicts (subsurf.detection.verdicts); 'partly blind' only for a range of depths of interest.
+VERDICTS = ("reaches", "marginal", "does not reach", "too shallow", "partly blind")
 
 CALIBRATION_SUMMARY = obj({
     "file": text("the site-calibration file given with --calibration"),
@@ -179,10 +188,14 @@ def choose_row() -> dict:
         "coupling_gain_dbi": num("antenna-ground coupling gain (dBi)"),
         "min_depth_m": num("blind zone: shallowest depth whose echo clears the direct wave (m)"),
         "max_depth_m": num("maximum detectable depth of the target (m)", null=True),
-        "margin_db": num("performance minus two-way loss at the target depth (dB)", null=True),
-        "verdict": text("reach verdict", enum=("reaches", "marginal", "does not reach", "too shallow")),
-        "near_field": boolean("the target is within the antenna's near field"),
-        "received_freq_mhz": num("centroid frequency received from the target depth (MHz)"),
+        "margin_db": num("performance minus two-way loss at the target depth (the bottom of a range) (dB)",
+                         null=True),
+        "verdict": text("reach verdict (a range: margin at its bottom, blind zone at its top)", enum=VERDICTS),
+        "near_field": boolean("the target (the top of a range) is within the antenna's near field"),
+        "received_freq_mhz": num("centroid frequency received from the target depth (the top of a range) (MHz)"),
+        "margin_top_db": num("a range of depths: the margin at its top (dB)"),
+        "vertical_resolution_bottom_m": num("a range of depths: vertical resolution λ/4 at its bottom (m)"),
+        "fresnel_radius_bottom_m": num("a range of depths: first Fresnel zone radius at its bottom (m)"),
         "vertical_resolution_m": num("vertical resolution λ/4 at the received frequency (m)"),
         "fresnel_radius_m": num("first Fresnel zone radius at the target depth (m)"),
         "footprint_radius_m": num("antenna footprint radius at the target depth (m)"),
@@ -191,7 +204,8 @@ def choose_row() -> dict:
         "orientation_penalty_db": num("weaker return with the dipoles across a line target (dB)"),
         "model_max_depth_m": num("with --calibration: the soil model's maximum depth (m)", null=True),
         "model_margin_db": num("with --calibration: the soil model's margin (dB)", null=True),
-    }, "one antenna", optional=("orientation_penalty_db", "model_max_depth_m", "model_margin_db"))
+    }, "one antenna", optional=("orientation_penalty_db", "model_max_depth_m", "model_margin_db", "margin_top_db",
+                                "vertical_resolution_bottom_m", "fresnel_radius_bottom_m"))
 
 
 def choose_schema() -> dict:
@@ -208,6 +222,7 @@ def choose_schema() -> dict:
                            "near_field_wavelengths": num("near field: depth within this many wavelengths")},
                           "verdict thresholds"),
         "reach_definition": text("the verdicts in words"),
+        "depth_range_definition": text("a range of depths of interest: where each thing is judged, in words"),
         "rows": array(choose_row(), "one row per antenna"),
         "recommendation": obj({"antenna": text("recommended antenna, or null when none reaches", null=True),
                                "reason": text("why, one line")}, "the recommendation"),
@@ -215,7 +230,7 @@ def choose_schema() -> dict:
         "warnings": WARNINGS,
         "calibration": CALIBRATION_SUMMARY,
         "catalogue": catalogue_used(),
-    }, "subsurf choose --json: antennas ranked for a target")
+    }, "subsurf choose --json: antennas ranked for a target", optional=("depth_range_definition",))
 
 
 def setup_schema() -> dict:

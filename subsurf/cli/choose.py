@@ -14,7 +14,9 @@ def add_target_arguments(parser, *, depth_required: bool) -> None:
                    help="planar interface (water table, bedrock, slab base), point (void, boulder, drum) "
                         "or line (pipe, cable, duct)")
     g.add_argument("--depth", metavar="Q", required=depth_required,
-                   help="depth to the top of the target (bare number: m)")
+                   help="depth to the top of the target (bare number: m), or the depths of interest as a range "
+                        "TOP-BOTTOM ('0.5-1.5 m') or a list ('0.5,1.0,1.5 m'): reach is judged at the deepest, "
+                        "the blind zone and resolution at the shallowest")
     g.add_argument("--size", metavar="Q", help="diameter of a point or line target (bare number: m)")
     g.add_argument("--material", metavar="NAME",
                    help="target material from configs/materials.toml, e.g. metal, void, plastic_pipe, water, "
@@ -36,8 +38,21 @@ def add_target_arguments(parser, *, depth_required: bool) -> None:
                         "the ground)")
 
 
-def target_from_args(args, *, depth_m):
-    """Build the Target of the flags (None when --target is not given)."""
+def target_from_args(args, *, depth_m, depths=None):
+    """Build the Target of the flags (None when --target is not given).
+
+    ``depths`` (a :class:`~subsurf.cli._depths.DepthsOfInterest`) gives a range or list of depths
+    of interest; ``depth_m`` is then its bottom.
+    """
+    target = _target_from_args(args, depth_m=depth_m)
+    if target is not None and depths is not None and depths.is_range:
+        from dataclasses import replace
+
+        target = replace(target, **depths.target_fields())
+    return target
+
+
+def _target_from_args(args, *, depth_m):
     from dataclasses import replace
 
     from ..errors import InputError
@@ -97,10 +112,7 @@ def layers_from_args(args):
     return tuple(parse_layer(t) for t in (getattr(args, "over", None) or ()))
 
 
-#: Deepest target depth a plan may ask for (m).  Our limit, stated: radio-echo sounding of polar
-#: ice, the deepest radar work there is, reaches about 4 km (the thickest Antarctic ice is ~4.8 km,
-#: from memory); a depth of a megametre planned a margin of -7.9 million dB.
-MAX_DEPTH_M = 1e4
+from ._depths import MAX_DEPTH_M  # noqa: E402  (stated there; kept importable here)
 
 
 def parse_depth(text, name="--depth"):
@@ -112,6 +124,16 @@ def parse_depth(text, name="--depth"):
         raise InputError(f"{name} must be > 0 m and at most {MAX_DEPTH_M / 1e3:g} km (deeper than any radar "
                          f"sounding reaches), got {text!r}")
     return d
+
+
+def depth_words(t: dict) -> str:
+    """'at 1.2 m', or for a range 'depths of interest 0.5-1.5 m (reach judged at 1.5 m, ...)'."""
+    if "depth_top_m" not in t:
+        return f"at {t['depth_m']:g} m"
+    listed = ", ".join(f"{d:g}" for d in t["depths_m"]) + " m" if t.get("depths_m") else \
+        f"{t['depth_top_m']:g}-{t['depth_bottom_m']:g} m"
+    return (f"depths of interest {listed} (reach judged at the deepest, {t['depth_bottom_m']:g} m; blind zone "
+            f"and resolution at the shallowest, {t['depth_top_m']:g} m)")
 
 
 def parse_surface_loss(text):
@@ -158,7 +180,7 @@ COLUMNS_SPEC = [
 def compute(medium, target, antennas, *, surface_loss_db=None, layers=()) -> dict:
     """Rows (human units) and recommendation for ``target`` in ``medium`` (under ``layers``)."""
     from ..detection.blindzone import NEAR_FIELD_WAVELENGTHS
-    from ..detection.verdicts import REACHES_MARGIN_DB, reach_definition
+    from ..detection.verdicts import REACHES_MARGIN_DB, range_definition, reach_definition
     from ..io.jsonstyle import soil_facts_json
     from ..planning.antennas import rank_antennas, recommend, target_summary
     from ..safety import CAUTION
@@ -190,8 +212,11 @@ def compute(medium, target, antennas, *, surface_loss_db=None, layers=()) -> dic
         }
         if "orientation_penalty_db" in r:
             row["orientation_penalty_db"] = r["orientation_penalty_db"]
+        for k in ("margin_top_db", "vertical_resolution_bottom_m", "fresnel_radius_bottom_m"):
+            if k in r:
+                row[k] = r[k]
         rows.append(row)
-    name, reason = recommend(rows_si)
+    name, reason = recommend(rows_si, target=target)
     return {
         "ground": medium.label,
         "facts": soil_facts_json(medium.facts),
@@ -201,6 +226,8 @@ def compute(medium, target, antennas, *, surface_loss_db=None, layers=()) -> dic
         "thresholds": {"reaches_margin_db": REACHES_MARGIN_DB, "marginal_margin_db": 0.0,
                        "near_field_wavelengths": NEAR_FIELD_WAVELENGTHS},
         "reach_definition": reach_definition(),
+        **({"depth_range_definition": range_definition(target.depth_top_m, target.depth_m)}
+           if target.is_range else {}),
         "rows": rows,
         "recommendation": {"antenna": name, "reason": reason},
         "caution": CAUTION,
@@ -211,9 +238,11 @@ def run(args) -> int:
     from ..io.outputs import Column, collect_warnings, format_table, print_notes, print_result
     from ..planning.antennas import get_antenna
     from ..planning.catalogue import resolve_catalogue
+    from ._depths import parse_depths
     from ._medium_args import medium_from_args
 
-    depth = parse_depth(args.depth)
+    depths = parse_depths(args.depth)
+    depth = depths.bottom
     surface = parse_surface_loss(args.surface_loss)
     with collect_warnings() as notes:
         choice = resolve_catalogue(file=args.catalogue, source="--catalogue")
@@ -224,7 +253,7 @@ def run(args) -> int:
             from ..errors import InputError
 
             raise InputError("give the target kind with --target planar|point|line")
-        target = target_from_args(args, depth_m=depth)
+        target = target_from_args(args, depth_m=depth, depths=depths)
         layers = layers_from_args(args)
         from ._calibration import add_model_columns, replan_inputs
 
@@ -242,7 +271,7 @@ def run(args) -> int:
     title = f"Ground: {medium.label}"
     if result["layers"]:
         title += "\nUnder: " + ", ".join(f"{lay['thickness_m']:g} m {lay['material']}" for lay in result["layers"])
-    title += f"\nTarget: {what}, at {t['depth_m']:g} m"
+    title += f"\nTarget: {what}, " + depth_words(t)
     if t["kind"] == "line":
         title += f" (antenna dipoles {t.get('orientation', 'parallel')} to it)"
     spec = list(COLUMNS_SPEC)
@@ -252,8 +281,18 @@ def run(args) -> int:
             spec[5:5] = [("model_max_depth_m", "model depth", "m", ".3g")]
     text = format_table(result["rows"], [Column(*c) for c in spec], title=title)
     text += f"\nverdict: {result['reach_definition']}."
+    at = "the target depth" if "depth_top_m" not in t else f"the top of the range ({t['depth_top_m']:g} m)"
     text += ("\nperf includes the clutter-limited stacking gain; min depth = blind zone (pulse length, separation, "
-             "direct wave); f at depth and vert res (λ/4) from the spectrum received from the target depth.")
+             f"direct wave); f at depth and vert res (λ/4) from the spectrum received from {at}.")
+    if "depth_top_m" in t:
+        text += f"\nDepth range: {result['depth_range_definition']}."
+        text += ("\nAt the bottom (" + f"{t['depth_bottom_m']:g} m) vert res / Fresnel r: " + ", ".join(
+            f"{r['antenna']} {r['vertical_resolution_bottom_m']:.2g} / {r['fresnel_radius_bottom_m']:.2g} m"
+            for r in result["rows"]) + ".")
+        for r in result["rows"]:
+            if r["verdict"] == "partly blind":
+                text += (f"\nPartly blind: {r['antenna']} is blind above {r['min_depth_m']:.2g} m; it sees "
+                         f"{r['min_depth_m']:.2g}-{t['depth_bottom_m']:g} m of the range, not its top.")
     near = [r["antenna"] for r in result["rows"] if r["near_field"]]
     if near:
         text += (f"\nNear field: the target is within {result['thresholds']['near_field_wavelengths']:g} wavelength "

@@ -52,6 +52,14 @@ class Target:
         ``line``: a pipe, cable or duct modelled as a long cylinder, crossed at right angles.
     depth_m : float or None
         Depth to the top of the target (m, > 0); optional when only the maximum depth is asked.
+        For a range of depths of interest, the deepest of them: where reach is judged.
+    depth_top_m : float or None
+        For a range of depths of interest (e.g. walls whose tops lie from 0.5 to 1.5 m), the
+        shallowest (m, > 0, < ``depth_m``): where the blind zone and the resolution are judged.
+        None (the default) for one depth.
+    depths_m : tuple of float or None
+        The depths of interest when given as a list (ascending; its ends are ``depth_top_m`` and
+        ``depth_m``), kept for display; None otherwise.
     size_m : float or None
         Diameter (m, > 0) of a point or line target; ignored for planar targets.
     eps : complex or None
@@ -81,6 +89,8 @@ class Target:
     material: str = ""
     reflection: complex | None = None
     orientation: Orientation = "parallel"
+    depth_top_m: float | None = None
+    depths_m: tuple[float, ...] | None = None
 
     def __post_init__(self):
         if self.orientation not in ORIENTATIONS:
@@ -89,6 +99,16 @@ class Target:
             raise InputError(f"target kind must be one of planar, point, line; got {self.kind!r}")
         if self.depth_m is not None:
             check_positive("target depth_m", self.depth_m, unit="m")
+        if self.depth_top_m is not None:
+            if self.depth_m is None:
+                raise InputError("a target depth range needs depth_m (its bottom) as well as depth_top_m")
+            check_positive("target depth_top_m", self.depth_top_m, unit="m")
+            if not self.depth_top_m < self.depth_m:
+                raise InputError(f"target depth_top_m ({self.depth_top_m:g} m) must be shallower than depth_m, the "
+                                 f"bottom of the range ({self.depth_m:g} m)")
+        if self.depths_m is not None and (self.depth_top_m is None or tuple(self.depths_m) != tuple(sorted(
+                self.depths_m)) or self.depths_m[0] != self.depth_top_m or self.depths_m[-1] != self.depth_m):
+            raise InputError("target depths_m must be ascending, from depth_top_m to depth_m")
         if self.kind != "planar":
             if self.size_m is None:
                 raise InputError(f"a {self.kind} target needs size_m (diameter, m > 0)")
@@ -114,9 +134,19 @@ class Target:
         """Radius (m) of a point or line target."""
         return None if self.size_m is None else 0.5 * float(self.size_m)
 
+    @property
+    def is_range(self) -> bool:
+        """True when the depths of interest are a range (or a list), not one depth."""
+        return self.depth_top_m is not None
+
+    @property
+    def shallowest_m(self) -> float | None:
+        """Shallowest depth of interest (m): ``depth_top_m`` of a range, else ``depth_m``."""
+        return self.depth_m if self.depth_top_m is None else self.depth_top_m
+
     def at_depth(self, depth_m: float) -> Target:
-        """The same target at another depth."""
-        return replace(self, depth_m=depth_m)
+        """The same target at one other depth (a range collapses to that depth)."""
+        return replace(self, depth_m=depth_m, depth_top_m=None, depths_m=None)
 
 
 # --- contrast --------------------------------------------------------------------------

@@ -9,6 +9,13 @@ least :data:`REACHES_MARGIN_DB` and it lies below the antenna's blind zone; **ma
 when the margin is between 0 and that threshold; **does not reach** below 0 dB;
 **too shallow** when it lies inside the blind zone (its echo arrives while the direct
 wave still rings, see :mod:`subsurf.detection.blindzone`), whatever the margin.
+
+For a **range of depths of interest** (walls whose tops lie from 0.5 to 1.5 m, or a list of
+depths) the margin is judged at the deepest depth and the blind zone at the shallowest: the
+range reaches when its bottom has the margin and its top lies below the blind zone.  When the
+bottom is reached (margin ≥ 0 dB) and lies below the blind zone but the top lies inside it, the
+verdict is **partly blind**: the antenna sees only the part of the range below its blind zone.
+It is not "reaches" (the top of the range is missed), so it never counts as reaching.
 """
 
 from __future__ import annotations
@@ -21,10 +28,12 @@ __all__ = [
     "MARGINAL",
     "DOES_NOT_REACH",
     "TOO_SHALLOW",
+    "PARTLY_BLIND",
     "VERDICT_WORDS",
     "verdict",
     "reaches",
     "reach_definition",
+    "range_definition",
     "share_word",
 ]
 
@@ -39,18 +48,25 @@ REACHES = "reaches"
 MARGINAL = "marginal"
 DOES_NOT_REACH = "does not reach"
 TOO_SHALLOW = "too shallow"
+PARTLY_BLIND = "partly blind"
 #: The verdicts, best first.
-VERDICT_WORDS = (REACHES, MARGINAL, DOES_NOT_REACH, TOO_SHALLOW)
+VERDICT_WORDS = (REACHES, MARGINAL, DOES_NOT_REACH, TOO_SHALLOW, PARTLY_BLIND)
 
 
-def verdict(margin, *, too_shallow=False, reaches_db: float = REACHES_MARGIN_DB) -> np.ndarray:
+def verdict(margin, *, too_shallow=False, partly_blind=False, reaches_db: float = REACHES_MARGIN_DB) -> np.ndarray:
     """Verdict per margin (dB): reaches (≥ reaches_db), marginal (0 to reaches_db), does not reach (< 0).
 
-    ``too_shallow`` (bool, broadcast) overrides: the target is inside the blind zone.
+    ``too_shallow`` (bool, broadcast) overrides: the target (the top of a depth range) is inside
+    the blind zone.  ``partly_blind`` (bool, broadcast; only where ``too_shallow``) marks a range
+    whose bottom lies below the blind zone: "partly blind" when its bottom has a margin ≥ 0 dB,
+    "does not reach" when not.
     """
     m = np.asarray(margin, dtype=float)
     out = np.where(m >= reaches_db, REACHES, np.where(m >= 0.0, MARGINAL, DOES_NOT_REACH))
-    out = np.where(np.asarray(too_shallow, dtype=bool), TOO_SHALLOW, out).astype(object).astype(str)
+    shallow = np.asarray(too_shallow, dtype=bool)
+    partly = shallow & np.asarray(partly_blind, dtype=bool)
+    out = np.where(shallow, np.where(partly, np.where(m >= 0.0, PARTLY_BLIND, DOES_NOT_REACH), TOO_SHALLOW), out)
+    out = out.astype(object).astype(str)
     return out if out.ndim else out[()]
 
 
@@ -65,6 +81,13 @@ def reach_definition(reaches_db: float = REACHES_MARGIN_DB) -> str:
     """The sentence every output prints to say what "reaches" means."""
     return (f"reaches = margin >= {reaches_db:g} dB below the blind zone; marginal = 0 to {reaches_db:g} dB; "
             f"does not reach = margin < 0 dB; too shallow = inside the blind zone (echo within the direct wave)")
+
+
+def range_definition(depth_top_m: float, depth_bottom_m: float) -> str:
+    """The sentence outputs print for a range of depths of interest: where each thing is judged."""
+    return (f"depths of interest {depth_top_m:g}-{depth_bottom_m:g} m: margin and verdict at the deepest "
+            f"({depth_bottom_m:g} m), blind zone and resolution at the shallowest ({depth_top_m:g} m); "
+            "partly blind = the bottom is reached (margin >= 0 dB) but the blind zone covers the top of the range")
 
 
 def share_word(fraction: float) -> str:

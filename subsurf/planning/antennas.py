@@ -19,7 +19,7 @@ from ..detection.blindzone import default_pulse_length
 from ..detection.coupling import coupling_gain
 from ..detection.evaluate import antenna_budget, soil_loss_terms
 from ..detection.targets import Target
-from ..detection.verdicts import MARGINAL, REACHES, REACHES_MARGIN_DB, verdict
+from ..detection.verdicts import MARGINAL, PARTLY_BLIND, REACHES, REACHES_MARGIN_DB, verdict
 from ..errors import InputError
 from .targets import MATERIAL_ALIASES, make_target, material_names, target_summary  # noqa: F401  (public here too)
 
@@ -188,18 +188,20 @@ def _soil_of(electrical):
 
 
 def antenna_budget_for(electrical, antenna: Antenna, target: Target, *, depth_m: float, stacks: int | None = None,
-                       surface_loss_db=None, layers=(), roughness_factor=1.0) -> dict:
+                       surface_loss_db=None, layers=(), roughness_factor=1.0, depth_top_m=None) -> dict:
     """:func:`subsurf.detection.evaluate.antenna_budget` of a catalogue antenna in a ground.
 
     ``electrical(freq_hz) -> (eps, sigma)`` is evaluated at the antenna's band frequencies; when it
     is a soil's (or a Medium holding a soil), the soil's volume scattering and rough surface enter
-    the budget too (:func:`soil_loss_terms`).
+    the budget too (:func:`soil_loss_terms`).  ``depth_top_m``: the top of a range of depths
+    of interest (blind zone and resolution judged there), None for one depth.
     """
     a = antenna if stacks is None else antenna.with_stacks(stacks)
     f, w = band_nodes(a.centre_freq_hz, a.bandwidth_hz)
     eps, sig = electrical(f)
     extra, surface = soil_loss_terms(_soil_of(electrical), f, eps)
-    return antenna_budget(eps, sig, f, w, target, depth_m=depth_m, performance_db=a.effective_performance_db,
+    return antenna_budget(eps, sig, f, w, target, depth_m=depth_m, depth_top_m=depth_top_m,
+                          performance_db=a.effective_performance_db,
                           pulse_length_s=a.pulse_length, separation_m=a.separation_m, gain=a.gain,
                           layers=layers, surface_loss_db=0.0 if surface_loss_db is None else surface_loss_db,
                           extra_attenuation_np_per_m=extra, roughness_factor=roughness_factor,
@@ -217,7 +219,9 @@ def rank_antennas(electrical, antennas: list[Antenna], target: Target, *, surfac
         array of frequencies (e.g. ``Medium.electrical`` or ``Soil.electrical``).
     antennas : list of Antenna
     target : Target
-        With ``depth_m`` set (the depth of interest).
+        With ``depth_m`` set (the depth of interest; for a range, its bottom, with
+        ``depth_top_m`` its top: margin and verdict at the bottom, blind zone and resolution
+        at the top).
     surface_loss_db : float or None
         A user-supplied extra two-way surface loss (dB).
     layers : sequence of subsurf.detection.layers.Layer
@@ -232,7 +236,8 @@ def rank_antennas(electrical, antennas: list[Antenna], target: Target, *, surfac
         max_depth_m, min_depth_m, margin_db, verdict, near_field, received_freq_hz,
         vertical_resolution_m, fresnel_radius_m, footprint_radius_m, smallest_separable_m,
         eps_real, sigma, velocity_m_per_s, attenuation_db_per_m, coupling_gain_dbi and,
-        for line targets, orientation_penalty_db.
+        for line targets, orientation_penalty_db; for a depth range also margin_top_db,
+        vertical_resolution_bottom_m and fresnel_radius_bottom_m.
     """
     from ..detection.budget import orientation_penalty_db
     from ..waves.propagation import wave_properties
@@ -247,7 +252,7 @@ def rank_antennas(electrical, antennas: list[Antenna], target: Target, *, surfac
         eps_c, sig_c = electrical(fc)
         wc = wave_properties(eps_c, sig_c, fc)
         b = antenna_budget_for(electrical, a, target, depth_m=target.depth_m, surface_loss_db=surface_loss_db,
-                               layers=layers)
+                               layers=layers, depth_top_m=target.depth_top_m)
         margin = float(b["margin_db"])
         row = {
             "name": a.name,
@@ -261,7 +266,8 @@ def rank_antennas(electrical, antennas: list[Antenna], target: Target, *, surfac
             "max_depth_m": float(b["max_depth"]),
             "min_depth_m": float(b["min_depth"]),
             "margin_db": margin,
-            "verdict": str(verdict(margin, too_shallow=bool(b["too_shallow"]), reaches_db=reaches_db)),
+            "verdict": str(verdict(margin, too_shallow=bool(b["too_shallow"]), partly_blind=bool(b["partly_blind"]),
+                                   reaches_db=reaches_db)),
             "near_field": bool(b["near_field"]),
             "received_freq_hz": float(b["received_freq_hz"]),
             "vertical_resolution_m": float(b["vertical_resolution"]),
@@ -274,6 +280,10 @@ def rank_antennas(electrical, antennas: list[Antenna], target: Target, *, surfac
         }
         if target.kind == "line":
             row["orientation_penalty_db"] = float(orientation_penalty_db(eps_c, sig_c, fc, target)[0])
+        if target.is_range:
+            row["margin_top_db"] = float(b["margin_top_db"])
+            row["vertical_resolution_bottom_m"] = float(b["vertical_resolution_bottom"])
+            row["fresnel_radius_bottom_m"] = float(b["fresnel_radius_bottom"])
         rows.append(row)
     narrow = [r["name"] for r in rows if target.kind != "planar" and target.size_m > 2 * r["footprint_radius_m"]]
     if narrow:
@@ -282,36 +292,64 @@ def rank_antennas(electrical, antennas: list[Antenna], target: Target, *, surfac
         from ..errors import ModelRangeWarning
 
         warnings.warn(
-            f"target size {target.size_m:g} m is larger than the antenna footprint at {target.depth_m:g} m "
+            f"target size {target.size_m:g} m is larger than the antenna footprint at {target.shallowest_m:g} m "
             f"depth for {', '.join(narrow)}: the {target.kind}-target model does not hold there; "
             "its top reflects like a planar interface (use kind 'planar')",
             ModelRangeWarning, stacklevel=2)
     return rows
 
 
-def recommend(rows: list[dict], *, reaches_db: float = REACHES_MARGIN_DB) -> tuple[str | None, str]:
+def recommend(rows: list[dict], *, reaches_db: float = REACHES_MARGIN_DB, target: Target | None = None
+              ) -> tuple[str | None, str]:
     """Pick an antenna from :func:`rank_antennas` rows: (name or None, reason).
 
     Rule: among antennas whose verdict is "reaches", the one with the finest vertical
-    resolution at the target depth (ties: larger margin).  If none reaches with margin,
-    the marginal one with the largest margin, flagged as marginal; if none reaches at
-    all, no recommendation, and the antenna that comes closest is named.  Antennas for
-    which the target is "too shallow" (inside their blind zone) are never recommended.
+    resolution at the target depth (ties: larger margin).  For a range of depths of
+    interest (``target`` with ``depth_top_m``) "reaches" covers the whole range; when none
+    does, an antenna that reaches its bottom with margin but is blind at its top ("partly
+    blind") is named with the depth above which it is blind, and an antenna that sees the
+    top is suggested beside it.  If none reaches with margin, the marginal one with the
+    largest margin, flagged as marginal; if none reaches at all, no recommendation, and the
+    antenna that comes closest is named.  Antennas for which the target is "too shallow"
+    (inside their blind zone) are never recommended.
     """
+    rng = target is not None and target.is_range
+    what = (f"the whole range {target.depth_top_m:g}-{target.depth_m:g} m (its bottom with at least "
+            f"{reaches_db:g} dB margin, its top clear of the blind zone)") if rng else \
+        f"the target with at least {reaches_db:g} dB margin"
     reach = [r for r in rows if r["verdict"] == REACHES]
     if reach:
         best = min(reach, key=lambda r: (r["vertical_resolution_m"], -r["margin_db"]))
         return best["name"], (
             f"{best['name']}: the finest vertical resolution ({best['vertical_resolution_m']:.3g} m) "
-            f"among the antennas that reach the target with at least {reaches_db:g} dB margin "
+            f"among the antennas that reach {what} "
             f"(margin {best['margin_db']:.1f} dB, maximum depth {best['max_depth_m']:.3g} m)")
+    partly = [r for r in rows if r["verdict"] == PARTLY_BLIND and r["margin_db"] >= reaches_db]
+    if partly and rng:
+        best = min(partly, key=lambda r: (r["min_depth_m"], -r["margin_db"]))
+        top = [r for r in rows if r["name"] != best["name"] and r["min_depth_m"] <= target.depth_top_m
+               and r.get("margin_top_db", float("-inf")) >= reaches_db]
+        also = ""
+        if top:
+            t = min(top, key=lambda r: r["min_depth_m"])
+            also = (f"; for the top of the range also bring {t['name']} (clear of its blind zone from "
+                    f"{t['min_depth_m']:.2g} m, margin {t['margin_top_db']:.1f} dB at {target.depth_top_m:g} m)")
+        return best["name"], (
+            f"no antenna reaches {what}; {best['name']} reaches the bottom ({target.depth_m:g} m, margin "
+            f"{best['margin_db']:.1f} dB) but is blind above {best['min_depth_m']:.2g} m, so it misses the "
+            f"top of the range{also}")
     marginal = [r for r in rows if r["verdict"] == MARGINAL]
     if marginal:
         best = max(marginal, key=lambda r: r["margin_db"])
         return best["name"], (
-            f"{best['name']}: no antenna reaches the target with {reaches_db:g} dB margin; this one has "
+            f"{best['name']}: no antenna reaches {what}; this one has "
             f"the largest margin ({best['margin_db']:.1f} dB), so detection is marginal; consider a lower "
             "frequency (stacking is limited by clutter)")
+    if partly or any(r["verdict"] == PARTLY_BLIND for r in rows):
+        best = max((r for r in rows if r["verdict"] == PARTLY_BLIND), key=lambda r: r["margin_db"])
+        return best["name"], (
+            f"no antenna reaches {what}; {best['name']} reaches the bottom only marginally (margin "
+            f"{best['margin_db']:.1f} dB) and is blind above {best['min_depth_m']:.2g} m")
     shallow = [r for r in rows if r["verdict"] == "too shallow"]
     if len(shallow) == len(rows):
         best = min(rows, key=lambda r: r["min_depth_m"])

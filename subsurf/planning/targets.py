@@ -91,9 +91,19 @@ def make_target(kind: str, *, depth_m=None, size_m=None, material: str | None = 
 
 
 def target_summary(target) -> dict:
-    """The target as plain JSON-able facts (SI units, keys with units)."""
+    """The target as plain JSON-able facts (SI units, keys with units).
+
+    ``depth_m`` is the depth at which reach is judged; a range of depths of interest adds
+    ``depth_top_m`` (blind zone and resolution judged there), ``depth_bottom_m`` (= ``depth_m``)
+    and, for a list, ``depths_m``.
+    """
     out = {"kind": target.kind, "depth_m": target.depth_m, "size_m": target.size_m,
            "material": target.material}
+    if getattr(target, "is_range", False):
+        out["depth_top_m"] = target.depth_top_m
+        out["depth_bottom_m"] = target.depth_m
+        if target.depths_m is not None:
+            out["depths_m"] = list(target.depths_m)
     if target.kind == "line":
         out["orientation"] = target.orientation
     if target.conductor:
