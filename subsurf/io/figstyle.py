@@ -133,21 +133,32 @@ def style_axes(ax, *, minor_grid: bool = True) -> None:
 
 
 def _settle_layout(fig, *, passes: int = 4, tol: float = 1e-3) -> None:
-    """Draw ``fig`` without output until its axes stop moving (at most ``passes`` draws).
+    """Decide ``fig``'s layout once, before the one draw that renders it.
 
-    Constrained layout places titles, colour bars and legends from the sizes found in the
-    previous draw; on a figure's first draws they are not known yet (a panel title can land on
-    the suptitle), so the PNG is saved only once the layout has settled.
+    Constrained layout places titles, colour bars and legends from the extents of their text
+    (measured with the canvas's renderer); equal-aspect map panels, shared axes and a legend
+    outside the panels move one another, so the layout is run until the axes stop moving (at
+    most ``passes`` runs of the layout alone: no artist is drawn) and then frozen, and the PNG
+    is rendered by a single draw.  Before, each figure was drawn four to six times in full.
     """
+    import matplotlib as mpl
     import numpy as np
+    from matplotlib.layout_engine import PlaceHolderLayoutEngine
 
+    engine = fig.get_layout_engine()
+    if engine is None or isinstance(engine, PlaceHolderLayoutEngine):
+        return
     before = None
     for _ in range(passes):
-        fig.draw_without_rendering()
+        engine.execute(fig)
         now = np.array([ax.get_position().bounds for ax in fig.axes]) if fig.axes else np.zeros((0, 4))
         if before is not None and before.shape == now.shape and np.allclose(before, now, atol=tol):
-            return
+            break
         before = now
+    # the positions just found stay: no layout engine, so savefig neither runs the layout again nor makes the
+    # extra draw it makes for one
+    with mpl.rc_context({"figure.autolayout": False, "figure.constrained_layout.use": False}):
+        fig.set_layout_engine(None)
 
 
 def png_bytes(fig) -> bytes:
