@@ -40,7 +40,7 @@ from ..units import parse_quantity
 from ._values import _check_value, _quantity
 from .crs import read_crs
 from .schema import QUANTITIES, SD_SUFFIX
-from .vectors import note
+from .vectors import check_lonlat_under_projected, note
 
 __all__ = ["SampleSet", "read_samples", "sniff_table", "MISSING"]
 
@@ -291,6 +291,9 @@ def read_samples(entry, *, survey_path: Path, where: str) -> SampleSet:
     for q, v in values.items():
         if not np.any(np.isfinite(v)):
             raise FileInputError(path, f"column {q!r} has no values (every cell is blank)", field=q)
+    if xs:
+        check_lonlat_under_projected(path, (min(xs), min(ys), max(xs), max(ys)), crs,
+                                     where=f"the survey ({where} crs)")
     _report(path, delim=delim, decimal=decimal, ignored=ignored, blanks=blanks, skipped=skipped)
     return SampleSet(path=path, crs=crs, x=np.asarray(xs), y=np.asarray(ys), rows=np.asarray(rows),
                      values=values, sd=sds, delimiter=delim, decimal=decimal,

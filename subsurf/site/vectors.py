@@ -37,7 +37,8 @@ from .._schema import fail
 from ..errors import FileInputError
 from .crs import horizontal_crs_problem
 
-__all__ = ["read_polygons", "check_polygon", "same_crs", "InputNote", "note", "VECTOR_SUFFIXES"]
+__all__ = ["read_polygons", "check_polygon", "same_crs", "InputNote", "note", "VECTOR_SUFFIXES",
+           "check_lonlat_under_projected"]
 
 #: File name endings read as vector files (anything else is still tried through GDAL).
 VECTOR_SUFFIXES = (".geojson", ".json", ".gpkg", ".shp", ".kml", ".kmz", ".fgb", ".gml")
@@ -132,33 +133,71 @@ def _file_crs(path: Path, meta_crs, suffix: str):
     return crs
 
 
-def _refuse_lonlat_under_projected(path: Path, geoms, declared_crs, field: str) -> None:
-    """Refuse a GeoJSON with no ``crs`` member whose coordinates are longitude/latitude under a projected declaration.
+def _projected_bounds(crs):
+    """(west, south, east, north) of ``crs``'s area of use in its own coordinates (pyproj), or None if unknown."""
+    from pyproj import Transformer
 
-    RFC 7946 GeoJSON is lon/lat, so a file exported "as GeoJSON" often is, while the survey
-    names a projected CRS. Such coordinates read as metres would put the whole site within a
-    metre or so of the projection's false origin. Taken as lon/lat when every vertex lies
-    within [-180, 180] x [-90, 90], the whole extent spans under 1 declared unit (a survey area
-    under a metre across is not a survey area) and, where PROJ knows the declared CRS's area of
-    use, the centre lies inside it.
+    area = crs.area_of_use
+    if area is None:
+        return None
+    try:
+        t = Transformer.from_crs("EPSG:4326", crs, always_xy=True)
+        b = t.transform_bounds(area.west, area.south, area.east, area.north, densify_pts=21)
+    except Exception:  # noqa: BLE001 - PROJ cannot always project a whole area of use
+        return None
+    return b if all(math.isfinite(v) for v in b) else None
+
+
+def check_lonlat_under_projected(path, bounds, declared_crs, *, where: str) -> None:
+    """Refuse (or note, when both readings are plausible) lon/lat numbers under a projected declaration.
+
+    ``bounds`` = (xmin, ymin, xmax, ymax) of the file's coordinates as written.  When the
+    numbers fit longitude/latitude (|x| <= 180, |y| <= 90) but the declared CRS is projected,
+    the two readings are compared with the CRS's area of use (pyproj ``area_of_use``, in
+    lon/lat, and projected to the CRS's own coordinates): outside it as declared is one line
+    naming the file and both readings (whether or not the lon/lat reading falls inside it);
+    inside it both ways (a CRS whose valid area reaches its false origin) is a note; where
+    PROJ knows no area of use, a whole extent under one declared unit (a survey area under a
+    metre across is not a survey area) is taken as lon/lat.
     """
-    import shapely
-
     if not getattr(declared_crs, "is_projected", False):
         return
+    x0, y0, x1, y1 = (float(v) for v in bounds)
+    if not all(math.isfinite(v) for v in (x0, y0, x1, y1)):
+        return
+    if not (-180 <= x0 <= x1 <= 180 and -90 <= y0 <= y1 <= 90):
+        return
+    area = declared_crs.area_of_use
+    proj = _projected_bounds(declared_crs)
+    cx, cy = (x0 + x1) / 2, (y0 + y1) / 2
+    label = _crs_label(declared_crs)
+    if area is None or proj is None:
+        as_lonlat = max(x1 - x0, y1 - y0) < 1.0
+        as_projected = not as_lonlat
+    else:
+        as_lonlat = area.west <= cx <= area.east and area.south <= cy <= area.north
+        as_projected = proj[0] <= x0 and x1 <= proj[2] and proj[1] <= y0 and y1 <= proj[3]
+    read_as = (f"read as {label} they lie {'inside' if as_projected else 'outside'} its valid area"
+               + (f" (x {proj[0]:.0f} to {proj[2]:.0f}, y {proj[1]:.0f} to {proj[3]:.0f})" if proj else "")
+               + f"; read as longitude/latitude (WGS 84, EPSG:4326) ({cx:.5f}, {cy:.5f}) lies "
+               + ("inside" if as_lonlat else "outside") + " it")
+    if not as_projected:  # impossible as declared, plausible as lon/lat (here or elsewhere): both readings named
+        raise FileInputError(path, f"the coordinates look like longitude/latitude but {where} declares {label}: "
+                             f"{read_as}; declare crs = \"EPSG:4326\" or reproject the file")
+    if as_lonlat and as_projected:
+        note(f"{Path(path).name}: the coordinates could be longitude/latitude or {label} ({read_as}); "
+             f"taken as {label}, as declared")
+
+
+def _refuse_lonlat_under_projected(path: Path, geoms, declared_crs, field: str) -> None:
+    """:func:`check_lonlat_under_projected` on the bounds of a vector file's geometries."""
+    import shapely
+
     valid = [g for g in geoms if g is not None and not g.is_empty]
     if not valid:
         return
-    x0, y0, x1, y1 = shapely.total_bounds(np.asarray(valid, dtype=object))
-    if not (-180 <= x0 <= x1 <= 180 and -90 <= y0 <= y1 <= 90) or max(x1 - x0, y1 - y0) >= 1.0:
-        return
-    area = declared_crs.area_of_use
-    cx, cy = (x0 + x1) / 2, (y0 + y1) / 2
-    if area is not None and not (area.west <= cx <= area.east and area.south <= cy <= area.north):
-        return
-    raise FileInputError(path, f"the coordinates ({cx:.5f}, {cy:.5f}) are longitude/latitude (WGS 84, "
-                         f"EPSG:4326, as RFC 7946 GeoJSON is) but the survey declares {_crs_label(declared_crs)} "
-                         f"({field.replace(' file', '')} crs); declare crs = \"EPSG:4326\" or reproject the file")
+    bounds = shapely.total_bounds(np.asarray(valid, dtype=object))
+    check_lonlat_under_projected(path, bounds, declared_crs, where=f"the survey ({field.replace(' file', '')} crs)")
 
 
 def _choose_layer(path: Path, layer: str | None, *, survey_path: Path, field: str) -> str | None:
@@ -253,7 +292,7 @@ def read_polygons(path, *, survey_path: Path, field: str, declared_crs, layer: s
     if wkb is None or len(wkb) == 0:
         raise FileInputError(path, "no polygon features")
     geoms = shapely.from_wkb(np.asarray(wkb, dtype=object))
-    if own is None and suffix in (".geojson", ".json"):
+    if own is None:  # GeoJSON without a 'crs' member, a Shapefile without .prj: only the declaration speaks
         _refuse_lonlat_under_projected(path, geoms, declared_crs, field)
     out = []
     for i, geom in enumerate(geoms):

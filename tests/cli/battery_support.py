@@ -84,6 +84,7 @@ def make_workspace(ws: Path) -> None:
         "antenna": _variant(survey, '"lowband-100", "midband-250"', '"nosuch-antenna", "midband-250"'),
         "depth": _variant(survey, 'depth = "1.2 m"', 'depth = "-1 m"'),
         "samples": _variant(survey, 'file = "samples.csv"', 'file = "samples_latin1.csv"'),
+        "samples_utm": _variant(survey, 'file = "samples.csv"\ncrs = "EPSG:4326"', 'file = "samples.csv"\ncrs = "EPSG:32630"'),
         "nooutline": _variant(survey, 'outline = "outline.geojson"', 'outline = "nowhere.geojson"'),
         "syntax": survey.replace("[target]", "[target\n"),
         "zonesdir": _variant(survey, 'file = "zones.geojson"', 'file = "zonesdir"'),

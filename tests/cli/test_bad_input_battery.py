@@ -293,6 +293,8 @@ CASES_ALL = [
       "[antennas] names", "lowband-100", "cat_good.toml"),
     C("map-catalogue-missing", f"map {S} --catalogue nowhere.toml --out m", 1, "--catalogue", "nowhere.toml"),
     C("map-catalogue-folder", f"map {S} --catalogue soilfacts --out m", 1, "soilfacts"),
+    C("map-samples-lonlat-declared-utm", "map site/survey_samples_utm.toml --out m", 1, "samples.csv", "EPSG:32630",
+      "longitude/latitude"),
     # -- region --------------------------------------------------------------------------
     C("region-200000-squared", ["region", "--synthetic", "200000x200000", *PLANAR, "--out", "r.nc"], 1,
       "--allow-large"),

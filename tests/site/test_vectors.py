@@ -244,3 +244,53 @@ def test_cli_map_from_geopackage_and_crs_mismatch_exit_1(tmp_path):
     assert bad.returncode == 1
     lines = [ln for ln in bad.stderr.splitlines() if ln.strip()]
     assert len(lines) == 1 and "EPSG:27700" in lines[0] and "EPSG:32630" in lines[0]
+
+
+def test_lonlat_outside_the_declared_area_names_both_readings(tmp_path):
+    """Zones in lon/lat far from UTM 30N (central Europe, 10-11 degE) under EPSG:32630: as metres they are
+    outside the zone's valid area (pyproj area_of_use projected to the zone), so refused naming both."""
+    from subsurf.site.survey import load_survey
+
+    survey = _site(tmp_path, "geojson")
+    ring = [[10.0, 50.0], [10.001, 50.0], [10.001, 50.001], [10.0, 50.001], [10.0, 50.0]]
+    data = {"type": "FeatureCollection", "features": [{"type": "Feature", "properties": {"texture": "loam"},
+                                                        "geometry": {"type": "Polygon", "coordinates": [ring]}}]}
+    (survey.parent / "zones.geojson").write_text(json.dumps(data))
+    with pytest.raises(FileInputError) as err:
+        load_survey(survey)
+    msg = str(err.value)
+    assert "zones.geojson" in msg and "EPSG:32630" in msg and "outside its valid area" in msg
+    assert "longitude/latitude" in msg and "(10.00050, 50.00050) lies outside it" in msg and "\n" not in msg
+
+
+def test_lonlat_check_both_ways_against_pyproj_area_of_use():
+    """The same numbers: refused under UTM 30N (outside its projected valid area), noted as ambiguous under
+    Web Mercator (whose valid area, per pyproj, holds them both as metres and as lon/lat), and metre-sized
+    coordinates of a real UTM site pass without a word."""
+    from pyproj import CRS
+
+    from subsurf.site.vectors import check_lonlat_under_projected
+
+    box = (-3.2, 54.1, -3.19, 54.11)
+    assert CRS("EPSG:32630").area_of_use.west <= -3.2  # pyproj: the lon/lat reading is inside UTM 30N's area
+    with pytest.raises(FileInputError, match=r"inside it; declare crs"):
+        check_lonlat_under_projected("z.geojson", box, CRS("EPSG:32630"), where="the survey")
+    with pytest.warns(InputNote, match="could be longitude/latitude or EPSG:3857"):
+        check_lonlat_under_projected("z.geojson", box, CRS("EPSG:3857"), where="the survey")
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        check_lonlat_under_projected("z.geojson", (597_000, 5_780_000, 597_300, 5_780_200), CRS("EPSG:32630"),
+                                     where="the survey")
+
+
+def test_sample_csv_in_lonlat_under_projected_declaration_refused(tmp_path):
+    """The example's lon/lat samples declared as EPSG:32630 are refused naming the CSV (not mapped near 0, 0)."""
+    from subsurf.site.survey import load_survey
+
+    survey = _site(tmp_path, "geojson")
+    text = survey.read_text()
+    old = 'file = "samples.csv"\ncrs = "EPSG:4326"'
+    assert old in text
+    survey.write_text(text.replace(old, 'file = "samples.csv"\ncrs = "EPSG:32630"'))
+    with pytest.raises(FileInputError, match=r"samples\.csv.*look like longitude/latitude.*EPSG:32630"):
+        load_survey(survey)
