@@ -143,6 +143,19 @@ CALIBRATION_SUMMARY = obj({
     "note": text("what the calibration changed, one line"),
 }, "the site calibration applied (--calibration), or null", null=True)
 
+CONTRAST = obj({
+    "reflection_magnitude": num("|R| at normal incidence, host → target (dimensionless, 0-1)", minimum=0, maximum=1),
+    "reflection_db": num("20·log10 |R| (dB); null for |R| = 0", null=True),
+    "freq_mhz": num("frequency of that |R|, the weakest over the antennas' centre frequencies (MHz)"),
+    "host_eps_real": num("host ground ε' at that frequency (dimensionless)"),
+    "host_sigma_eff_ms_per_m": num("host effective conductivity at that frequency (mS/m)"),
+    "target_eps_real": num("target ε' (dimensionless); null for a perfect conductor or a given reflection",
+                           null=True),
+    "low_contrast_limit": num("|R| below which the target is flagged low contrast (dimensionless)"),
+    "low_contrast": boolean("|R| is below the limit"),
+    "note": text("the low-contrast note, or null", null=True),
+}, "the target's reflection contrast in its host")
+
 FIT_ROWS = array(integer("row number in the pick CSV (1 = header line)", minimum=1), "CSV rows used by the fit")
 
 
@@ -226,6 +239,7 @@ def choose_schema() -> dict:
         "rows": array(choose_row(), "one row per antenna"),
         "recommendation": obj({"antenna": text("recommended antenna, or null when none reaches", null=True),
                                "reason": text("why, one line")}, "the recommendation"),
+        "contrast": CONTRAST,
         "caution": CAUTION,
         "warnings": WARNINGS,
         "calibration": CALIBRATION_SUMMARY,
@@ -260,11 +274,35 @@ def setup_schema() -> dict:
         "rules": rules,
         "area_m2": num("survey area (m²)", null=True),
         "grid_3d": boolean("a 3-D grid (--grid-3d) is planned"),
+        "survey": survey_effort(),
+        "contrast": {**CONTRAST, "type": ["object", "null"], "description": "the target's contrast, or null "
+                     "without a target"},
         "notes": strings("planning notes"),
         "caution": CAUTION,
         "warnings": WARNINGS,
         "calibration": CALIBRATION_SUMMARY,
     }, "subsurf setup --json: acquisition settings for one antenna")
+
+
+def survey_effort() -> dict:
+    grid = obj({
+        "grid": text("grid kind", enum=("2d_detection", "3d_practice", "3d_limit")),
+        "label": text("the grid in words"),
+        "planned": boolean("the plan shows this grid (2D lines, or both 3D spacings with --grid-3d)"),
+        "line_spacing_m": num("line spacing (m)"),
+        "lines": integer("parallel lines over the area", minimum=1),
+        "total_line_km": num("length of all lines (km)"),
+        "survey_time_h": num("time to record them at the towing speed, turns included (h)"),
+        "unaliased_dip_deg": num("steepest dip sampled without aliasing across the lines (degrees, 0-90); null "
+                                 "for 2D lines", null=True, minimum=0, maximum=90),
+    }, "one grid")
+    return obj({
+        "area_m2": num("area covered (m²)"),
+        "line_length_m": num("length of one line (m)"),
+        "speed_m_per_s": num("towing speed (m/s)"),
+        "turn_time_s": num("time per turn between lines (s)"),
+        "grids": array(grid, "2D detection lines, 3D common practice, 3D λ/4 imaging limit"),
+    }, "survey effort over the area for each grid, or null without an area or a reachable target", null=True)
 
 
 def depth_schema() -> dict:

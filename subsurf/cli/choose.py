@@ -217,6 +217,9 @@ def compute(medium, target, antennas, *, surface_loss_db=None, layers=()) -> dic
                 row[k] = r[k]
         rows.append(row)
     name, reason = recommend(rows_si, target=target)
+    from ..detection.contrast import target_contrast
+
+    contrast = target_contrast(medium.electrical, target, [a.centre_freq_hz for a in antennas])
     return {
         "ground": medium.label,
         "facts": soil_facts_json(medium.facts),
@@ -230,6 +233,7 @@ def compute(medium, target, antennas, *, surface_loss_db=None, layers=()) -> dic
            if target.is_range else {}),
         "rows": rows,
         "recommendation": {"antenna": name, "reason": reason},
+        "contrast": contrast.as_json(),
         "caution": CAUTION,
     }
 
@@ -303,6 +307,9 @@ def run(args) -> int:
         text += (f"\nOrientation: assumes the antenna dipoles parallel to the pipe; across it the return is up to "
                  f"{worst['orientation_penalty_db']:.1f} dB weaker ({worst['antenna']}); use --orientation unknown "
                  "if the pipe direction is not known.")
+    if result["contrast"]["low_contrast"]:
+        note = result["contrast"]["note"]
+        text += f"\n{note[0].upper()}{note[1:]}."
     if any(r["illustrative"] for r in result["rows"]):
         text += "\nCatalogue figures are ILLUSTRATIVE demo values; use your instrument's measured figures."
     text += f"\nAntennas: {result['catalogue']['text']}."

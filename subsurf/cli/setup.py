@@ -23,8 +23,8 @@ def add_arguments(parser) -> None:
                    "limit or a 1 m/s walking pace, whichever is lower)")
     a.add_argument("--stacks", type=int, metavar="N", help="traces stacked (default: the catalogue's, raised "
                    "to reach the 'reaches' margin when a target is given, never beyond the clutter limit)")
-    a.add_argument("--grid-3d", action="store_true", help="plan 3D imaging (λ/4 line spacing) instead of 2D "
-                   "detection lines for the survey time")
+    a.add_argument("--grid-3d", action="store_true", help="plan a 3D grid instead of 2D detection lines: "
+                   "survey time at the common-practice spacing and at the λ/4 imaging limit")
     from ._calibration import add_calibration_argument
 
     add_calibration_argument(parser)
@@ -75,8 +75,8 @@ def run(args) -> int:
     result["facts"] = soil_facts_json(result["facts"])
     result["warnings"] = warns
     result["calibration"] = calibration
-    rows = [{"setting": label, "value": result["settings"][k], "unit": unit, "rule": rule, "_fmt": fmt}
-            for k, label, unit, fmt, rule in ROWS_SPEC if result["settings"][k] is not None]
+    rows = [{"setting": label, "value": result["settings"][k], "unit": unit, "rule": result["rules"][k], "_fmt": fmt}
+            for k, label, unit, fmt, _ in ROWS_SPEC if result["settings"][k] is not None]
     for r in rows:
         r["value"] = format(r["value"], r.pop("_fmt"))
     g = result["ground_at_centre"]
@@ -96,6 +96,8 @@ def run(args) -> int:
         keep = {"depth of interest", "blind zone (min depth)", "stacks", "margin at depth"}
         text = format_table([r for r in rows if r["setting"] in keep], cols, title=title)
         text = f"{result['verdict'].upper()}: no survey planned.\n" + text
+    if result["survey"]:
+        text += "\n\n" + survey_table(result["survey"])
     for n in result["notes"]:
         text += f"\nNote: {n}."
     if antenna.illustrative:
@@ -104,3 +106,22 @@ def run(args) -> int:
     print_result(result, text, as_json=args.json)
     print_notes(warns, quiet=args.quiet or args.json)
     return 0
+
+
+def survey_table(survey: dict, *, planned_only: bool = True) -> str:
+    """The survey effort of the planned grids: spacing, lines, km of line, hours."""
+    from ..io.outputs import Column, format_table
+
+    rows = [{"grid": g["label"], "line_spacing_m": g["line_spacing_m"], "lines": g["lines"],
+             "total_line_km": g["total_line_km"], "survey_time_h": g["survey_time_h"],
+             "unaliased_dip_deg": g["unaliased_dip_deg"]}
+            for g in survey["grids"] if g["planned"] or not planned_only]
+    cols = [Column("grid", "grid"), Column("line_spacing_m", "spacing", "m", ".3g"), Column("lines", "lines", "", "d"),
+            Column("total_line_km", "line", "km", ".3g"), Column("survey_time_h", "time", "h", ".3g"),
+            Column("unaliased_dip_deg", "dips imaged to", "°", ".0f")]
+    if all(r["unaliased_dip_deg"] is None for r in rows):  # 2D lines only: no imaging between lines
+        cols.pop()
+    title = (f"Survey time over {survey['area_m2']:,.0f} m² (lines {survey['line_length_m']:.4g} m long, "
+             f"{survey['speed_m_per_s']:.3g} m/s, {survey['turn_time_s']:g} s per turn; lines × length / speed "
+             "+ turns)")
+    return format_table(rows, cols, title=title)

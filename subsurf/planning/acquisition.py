@@ -3,7 +3,8 @@
 Each rule is a small broadcasting function with its published source (or "common
 practice" where the rule is the field's habit rather than a paper's result);
 :func:`plan_acquisition` combines them for one antenna, one ground and one depth of
-interest.  SI units throughout; this module reads no files.
+interest.  Line spacings and the survey effort live in :mod:`.coverage` (re-exported
+here).  SI units throughout; this module reads no files.
 """
 
 from __future__ import annotations
@@ -14,7 +15,17 @@ from dataclasses import dataclass
 import numpy as np
 from scipy import constants
 
-from ..errors import InputError, check_nonnegative, check_positive
+from ..errors import InputError, check_positive
+from .coverage import (
+    TURN_TIME_S,
+    SurveyEffort,
+    line_spacing_2d,
+    line_spacing_3d,
+    line_spacing_3d_practice,
+    survey_effort,
+    survey_time,
+    unaliased_dip_deg,
+)
 
 __all__ = [
     "WINDOW_MARGIN",
@@ -26,11 +37,14 @@ __all__ = [
     "optimum_separation",
     "line_spacing_2d",
     "line_spacing_3d",
+    "line_spacing_3d_practice",
     "MIN_DOUBLING_GAIN_DB",
     "clutter_stack_limit",
     "stacks_for_margin",
     "max_speed",
     "survey_time",
+    "SurveyEffort",
+    "unaliased_dip_deg",
     "AcquisitionPlan",
     "plan_acquisition",
 ]
@@ -120,24 +134,6 @@ def optimum_separation(depth_m, eps_real):
     return 2.0 * d / np.sqrt(er - 1.0)
 
 
-def line_spacing_2d(footprint_radius_m, target_size_m=0.0):
-    """Line spacing (m) for 2D detection: S = 2A + D.
-
-    A target of width D midway between two lines is still inside the footprint of one
-    of them (footprint semi-axis A at the target depth, Annan & Cosway 1992).  For pipes
-    the lines cross the expected direction at right angles; the spacing then fixes how
-    closely the route is traced.  Our own geometric rule, stated so it can be checked.
-    """
-    a = check_positive("footprint_radius_m", footprint_radius_m, unit="m")
-    s = check_nonnegative("target_size_m", target_size_m, unit="m")
-    return 2.0 * a + s
-
-
-def line_spacing_3d(wavelength_m):
-    """Line spacing (m) for 3D imaging: the same λ/4 as along the line (Grasmueck et al. 2005)."""
-    return trace_spacing(wavelength_m)
-
-
 #: Stacking stops where one more doubling adds less than this (dB): beyond it the clutter
 #: floor, not noise, limits the signal (our rule, stated; see clutter_stack_limit).
 MIN_DOUBLING_GAIN_DB = 1.0
@@ -191,34 +187,6 @@ def max_speed(trace_spacing_m, trace_rate_hz, stacks=1):
     return dx * r / n
 
 
-def survey_time(area_m2, line_spacing_m, speed_m_per_s, *, line_length_m=None, turn_time_s: float = 10.0):
-    """Time (s) to cover an area with parallel lines: L_total/v plus a turn per line.
-
-    Parameters
-    ----------
-    area_m2 : float
-        Area to cover.
-    line_spacing_m, speed_m_per_s : float
-    line_length_m : float or None
-        Length of one line; None takes a square area (√A).
-    turn_time_s : float
-        Time to turn and position for the next line (10 s is our default for a
-        hand-pushed or towed antenna).
-
-    Notes
-    -----
-    n = ⌈(A/ℓ)/s⌉ + 1 lines of length ℓ; T = n·ℓ/v + (n − 1)·t_turn.
-    """
-    a = float(check_positive("area_m2", area_m2, unit="m²"))
-    s = float(check_positive("line_spacing_m", line_spacing_m, unit="m"))
-    v = float(check_positive("speed_m_per_s", speed_m_per_s, unit="m/s"))
-    ell = math.sqrt(a) if line_length_m is None else float(check_positive("line_length_m", line_length_m))
-    if turn_time_s < 0:
-        raise InputError(f"turn_time_s must be >= 0, got {turn_time_s:g}")
-    n = math.ceil(a / ell / s - 1e-9) + 1
-    return n * ell / v + (n - 1) * turn_time_s
-
-
 @dataclass(frozen=True)
 class AcquisitionPlan:
     """Settings for one antenna, ground and depth of interest (SI units)."""
@@ -234,6 +202,8 @@ class AcquisitionPlan:
     trace_spacing_m: float
     line_spacing_2d_m: float
     line_spacing_3d_m: float
+    line_spacing_3d_practice_m: float
+    unaliased_dip_practice_deg: float
     optimum_separation_m: float
     antenna_separation_m: float
     stacks: int
@@ -242,6 +212,8 @@ class AcquisitionPlan:
     area_m2: float | None
     line_spacing_used_m: float | None
     survey_time_s: float | None
+    #: every grid kind over ``area_m2`` (2D detection, 3D common practice, 3D λ/4 limit); empty without an area
+    surveys: tuple[SurveyEffort, ...] = ()
 
 
 def plan_acquisition(*, centre_freq_hz: float, band_top_hz: float, velocity: float, wavelength_m: float,
@@ -249,14 +221,16 @@ def plan_acquisition(*, centre_freq_hz: float, band_top_hz: float, velocity: flo
                      antenna_separation_m: float = 0.0, trace_rate_hz: float, stacks: int = 1,
                      speed_m_per_s: float | None = None, area_m2: float | None = None,
                      imaging: bool = False, line_length_m: float | None = None,
-                     turn_time_s: float = 10.0) -> AcquisitionPlan:
+                     turn_time_s: float = TURN_TIME_S) -> AcquisitionPlan:
     """All settings for one antenna at one depth of interest.
 
     ``velocity`` and ``wavelength_m`` are the ground's at the centre frequency;
     ``footprint_radius_m`` the footprint semi-axis at ``depth_m``.  The towing speed is
     ``speed_m_per_s`` if given (it must not exceed the trace-rate limit), otherwise the
     smaller of the limit and a walking pace (1 m/s).  ``imaging`` selects the 3D line
-    spacing for the survey time; otherwise the 2D detection spacing.
+    spacing at the λ/4 imaging limit for ``survey_time_s``; otherwise the 2D detection
+    spacing.  ``surveys`` holds the lines, length and time of all three grids
+    (:mod:`subsurf.planning.coverage`) whenever an area is given.
     """
     window = float(time_window(depth_m, velocity))
     dt_rule = 1.0 / (SAMPLES_PER_PERIOD * centre_freq_hz)
@@ -265,6 +239,7 @@ def plan_acquisition(*, centre_freq_hz: float, band_top_hz: float, velocity: flo
     dx = float(trace_spacing(wavelength_m))
     ls2 = float(line_spacing_2d(footprint_radius_m, target_size_m))
     ls3 = float(line_spacing_3d(wavelength_m))
+    ls3p = float(line_spacing_3d_practice(footprint_radius_m, wavelength_m))
     vmax = float(max_speed(dx, trace_rate_hz, stacks))
     if speed_m_per_s is None:
         speed = min(vmax, WALKING_SPEED)
@@ -276,16 +251,21 @@ def plan_acquisition(*, centre_freq_hz: float, band_top_hz: float, velocity: flo
                              "slow down or stack less")
     spacing_used = ls3 if imaging else ls2
     t_survey = None
+    surveys = ()
     if area_m2 is not None:
         t_survey = float(survey_time(area_m2, spacing_used, speed, line_length_m=line_length_m,
                                      turn_time_s=turn_time_s))
+        surveys = tuple(survey_effort(kind, area_m2, spacing, speed, line_length_m=line_length_m,
+                                      turn_time_s=turn_time_s)
+                        for kind, spacing in (("2d_detection", ls2), ("3d_practice", ls3p), ("3d_limit", ls3)))
     return AcquisitionPlan(
         depth_m=float(depth_m), velocity_m_per_s=float(velocity), wavelength_m=float(wavelength_m),
         window_s=window, sampling_interval_s=dt, samples=n,
         samples_power_of_two=int(2 ** math.ceil(math.log2(n))), nyquist_limited=dt < dt_rule * (1 - 1e-12),
-        trace_spacing_m=dx, line_spacing_2d_m=ls2, line_spacing_3d_m=ls3,
+        trace_spacing_m=dx, line_spacing_2d_m=ls2, line_spacing_3d_m=ls3, line_spacing_3d_practice_m=ls3p,
+        unaliased_dip_practice_deg=float(unaliased_dip_deg(ls3p, wavelength_m)),
         optimum_separation_m=float(optimum_separation(depth_m, eps_real)),
         antenna_separation_m=float(antenna_separation_m), stacks=int(stacks), max_speed_m_per_s=vmax,
         speed_m_per_s=speed, area_m2=area_m2, line_spacing_used_m=spacing_used if area_m2 else None,
-        survey_time_s=t_survey,
+        survey_time_s=t_survey, surveys=surveys,
     )

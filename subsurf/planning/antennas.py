@@ -80,6 +80,10 @@ class Antenna:
         System performance for a single trace (dB).
     separation_m : float
         Transmitter–receiver separation (m).
+    separation_adjustable : bool
+        True where transmitter and receiver are separate units whose separation the crew
+        sets (``separation_m`` is then the usual setting); False (default) where it is
+        fixed in one housing, as in shielded antennas.
     gain : float or None
         Fixed one-way gain in the ground (linear); None (the default) uses the in-ground
         gain of a dipole on the surface (:func:`subsurf.detection.coupling.coupling_gain`).
@@ -108,6 +112,7 @@ class Antenna:
     clutter_limit_db: float = CLUTTER_LIMIT_DB
     notes: str = ""
     illustrative: bool = False
+    separation_adjustable: bool = False
 
     def __post_init__(self):
         for field_name in ("centre_freq_hz", "bandwidth_hz", "performance_db", "trace_rate_hz", "clutter_limit_db"):

@@ -58,6 +58,9 @@ class AntennaEntry(Strict):
     bandwidth_mhz: _number("full width at half power of the spectrum, MHz (0.25 to 2 x centre)", gt=0, le=1e5)
     system_performance_db: _number("largest two-way loss the system detects for ONE trace, dB", gt=0, le=400)
     separation_m: _number("transmitter-receiver separation, m", ge=0, le=100)
+    separation_adjustable: bool = Field(
+        False, description="true where transmitter and receiver are separate units whose separation the crew "
+                           "sets (then separation_m is the usual setting); false where it is fixed in one housing")
     trace_rate_hz: _number("raw traces recorded per second", gt=0, le=1e7)
     stacks: Annotated[int, Field(strict=True, ge=1, le=1_000_000)] = Field(
         1, description="traces averaged per recorded trace")
@@ -82,6 +85,7 @@ class AntennaEntry(Strict):
         return Antenna(
             name=name, centre_freq_hz=self.centre_frequency_mhz * 1e6, bandwidth_hz=self.bandwidth_mhz * 1e6,
             performance_db=self.system_performance_db, separation_m=self.separation_m,
+            separation_adjustable=self.separation_adjustable,
             trace_rate_hz=self.trace_rate_hz, stacks=self.stacks,
             gain=None if self.gain_dbi is None else 10.0 ** (self.gain_dbi / 10.0),
             pulse_length_s=None if self.pulse_length_ns is None else self.pulse_length_ns * 1e-9,

@@ -5,7 +5,8 @@ Shared by ``subsurf setup`` and the planning report; numbers in human units (ns,
 
 from __future__ import annotations
 
-__all__ = ["ROWS_SPEC", "MAX_STACKS", "acquisition_for_antenna"]
+__all__ = ["ROWS_SPEC", "MAX_STACKS", "GRIDS_2D", "GRIDS_3D", "ALL_GRIDS", "acquisition_for_antenna",
+           "line_direction_note", "separation_note"]
 
 #: Most traces a plan may stack (2^16).  Our limit, stated: stacking beats random noise, not
 #: clutter, so past clutter_stack_limit (64 at a 15 dB clutter limit) a doubling adds under 1 dB,
@@ -24,22 +25,41 @@ ROWS_SPEC = [
     ("samples_power_of_two", "record length (2^n)", "", "d", "next power of two"),
     ("trace_spacing_m", "trace spacing", "m", ".3g", "≤ λ/4 in the ground (Annan 2009)"),
     ("line_spacing_2d_m", "line spacing, 2D detection", "m", ".3g",
-     "2 × footprint semi-axis + target size (lines across the pipe direction)"),
-    ("line_spacing_3d_m", "line spacing, 3D imaging", "m", ".3g", "≤ λ/4 (Grasmueck et al. 2005)"),
+     "2 × footprint semi-axis + target size (Annan & Cosway 1992)"),
+    ("line_spacing_3d_practice_m", "line spacing, 3D common practice", "m", ".3g",
+     "footprint semi-axis floored to 5 cm, ≥ λ/4 (common practice, not a sampling limit)"),
+    ("line_spacing_3d_m", "line spacing, 3D imaging limit", "m", ".3g",
+     "≤ λ/4 both ways for full-resolution 3D (Grasmueck et al. 2005)"),
     ("optimum_separation_m", "optimum antenna separation", "m", ".3g", "2d/√(ε'−1) (Annan & Cosway 1992)"),
-    ("antenna_separation_m", "this antenna's separation", "m", ".3g", "catalogue"),
+    ("antenna_separation_m", "this antenna's separation", "m", ".3g", "catalogue: fixed in the housing"),
     ("min_depth_m", "blind zone (min depth)", "m", ".2g", "½√(vτ(2x + vτ)): echo after the direct wave"),
     ("stacks", "stacks", "", "d", "10·log10((1+c)/(1/N+c)) dB, clutter-limited"),
     ("margin_db", "margin at depth", "dB", ".1f", "performance with stacking − two-way loss"),
     ("max_speed_m_per_s", "highest towing speed", "m/s", ".3g", "trace spacing × trace rate / stacks"),
     ("speed_m_per_s", "towing speed used", "m/s", ".3g", "given, or min(limit, 1 m/s)"),
-    ("survey_time_h", "survey time", "h", ".3g", "lines × length / speed + 10 s per turn"),
 ]
+
+#: The rule of the separation row for an antenna whose separation the crew sets.
+ADJUSTABLE_SEPARATION_RULE = "catalogue: the usual setting; adjustable"
+
+#: Grids whose survey time a plan shows: 2D detection lines, or both 3D spacings (--grid-3d).
+GRIDS_2D = ("2d_detection",)
+GRIDS_3D = ("3d_practice", "3d_limit")
+ALL_GRIDS = GRIDS_2D + GRIDS_3D
 
 
 def acquisition_for_antenna(medium, antenna, *, target=None, depth_m=None, surface_loss_db=None, stacks=None,
-                            area_m2=None, line_length_m=None, speed_m_per_s=None, imaging=False, layers=()) -> dict:
+                            area_m2=None, line_length_m=None, speed_m_per_s=None, imaging=False, layers=(),
+                            grids=None) -> dict:
     """Acquisition settings (human units) for ``antenna`` in ``medium``, with notes and the rules used.
+
+    ``grids`` names the grids whose survey effort the plan shows (``survey.grids[].planned``
+    and the notes that go with them): by default the 2D detection lines, or with ``imaging``
+    both 3D spacings (common practice and the λ/4 imaging limit); the JSON always holds all
+    three when an area is given.  Every note is printed only where its situation holds: the
+    direction of the 2D lines by target kind, the separation by whether the antenna's is
+    fixed, the aliasing of the coarser 3D spacing only where a 3D grid is shown, a low
+    reflection contrast only where |R| is below the stated limit.
 
     With a target the full budget decides: the stack count is raised (powers of two) only
     up to the clutter limit (:func:`subsurf.planning.acquisition.clutter_stack_limit`); a
@@ -55,6 +75,7 @@ def acquisition_for_antenna(medium, antenna, *, target=None, depth_m=None, surfa
     from ..waves.propagation import wave_properties
     from .acquisition import clutter_stack_limit, plan_acquisition, stacks_for_margin
     from .antennas import antenna_budget_for, target_summary
+    from .coverage import TURN_TIME_S
 
     fc = antenna.centre_freq_hz
     eps, sig = medium.electrical(np.array([fc]))
@@ -131,6 +152,7 @@ def acquisition_for_antenna(medium, antenna, *, target=None, depth_m=None, surfa
         antenna_separation_m=antenna.separation_m, trace_rate_hz=antenna.trace_rate_hz, stacks=stacks,
         speed_m_per_s=speed_m_per_s, area_m2=area_m2 if reachable else None, imaging=imaging,
         line_length_m=line_length_m)
+    grids = tuple(grids) if grids is not None else (GRIDS_3D if imaging else GRIDS_2D)
     settings = {
         "depth_m": plan.depth_m,
         "window_ns": plan.window_s * 1e9,
@@ -139,6 +161,7 @@ def acquisition_for_antenna(medium, antenna, *, target=None, depth_m=None, surfa
         "samples_power_of_two": plan.samples_power_of_two,
         "trace_spacing_m": plan.trace_spacing_m,
         "line_spacing_2d_m": plan.line_spacing_2d_m,
+        "line_spacing_3d_practice_m": plan.line_spacing_3d_practice_m,
         "line_spacing_3d_m": plan.line_spacing_3d_m,
         "optimum_separation_m": plan.optimum_separation_m,
         "antenna_separation_m": plan.antenna_separation_m,
@@ -147,14 +170,32 @@ def acquisition_for_antenna(medium, antenna, *, target=None, depth_m=None, surfa
         "margin_db": margin,
         "max_speed_m_per_s": plan.max_speed_m_per_s,
         "speed_m_per_s": plan.speed_m_per_s,
-        "survey_time_h": None if plan.survey_time_s is None else plan.survey_time_s / 3600.0,
     }
+    rules = {k: rule for k, _, _, _, rule in ROWS_SPEC}
+    if antenna.separation_adjustable:
+        rules["antenna_separation_m"] = ADJUSTABLE_SEPARATION_RULE
+    contrast = None
+    if target is not None:
+        from ..detection.contrast import target_contrast
+
+        contrast = target_contrast(medium.electrical, target, [fc])
+        if contrast.low:
+            notes.append(contrast.note())
     if plan.nyquist_limited:
         notes.append("sampling interval set by the Nyquist limit of the top of the band")
-    ratio = plan.antenna_separation_m / plan.optimum_separation_m
-    if ratio < 0.5 or ratio > 2.0:
-        notes.append(f"this antenna's fixed separation ({plan.antenna_separation_m:.3g} m) differs from the "
-                     f"optimum for {plan.depth_m:.3g} m ({plan.optimum_separation_m:.3g} m) by more than ×2")
+    sep = separation_note(antenna, plan.depth_m, plan.optimum_separation_m) if reachable else None
+    if sep:
+        notes.append(sep)
+    direction = line_direction_note(target, plan.line_spacing_2d_m) if reachable and target is not None else None
+    if direction and "2d_detection" in grids:
+        notes.append(direction)
+    survey = _survey(plan, grids, turn_time_s=TURN_TIME_S) if plan.surveys else None
+    if survey and any(g in grids for g in GRIDS_3D) and plan.line_spacing_3d_practice_m > plan.line_spacing_3d_m:
+        notes.append(f"3D grid at the common-practice {plan.line_spacing_3d_practice_m:.3g} m instead of λ/4 "
+                     f"({plan.line_spacing_3d_m:.2g} m): reflectors dipping more than "
+                     f"{plan.unaliased_dip_practice_deg:.0f}° and the flanks of diffraction hyperbolae (curved, "
+                     "small or pointed features) alias across the lines and cannot be migrated into place "
+                     "(Grasmueck et al. 2005); level reflectors and features wider than about twice the spacing still map")
     if bool(budget["near_field"]):
         from ..detection.blindzone import NEAR_FIELD_WAVELENGTHS
 
@@ -175,9 +216,61 @@ def acquisition_for_antenna(medium, antenna, *, target=None, depth_m=None, surfa
                              "attenuation_db_per_m": float(w.attenuation_db_per_m[0])},
         "received_freq_mhz": float(budget["received_freq_hz"]) / 1e6,
         "settings": settings,
-        "rules": {k: rule for k, _, _, _, rule in ROWS_SPEC},
+        "rules": rules,
         "area_m2": area_m2,
         "grid_3d": bool(imaging),
+        "survey": survey,
+        "contrast": None if contrast is None else contrast.as_json(),
         "notes": notes,
         "caution": CAUTION,
     }
+
+
+def _survey(plan, grids, *, turn_time_s: float) -> dict:
+    """The survey effort of every grid (human units), ``planned`` marking the ones the plan shows."""
+    from .acquisition import unaliased_dip_deg
+    from .coverage import GRID_LABELS
+
+    rows = []
+    for e in plan.surveys:
+        rows.append({"grid": e.grid, "label": GRID_LABELS[e.grid], "planned": e.grid in grids,
+                     "line_spacing_m": e.line_spacing_m, "lines": e.lines, "total_line_km": e.total_length_m / 1e3,
+                     "survey_time_h": e.time_s / 3600.0,
+                     "unaliased_dip_deg": None if e.grid == "2d_detection" else float(
+                         unaliased_dip_deg(e.line_spacing_m, plan.wavelength_m))})
+    e0 = plan.surveys[0]
+    return {"area_m2": plan.area_m2, "line_length_m": e0.line_length_m, "speed_m_per_s": plan.speed_m_per_s,
+            "turn_time_s": turn_time_s, "grids": rows}
+
+
+def line_direction_note(target, spacing_m: float) -> str | None:
+    """Which way the 2D detection lines run, by target kind (None without a target)."""
+    if target is None:
+        return None
+    if target.kind == "line":
+        if target.orientation == "unknown":
+            return ("2D lines: the pipe direction is unknown, so lay a second set at right angles to the first; "
+                    "one set then crosses the pipe at 45° or more (the budget takes the weaker of the two returns)")
+        dipoles = "parallel" if target.orientation == "parallel" else "perpendicular"
+        return (f"2D lines: run them across the expected pipe direction, at right angles, with the antenna "
+                f"dipoles {dipoles} to the pipe as the budget assumes; the {spacing_m:.3g} m spacing is how "
+                "closely the route is traced")
+    if target.kind == "planar":
+        return ("2D lines: any direction over a level interface; over a dipping one run them down the dip "
+                "(across the strike), so that the profiles show its true dip")
+    return (f"2D lines: any direction; a {target.size_m:g} m target midway between two lines {spacing_m:.3g} m "
+            "apart is still inside one line's footprint")
+
+
+def separation_note(antenna, depth_m: float, optimum_m: float) -> str | None:
+    """A note where the antenna's separation is far (×2) from the optimum; wording by fixed/adjustable."""
+    ratio = antenna.separation_m / optimum_m
+    if 0.5 <= ratio <= 2.0:
+        return None
+    if antenna.separation_adjustable:
+        return (f"separation is adjustable on {antenna.name}: set it near {optimum_m:.3g} m for {depth_m:.3g} m "
+                f"(2d/√(ε'−1), Annan & Cosway 1992) instead of the usual {antenna.separation_m:.3g} m; the "
+                f"budget and blind zone here use {antenna.separation_m:.3g} m")
+    return (f"this antenna's fixed separation ({antenna.separation_m:.3g} m) differs from the optimum for "
+            f"{depth_m:.3g} m ({optimum_m:.3g} m) by more than ×2; it cannot be set on this antenna, and the "
+            "budget uses it as it is")

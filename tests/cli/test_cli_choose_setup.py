@@ -59,7 +59,7 @@ def test_setup_table_and_caution():
     p = run("setup", "--antenna", "midband-250", "--eps", "9", "--sigma", "10 mS/m", "--target", "line",
             "--depth", "1.5", "--size", "0.1", "--material", "metal", "--area", "2000 m^2")
     assert p.returncode == 0, p.stderr
-    assert "time window" in p.stdout and "survey time" in p.stdout and "Caution:" in p.stdout
+    assert "time window" in p.stdout and "Survey time over 2,000 m²" in p.stdout and "Caution:" in p.stdout
 
 
 def test_setup_json_window_rule():
@@ -119,10 +119,10 @@ def test_setup_never_exceeds_clutter_limit_and_says_out_of_reach():
         out = json.loads(p.stdout)
         assert out["settings"]["stacks"] <= 64
         if not out["reachable"]:
-            assert out["settings"]["survey_time_h"] is None and "no survey planned" in out["notes"][0]
+            assert out["survey"] is None and "no survey planned" in out["notes"][0]
     p = run("setup", "--antenna", "midband-250", "--texture", "loam", "--moisture", "20 %", "--target", "line",
             "--depth", "2.5", "--size", "0.1", "--material", "metal", "--area", "2000 m^2")
-    assert p.returncode == 0 and "no survey planned" in p.stdout and "survey time" not in p.stdout
+    assert p.returncode == 0 and "no survey planned" in p.stdout and "Survey time" not in p.stdout
 
 
 def test_setup_given_stacks_beyond_the_clutter_limit_are_noted():

@@ -145,7 +145,7 @@ def test_stored_schemas_match_their_generator():
 
 
 #: unit suffixes of numeric keys (the JSON style: the unit is in the name)
-UNIT_SUFFIX = re.compile(r"_(m|m2|ns|s|h|db|dbi|db_per_m|db_per_m_per_mhz|m_per_ns|m_per_s|ms_per_m|mhz|pct|c|psu|"
+UNIT_SUFFIX = re.compile(r"_(m|m2|km|ns|s|h|db|dbi|db_per_m|db_per_m_per_mhz|m_per_ns|m_per_s|ms_per_m|mhz|pct|c|psu|"
                          r"kg_per_m3|mg_per_l|cmol_per_kg|bytes|deg|wavelengths)$")
 #: numeric keys that are counts, ratios or dimensionless by nature (their descriptions say so)
 DIMENSIONLESS = {"eps_real", "eps_imag", "loss_tangent", "permittivity", "stacks", "samples", "samples_power_of_two",
@@ -155,7 +155,8 @@ DIMENSIONLESS = {"eps_real", "eps_imag", "loss_tangent", "permittivity", "stacks
                  "draws", "seed", "monte_carlo_draws", "monte_carlo_seed", "max_standard_error",
                  "max_estimated_error", "archie_a", "archie_m", "archie_n", "eps_solid", "stone_eps", "interface_n",
                  "interface_chi_per_bound_water", "stone_size_sd_log", "covariance", "ns", "db", "m_per_ns",
-                 "se_ns", "se_m", "se_db", "se_m_per_ns", "se_db_per_m", "sampled_fraction", "dropped_traces", "q_star_se"}
+                 "se_ns", "se_m", "se_db", "se_m_per_ns", "se_db_per_m", "sampled_fraction", "dropped_traces", "q_star_se",
+                 "reflection_magnitude", "host_eps_real", "target_eps_real", "low_contrast_limit", "lines"}
 
 
 #: the report's calibration comparison: a table of different quantities, each row's unit in its "unit" key

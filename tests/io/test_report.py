@@ -261,3 +261,22 @@ def test_templates_ship_with_the_package():
     names = {p.name for p in root.iterdir()} | {p.name for p in (root / "sections").iterdir()}
     for name in ("report.html.j2", "macros.html.j2", "report.css", "summary.html.j2", "safety.html.j2"):
         assert name in names, name
+
+
+def test_settings_show_survey_time_for_2d_and_both_3d_spacings(data, page):
+    """The report's acquisition section: lines, km and hours for 2D lines, 3D common practice and the λ/4 limit."""
+    import math
+
+    survey = data["acquisition"]["survey"]
+    assert survey is not None  # the test survey's pipe is within reach of the chart antenna
+    grids = {g["grid"]: g for g in survey["grids"]}
+    assert set(grids) == {"2d_detection", "3d_practice", "3d_limit"}
+    assert all(g["planned"] for g in grids.values())
+    width = survey["area_m2"] / survey["line_length_m"]
+    for g in grids.values():  # hand count: ⌈W/s⌉ + 1 parallel lines (both edges covered)
+        assert g["lines"] == math.ceil(width / g["line_spacing_m"] - 1e-9) + 1
+        assert g["label"] in page
+    assert grids["3d_limit"]["line_spacing_m"] <= grids["3d_practice"]["line_spacing_m"]
+    assert "Survey time over the site" in page
+    assert any("alias" in n for n in data["acquisition"]["notes"]) == (
+        grids["3d_practice"]["line_spacing_m"] > grids["3d_limit"]["line_spacing_m"])

@@ -87,3 +87,13 @@ def test_catalogue_schema_checks_bundled_file_and_refuses_typo():
     entry["centre_freq_mhz"] = entry.pop("centre_frequency_mhz")
     with pytest.raises(jsonschema.ValidationError):
         jsonschema.Draft202012Validator(schema).validate(data)
+
+
+def test_separation_adjustable_is_read_and_defaults_to_fixed(tmp_path):
+    """separation_adjustable: the bundled unshielded lowband-50 is adjustable, shielded ones fixed; default false."""
+    bundled = read_catalogue()
+    assert bundled["lowband-50"].separation_adjustable
+    assert not bundled["midband-500"].separation_adjustable
+    assert not read_catalogue(write(tmp_path, ONE))["rig-350"].separation_adjustable
+    with pytest.raises(FileInputError, match="separation_adjustable"):
+        read_catalogue(write(tmp_path, ONE.replace("stacks = 8", "stacks = 8\nseparation_adjustable = \"maybe\"")))

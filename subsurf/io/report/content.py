@@ -137,19 +137,23 @@ def _acquisition(antenna, site: SiteSoil, target, *, area_m2: float | None, grou
     """Acquisition settings for ``antenna`` at the target depth, from ``subsurf setup``'s computation
     (in the calibrated ``ground`` when given, as ``setup --calibration``)."""
     from ...ground.medium import Medium
-    from ...planning.plan import ROWS_SPEC, acquisition_for_antenna
+    from ...planning.plan import ALL_GRIDS, ROWS_SPEC, acquisition_for_antenna
 
     medium = ground if ground is not None else Medium(label="site median soil", facts=dict(site.mapping),
                                                       soil=site.soil)
-    result = acquisition_for_antenna(medium, antenna, target=target, depth_m=target.depth_m, area_m2=area_m2)
+    # the report is the site's planning document: the survey time of every grid (2D lines, 3D common
+    # practice, 3D λ/4 limit), with the notes that go with each
+    result = acquisition_for_antenna(medium, antenna, target=target, depth_m=target.depth_m, area_m2=area_m2,
+                                     grids=ALL_GRIDS)
     rows = []
-    for key, label, unit, fmt, rule in ROWS_SPEC:
+    for key, label, unit, fmt, _ in ROWS_SPEC:
         value = result["settings"].get(key)
         if value is None:
             continue
-        rows.append({"key": key, "label": label, "value": value, "unit": unit, "fmt": fmt, "rule": rule})
+        rows.append({"key": key, "label": label, "value": value, "unit": unit, "fmt": fmt,
+                     "rule": result["rules"][key]})
     return {"rows": rows, "notes": result["notes"], "window_s": result["settings"]["window_ns"] * 1e-9,
-            "area_m2": area_m2}
+            "area_m2": area_m2, "survey": result["survey"], "contrast": result["contrast"]}
 
 
 def _site_area_m2(survey) -> float:

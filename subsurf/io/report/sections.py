@@ -266,7 +266,20 @@ def settings(data) -> dict:
             "table": Table(["setting", "value", "unit", "rule"],
                            [[r["label"], fmt(r["value"], r["fmt"]), r["unit"], r["rule"]] for r in acq["rows"]],
                            numeric=(1,)),
+            "survey": _survey_table(acq.get("survey")),
             "notes": list(acq["notes"])}
+
+
+def _survey_table(survey) -> Table | None:
+    """Lines, km of line and hours over the site for each grid (None when no survey is planned)."""
+    if not survey:
+        return None
+    return Table(["grid", "line spacing (m)", "lines", "line (km)", "survey time (h)",
+                  "steepest dip imaged without aliasing (°)"],
+                 [[g["label"], fmt(g["line_spacing_m"], ".3g"), str(g["lines"]), fmt(g["total_line_km"], ".3g"),
+                   fmt(g["survey_time_h"], ".3g"),
+                   "—" if g["unaliased_dip_deg"] is None else fmt(g["unaliased_dip_deg"], ".0f")]
+                  for g in survey["grids"]], numeric=(1, 2, 3, 4, 5))
 
 
 def _describe_files(files) -> str:
