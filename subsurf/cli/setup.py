@@ -17,8 +17,10 @@ def add_arguments(parser) -> None:
     add_medium_arguments(parser)
     add_target_arguments(parser, depth_required=False)
     a = parser.add_argument_group("survey")
-    a.add_argument("--area", metavar="Q", help="area to cover, for the survey time (bare number: m^2; or '1 ha')")
-    a.add_argument("--line-length", metavar="Q", help="length of one survey line (bare number: m; default √area)")
+    a.add_argument("--area", metavar="Q", help="area to cover, for the survey time (bare number: m^2; or '1 ha'; "
+                   "or a rectangle 'LENGTH x WIDTH', e.g. '40 m x 30 m', whose lines run along LENGTH)")
+    a.add_argument("--line-length", metavar="Q", help="length of one survey line (bare number: m; default: the "
+                   "rectangle's LENGTH, or √area)")
     a.add_argument("--speed", metavar="Q", help="towing speed (bare number: m/s; default: the trace-rate "
                    "limit or a 1 m/s walking pace, whichever is lower)")
     a.add_argument("--stacks", type=int, metavar="N", help="traces stacked (default: the catalogue's, raised "
@@ -53,8 +55,18 @@ def run(args) -> int:
 
     # Our limits, stated: 100 km² is already ~24 000 h of towing at 1 m/s over 2D lines, and a
     # survey line longer than 100 km is a route, not a line (--area 1e30 planned 2.4e26 h).
-    area = positive(args.area, "area", "m**2", "--area", 1e8, "100 km^2 (1e8 m^2)")
+    sides = _rectangle(args.area)
+    if sides is None:
+        area = positive(args.area, "area", "m**2", "--area", 1e8, "100 km^2 (1e8 m^2)")
+    else:  # 'LENGTH x WIDTH': lines along LENGTH unless --line-length says otherwise
+        length, width = (positive(t, "length", "m", "--area", 1e5, "100 km per side") for t in sides)
+        area = length * width
+        if area > 1e8:
+            raise InputError(f"--area must be at most 100 km^2 (1e8 m^2), got {args.area!r}; plan a larger site in "
+                             "parts")
     line_length = positive(args.line_length, "length", "m", "--line-length", 1e5, "100 km")
+    if sides is not None and line_length is None:
+        line_length = length
     speed = positive(args.speed, "speed", "m/s", "--speed")
     if args.stacks is not None and not 1 <= args.stacks <= MAX_STACKS:
         raise InputError(f"--stacks must be an integer between 1 and {MAX_STACKS} (beyond the clutter limit "
@@ -106,6 +118,18 @@ def run(args) -> int:
     print_result(result, text, as_json=args.json)
     print_notes(warns, quiet=args.quiet or args.json)
     return 0
+
+
+def _rectangle(text):
+    """'40 m x 30 m' (or ×, *) → ('40 m', '30 m'); None for a plain area."""
+    import re
+
+    if text is None:
+        return None
+    parts = re.split(r"\s*[x×*]\s*(?=[0-9.])", str(text).strip(), maxsplit=1)
+    if len(parts) != 2 or "**" in str(text) or "^" in str(text):
+        return None
+    return parts[0], parts[1]
 
 
 def survey_table(survey: dict, *, planned_only: bool = True) -> str:

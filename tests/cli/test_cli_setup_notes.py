@@ -109,3 +109,13 @@ def test_low_contrast_note_in_setup_and_choose_only_where_low():
     assert p.returncode == 0 and "Low contrast: |R| = 0.0" in p.stdout
     p = run("choose", *args, "--target", "line", "--size", "0.1", "--material", "metal")
     assert p.returncode == 0 and "contrast" not in p.stdout.lower()
+
+
+def test_rectangle_area_sets_the_line_length():
+    """--area '40 m x 30 m' is 1200 m² with 40 m lines: the same survey as --area 1200 --line-length 40."""
+    base = ("--antenna", "midband-500", "--eps", "9", "--depth", "0.6", "--grid-3d")
+    rect = setup_json(*base, "--area", "40 m x 30 m")["survey"]
+    plain = setup_json(*base, "--area", "1200", "--line-length", "40")["survey"]
+    assert rect == plain and rect["line_length_m"] == 40.0 and rect["area_m2"] == pytest.approx(1200.0)
+    p = run("setup", *base, "--area", "40 m x 3e9")
+    assert p.returncode == 1 and "--area" in p.stderr and len(p.stderr.strip().splitlines()) == 1
