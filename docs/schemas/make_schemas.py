@@ -653,6 +653,7 @@ def region_schema() -> dict:
                 "units": text("unit of the stored numbers (as stated by the file or --soil-unit)"),
                 "time": text("how a time dimension was reduced ('' without one)"),
             }, "one quantity read"), "the quantities read from --soil"),
+            "unused": array(text("a band or variable"), "gridded variables or bands of --soil that name no quantity"),
             "crs": text("CRS of the raster (EPSG code and name, or name)"),
             "crs_source": text("where the CRS came from"),
             "gaps": text("what cells lacking a quantity became", enum=("defaults", "empty")),

@@ -264,6 +264,7 @@ def run(args) -> int:
         from ..site.schema import QUANTITIES
 
         payload["soil_inputs"] = {"format": soil.attrs["format"], "quantities": soil.attrs["inputs"],
+                                  "unused": soil.attrs["unused"],
                                   "crs": _crs_label(soil), "crs_source": soil.attrs["crs_source"],
                                   "gaps": args.soil_gaps,
                                   "fill_values": {q: {"value": v, "unit": QUANTITIES[q].si_unit}
@@ -292,6 +293,8 @@ def _input_lines(payload: dict, args) -> list[str]:
     lines = [f"CRS: {info['crs']} (from {info['crs_source']})"]
     for q in info["quantities"]:
         lines.append(f"  {q['quantity']}: {q['read_from']}, units {q['units']}" + (f", {q['time']}" if q["time"] else ""))
+    if info["unused"]:
+        lines.append(f"  not used (name no soil quantity; map with --soil-var QUANTITY=...): {', '.join(info['unused'])}")
     absent = [q for q in QUANTITIES if q not in {r["quantity"] for r in info["quantities"]}]
     if absent:
         lines.append(f"  not in the file (texture preset {args.texture} or model defaults everywhere): {', '.join(absent)}")

@@ -115,7 +115,8 @@ def open_region(path, *, chunk: int = 512, quantities=None, variables: dict | No
         Dask-backed quantities (survey names, SI) on dims (y, x) with x/y coordinates, a
         ``crs`` grid-mapping variable; ``attrs["source"]`` is the path and
         ``attrs["inputs"]`` a list of ``{quantity, read_from, units, time}`` saying what
-        was read, ``attrs["crs_source"]`` where the CRS came from.
+        was read, ``attrs["crs_source"]`` where the CRS came from, ``attrs["unused"]`` the gridded
+        variables or bands that named no quantity (also a note).
     """
     import xarray as xr
     from pyproj import CRS
@@ -198,5 +199,6 @@ def open_region(path, *, chunk: int = 512, quantities=None, variables: dict | No
     result = xr.Dataset(out).assign_coords(x=("x", x, _coord_attrs(the_crs, "x")),
                                            y=("y", y, _coord_attrs(the_crs, "y")))
     result["crs"] = ((), np.int32(0), gm_attrs)
-    result.attrs = {"source": path, "inputs": inputs, "crs_source": crs_source, "format": src.kind}
+    result.attrs = {"source": path, "inputs": inputs, "crs_source": crs_source, "format": src.kind,
+                    "unused": [("band " if src.kind == "geotiff" else "variable ") + u for u in unused]}
     return result

@@ -199,7 +199,8 @@ class Raster(Strict):
     time: str | None = Field(None, description="time step to use (nearest to this date/time, e.g. '2024-06-01')")
     time_aggregate: Literal["mean", "median", "min", "max"] | None = Field(
         None, description="combine the time steps instead (default with several steps and no time: mean, noted)")
-    unit: str | None = Field(None, description="unit of the stored numbers (default: the quantity's bare unit)")
+    unit: str | None = Field(None, description="unit of the stored numbers (default: the file's own unit "
+                                "- NetCDF 'units', GeoTIFF band unit - else the quantity's bare unit)")
     sd: float | str | None = Field(None, description="measurement standard deviation (same units as the quantity)")
     crs: Crs | None = Field(None, description="optional when the file carries a CF grid_mapping or a GeoTIFF CRS")
 
