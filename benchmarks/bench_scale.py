@@ -2,13 +2,14 @@
 and chunked runs at 1x, 4x, 16x and 64x a base size (peak memory and time), all in one run.
 
     python benchmarks/bench_scale.py [--base 512] [--chunk 256] [--loop-cells 40] [--factors 1 4 16 64]
-                                     [--from-file] [--skip-chain]
+                                     [--from-file] [--from-geotiff] [--skip-chain]
 
 Not part of the test suite.  Every size of the chunked runs is measured in a fresh
 subprocess (peak resident memory: the process's own VmHWM), writing a real CF NetCDF map
 with the threaded scheduler, from a synthetic region generated chunk by chunk, and with
 ``--from-file`` again from the same region first written as a NetCDF soil raster (in its own
-process) and read tile by tile as ``subsurf region --soil`` reads it.
+process) and read tile by tile as ``subsurf region --soil`` reads it, and with ``--from-geotiff``
+from the same region as a tiled, DEFLATE-compressed 3-band GeoTIFF written by rasterio.
 """
 
 from __future__ import annotations
@@ -149,11 +150,34 @@ def _peak_rss_mib(usage) -> float:
 
 
 def write_soil_file(n_side: int, chunk: int, path: str) -> None:
-    """The synthetic region as a float32 CF NetCDF soil raster (chunked as the region is read)."""
+    """The synthetic region as a float32 CF NetCDF soil raster (chunked as the region is read), or, for a
+    ``.tif`` path, as a tiled DEFLATE GeoTIFF written by rasterio window by window (bands described by name)."""
     from subsurf.io.regional import write_soil
     from subsurf.site.synthetic import synthetic_region
 
-    write_soil(synthetic_region(n_side, n_side, seed=1, chunk=chunk), path, force=True)
+    soil = synthetic_region(n_side, n_side, seed=1, chunk=chunk)
+    if not path.endswith(".tif"):
+        write_soil(soil, path, force=True)
+        return
+    import rasterio
+    from rasterio.transform import from_origin
+    from rasterio.windows import Window
+
+    x, y = soil["x"].values, soil["y"].values
+    cell = float(x[1] - x[0])
+    block = max(16, chunk // 16 * 16)
+    with rasterio.open(path, "w", driver="GTiff", width=n_side, height=n_side, count=len(QUANTITIES),
+                       dtype="float32", crs=soil["crs"].attrs["crs_wkt"], nodata=float("nan"),
+                       transform=from_origin(x[0] - cell / 2, y[0] + cell / 2, cell, cell), tiled=True,
+                       blockxsize=block, blockysize=block, compress="deflate", BIGTIFF="IF_SAFER") as dst:
+        dst.units = tuple(soil[q].attrs["units"] for q in QUANTITIES)
+        for i, q in enumerate(QUANTITIES, 1):
+            dst.set_band_description(i, q)
+            for r0 in range(0, n_side, chunk):
+                for c0 in range(0, n_side, chunk):
+                    win = Window(c0, r0, min(chunk, n_side - c0), min(chunk, n_side - r0))
+                    tile = soil[q][r0:r0 + win.height, c0:c0 + win.width].values.astype("float32")
+                    dst.write(tile, i, window=win)
 
 
 def child(n_side: int, chunk: int, out: str, soil_path: str | None = None) -> None:
@@ -168,7 +192,7 @@ def child(n_side: int, chunk: int, out: str, soil_path: str | None = None) -> No
     target = make_target("planar", depth_m=DEPTH, material="water_table")
     warm_soil = None
     if soil_path:
-        warm_soil = soil_path + ".warm.nc"
+        warm_soil = soil_path + (".warm.tif" if soil_path.endswith(".tif") else ".warm.nc")
         write_soil_file(32, 32, warm_soil)
 
     def run(side, path):
@@ -201,6 +225,8 @@ def main() -> int:
                     help="sizes of the chunked runs, in multiples of the base area (default 1 4 16 64)")
     ap.add_argument("--from-file", action="store_true",
                     help="chunked runs also read the soil from a NetCDF raster (written first, in its own process)")
+    ap.add_argument("--from-geotiff", action="store_true",
+                    help="chunked runs also read the soil from a GeoTIFF (rasterio, tiled, DEFLATE) of the same region")
     ap.add_argument("--skip-chain", action="store_true", help="only the chunked runs (parts 4 and 5)")
     ap.add_argument("--child", nargs="+", metavar="ARG", help=argparse.SUPPRESS)
     ap.add_argument("--write-soil", nargs=3, metavar=("SIDE", "CHUNK", "OUT"), help=argparse.SUPPRESS)
@@ -218,6 +244,8 @@ def main() -> int:
     chunked_runs(args, from_file=False)
     if args.from_file:
         chunked_runs(args, from_file=True)
+    if args.from_geotiff:
+        chunked_runs(args, from_file=True, suffix=".tif")
     return 0
 
 
@@ -241,15 +269,15 @@ def chain_parts(args) -> None:
           f"{t_floor:.3f} s; chain / floor = {t_chain / t_floor:.1f}x (target <= 4x)")
 
 
-def chunked_runs(args, *, from_file: bool) -> None:
-    part = "5. from file" if from_file else "4. chunked"
+def chunked_runs(args, *, from_file: bool, suffix: str = ".nc") -> None:
+    part = ("6. from GeoTIFF" if suffix == ".tif" else "5. from file") if from_file else "4. chunked"
     runs = []
     with tempfile.TemporaryDirectory() as tmp:
         for factor in args.factors:
             side = int(round(args.base * factor ** 0.5))
             extra = []
             if from_file:
-                soil = os.path.join(tmp, f"soil{factor}.nc")
+                soil = os.path.join(tmp, f"soil{factor}{suffix}")
                 subprocess.run([sys.executable, __file__, "--write-soil", str(side), str(args.chunk), soil],
                                capture_output=True, text=True, check=True)
                 extra = [soil]

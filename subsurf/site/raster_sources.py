@@ -50,7 +50,7 @@ GEOTIFF_SUFFIXES = (".tif", ".tiff", ".gtiff")
 TIME_AGGREGATES = ("mean", "median", "min", "max")
 _TIME_DIMS = ("time", "t", "date", "band_time")
 #: GDAL block cache (MB) while a GeoTIFF is read tile by tile
-_GDAL_CACHE_MB = 64
+_GDAL_CACHE_MB = 8
 
 #: how the user makes each choice, worded for a survey file (the map) by default
 SURVEY_HINTS = {
@@ -178,8 +178,9 @@ class RasterSource:
     def _open_geotiff(self):
         if self.chunk is not None:
             # GDAL's block cache (default 5 % of the machine's memory) would fill with the region read tile by
-            # tile; each tile reads its own blocks once, so a small cache loses nothing.  Read by GDAL when it
-            # first allocates the cache; a value the user set in the environment is kept.
+            # tile; each tile reads its own blocks once, so a small cache loses nothing (benchmarks/bench_scale.py
+            # --from-geotiff, 2048x2048: peak 564 MiB with 64 MB, 514-517 MiB with 8 MB, the same CPU time).
+            # Read by GDAL when it first allocates the cache; a value the user set in the environment is kept.
             os.environ.setdefault("GDAL_CACHEMAX", str(_GDAL_CACHE_MB))
         import rasterio
         import rioxarray
@@ -191,7 +192,7 @@ class RasterSource:
                 self.file_crs = src.crs.to_wkt() if src.crs else None
                 self.nodata = src.nodata
             chunks = {"band": 1, "y": int(self.chunk), "x": int(self.chunk)} if self.chunk else None
-            self.da = rioxarray.open_rasterio(self.path, masked=True, chunks=chunks)
+            self.da = rioxarray.open_rasterio(self.path, mask_and_scale=True, chunks=chunks)  # nodata, scale, offset
         except Exception as exc:  # noqa: BLE001 - rasterio raises RasterioIOError and friends
             raise FileInputError(self.path, f"cannot read as GeoTIFF: {_short(exc)}") from None
 

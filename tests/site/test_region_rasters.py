@@ -260,3 +260,40 @@ def test_cli_geotiff_json_states_inputs_and_coverage(soil, tmp_path):
              "--antenna", "midband-250", "--out", "m2.nc", "--chunk", "32", cwd=tmp_path)
     assert "moisture: band 1 (moisture), units %" in r.stdout and "Coverage: " in r.stdout
     assert "soil_default_used" in r.stdout
+
+
+def test_geotiff_is_read_tile_by_tile(soil, antennas, target, tmp_path, monkeypatch):
+    """Opening reads no cells; the chain then sees one tile at a time and each rasterio read is one tile
+    window, so memory follows the chunk, not the raster (a 20000 x 20000 region is read the same way)."""
+    import dask
+    from rasterio.io import DatasetReader
+
+    tif = tmp_path / "soil.tif"
+    write_geotiff(tif, [soil["moisture"], soil["clay"]], descriptions=["moisture", "clay"], units=["%", "1"])
+    windows = []
+    original_read = DatasetReader.read
+
+    def spy_read(self, *args, **kwargs):
+        windows.append(kwargs.get("window"))
+        return original_read(self, *args, **kwargs)
+
+    monkeypatch.setattr(DatasetReader, "read", spy_read)
+    ds = scale.open_region(tif, chunk=16)
+    assert windows == []  # nothing read at open
+    shapes = []
+    original = feasibility.evaluate
+
+    def spy(values, *args, **kwargs):
+        shapes.append(np.shape(values["moisture"]))
+        return original(values, *args, **kwargs)
+
+    monkeypatch.setattr(feasibility, "evaluate", spy)
+    lazy = scale.feasibility_region(ds, antennas, target=target, target_depth_m=DEPTH, texture="loam")
+    with dask.config.set(scheduler="synchronous"):
+        lazy["max_depth"].compute()
+    tiles = int(np.ceil(NY / 16) * np.ceil(NX / 16))
+    assert len(shapes) == tiles and max(max(s) for s in shapes) <= 16
+    from rasterio.windows import Window
+
+    sizes = [Window.from_slices(*w, height=NY, width=NX) if not isinstance(w, Window) else w for w in windows]
+    assert sizes and all(w.height <= 16 and w.width <= 16 for w in sizes), windows[:3]
