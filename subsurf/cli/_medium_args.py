@@ -42,7 +42,7 @@ def add_medium_arguments(parser: argparse.ArgumentParser) -> None:
                    "cmol(+)/kg = meq/100 g; or 'Q eq/kg'); default from --clay-mineral")
     g.add_argument("--clay-mineral", choices=["kaolinite", "halloysite", "illite", "chlorite", "smectite",
                                               "vermiculite"],
-                   help="clay mineral whose CEC (Grim 1968 table) sets the surface conduction (default illite)")
+                   help="clay mineral whose CEC (Brady & Weil 2002 table) sets the surface conduction (default illite)")
     g.add_argument("--archie-m", metavar="M", help="Archie cementation exponent, 1-5 (default 1.5)")
     g.add_argument("--archie-n", metavar="N", help="Archie saturation exponent, 1-5 (default 2)")
     g.add_argument("--archie-a", metavar="A", help="Archie tortuosity factor, > 0 (default 1)")

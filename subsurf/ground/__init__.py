@@ -5,7 +5,8 @@ Lichtenecker–Rother), :mod:`.conductivity` (pore-water EC, Archie, Waxman–Sm
 :mod:`.clay` (CEC per clay mineral), :mod:`.peplinski` (Peplinski et al. 1995),
 :mod:`.relaxation` (Cole–Cole, Jonscher, constant Q), :mod:`.constant_q` (Q*),
 :mod:`.scattering` (Mie volume scattering by stones), :mod:`.roughness` (Ament factor),
-:mod:`.losses` (loss facts of a soil), :mod:`.models` (the :class:`Soil` type) and
+:mod:`.losses` (loss facts of a soil), :mod:`.pedotransfer` (Saxton & Rawls 2006
+normal density), :mod:`.models` (the :class:`Soil` type) and
 :mod:`.presets` (loaders of the bundled texture and material tables).
 
 Permittivities follow ε = ε' − jε'' with ε'' >= 0; all functions broadcast over numpy
@@ -33,6 +34,7 @@ from .mixing import (
     topp_permittivity,
 )
 from .models import Soil
+from .pedotransfer import saxton_rawls_normal_density, saxton_rawls_saturation
 from .peplinski import peplinski_effective_conductivity, peplinski_permittivity
 from .presets import load_materials, load_textures, texture_preset
 from .relaxation import cole_cole_permittivity, constant_q_permittivity, jonscher_permittivity
@@ -73,6 +75,8 @@ __all__ = [
     "load_materials",
     "texture_preset",
     "CLAY_MINERAL_CEC",
+    "saxton_rawls_normal_density",
+    "saxton_rawls_saturation",
     "clay_cec_of_mineral",
     "cole_cole_permittivity",
     "jonscher_permittivity",

@@ -126,7 +126,8 @@ def bound_water(moisture, clay):
     """Bound-water content θ_b = min(θ, θ_b,max), θ_b,max = 0.02863 + 0.30673·clay (m³/m³).
 
     θ_b,max is the maximal bound-water fraction of Mironov et al. (2009), written for the
-    clay mass fraction (their C in % times 0.30673e-2; coefficients from memory).
+    clay mass fraction (their eq. 19, m_vt = 0.02863 + 0.30673e-2·C with C in %; the
+    coefficients agree with independent public implementations of the paper).
 
     References
     ----------

@@ -96,7 +96,7 @@ class Soil(SoilLossMixin):
         CEC of the clay fraction in eq/kg for the Waxman–Smits surface conduction.
     clay_mineral : str, optional
         Instead of ``clay_cec``: a mineral of the CEC table
-        (:data:`~subsurf.soil.conductivity.CLAY_MINERAL_CEC`, Grim 1968); neither given:
+        (:data:`~subsurf.soil.conductivity.CLAY_MINERAL_CEC`, Brady & Weil 2002 Table 8.1); neither given:
         the texture's mineral, else illite (0.25 eq/kg).
     interface_relaxation : bool
         Add the bound-water / clay–water interface loss (Jonscher term, model "crim"

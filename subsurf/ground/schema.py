@@ -134,7 +134,7 @@ SoilFacts = create_model(
                                                  "(fills sand, clay and densities), e.g. 'loam'")),
     model=(Literal[_MODELS] | None, Field(None, description="soil permittivity model (default crim)")),
     clay_mineral=(Literal[_CLAY_MINERALS] | None,
-                  Field(None, description="clay mineral whose CEC (Grim 1968 table) sets the surface conduction")),
+                  Field(None, description="clay mineral whose CEC (Brady & Weil 2002 table) sets the surface conduction")),
     interface_relaxation=(bool | None, Field(None, description="add the bound-water / clay-water interface loss "
                                                                "(default true)")),
     **{key: (_field_type(f) | None, Field(None, description=f.doc)) for key, f in SOIL_FACTS.items()},

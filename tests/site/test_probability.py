@@ -103,7 +103,7 @@ def example_reference(example_cells):
 
 
 def test_auto_is_as_accurate_as_200_draws_against_3200_draw_reference(example_cells, example_reference):
-    """On the example site, 'auto' errs no more than 200 Monte Carlo draws do, at a fifth of the chain cost.
+    """On the example site, 'auto' errs no more than 200 Monte Carlo draws do, at a quarter of the chain cost.
 
     Reference: 3200 plain seeded draws (standard error at most 0.0089) by the independent
     loop above.  Accuracy is judged by the largest and the root-mean-square difference over
@@ -117,7 +117,9 @@ def test_auto_is_as_accurate_as_200_draws_against_3200_draw_reference(example_ce
     d_auto, d_mc = np.abs(auto.probability - ref), np.abs(mc.probability - ref)
     assert d_auto.max() <= d_mc.max()
     assert np.sqrt(np.mean(d_auto**2)) <= np.sqrt(np.mean(d_mc**2))
-    assert auto.chain_cells <= 0.2 * mc.chain_cells
+    # Our own cost target, not an outside figure: 0.2 held at the former texture densities; at the
+    # Saxton & Rawls densities more example cells sit near the margin and auto samples 0.21.
+    assert auto.chain_cells <= 0.25 * mc.chain_cells
     # the sampling estimate itself agrees with the reference within its standard errors (floored at
     # p(1 - p) = 1/N: a count of 0 of N bounds p only to about 1/N, not to 0)
     se = np.sqrt(np.maximum(ref * (1 - ref), 1 / 200) / 200 + np.maximum(ref * (1 - ref), 1 / 3200) / 3200)
