@@ -132,6 +132,62 @@ def test_sea_water_row_matches_teos10_and_lossy_medium_closed_form():
     assert min(vels) <= row["velocity"] <= max(vels)
 
 
+def _iapws_static_permittivity(temp_c):
+    from iapws import IAPWS95
+    from iapws._iapws import _Dielectric
+
+    t_k = temp_c + 273.15
+    return _Dielectric(IAPWS95(T=t_k, P=0.101325).rho, t_k)
+
+
+def _water_attenuation_db_per_m(temp_c, sigma, freq_hz=100e6):
+    """Exact plane-wave attenuation of water: IAPWS static eps, Klein & Swift (1977) eq. (14) tau."""
+    from scipy.constants import epsilon_0, mu_0
+
+    # Outside sources: IAPWS (1997) static dielectric constant (iapws), the published Klein &
+    # Swift (1977) eq. (14) relaxation time and eps_inf 4.9 typed from the paper, a single
+    # Debye relaxation, and the lossy-medium propagation constant with scipy.constants.
+    two_pi_tau = 1.1109e-10 - 3.824e-12 * temp_c + 6.938e-14 * temp_c**2 - 5.096e-16 * temp_c**3
+    eps = 4.9 + (_iapws_static_permittivity(temp_c) - 4.9) / (1 + 1j * freq_hz * two_pi_tau)
+    omega = 2 * np.pi * freq_hz
+    gamma = 1j * omega * np.sqrt(mu_0 * epsilon_0 * (eps - 1j * sigma / (omega * epsilon_0)))
+    return gamma.real * 20 / np.log(10)
+
+
+def test_distilled_water_row_matches_iapws_and_debye_loss():
+    """Distilled water: eps' the IAPWS static constant at 25 and 10 degC; attenuation from the Debye loss."""
+    row = load_materials()["distilled_water"]
+    eps_lo, eps_hi = row["relative_permittivity"]
+    assert eps_lo == pytest.approx(_iapws_static_permittivity(25.0), abs=0.5)
+    assert eps_hi == pytest.approx(_iapws_static_permittivity(10.0), abs=0.5)
+    # Light et al. (2005), doi:10.1149/1.1836121: 0.055 uS/cm at 25 degC; Light, Kingman &
+    # Bevilacqua (1995): up to 1.5 uS/cm in air.  1 uS/cm = 1e-4 S/m.
+    assert row["conductivity"] == pytest.approx((0.055e-4, 1.5e-4), rel=1e-9)
+    want = (_water_attenuation_db_per_m(25.0, 0.055e-4), _water_attenuation_db_per_m(10.0, 1.5e-4))
+    np.testing.assert_allclose(row["attenuation_db_per_m"], want, rtol=0.03)
+
+
+def test_fresh_water_attenuation_includes_debye_loss():
+    """Fresh water (0.5 mS/m) attenuates 0.48-0.71 dB/m at 100 MHz over 25-10 degC, not conduction's 0.09."""
+    row = load_materials()["fresh_water"]
+    sigma = row["conductivity"][0]
+    want = (_water_attenuation_db_per_m(25.0, sigma), _water_attenuation_db_per_m(10.0, sigma))
+    np.testing.assert_allclose(row["attenuation_db_per_m"], want, rtol=0.03)
+
+
+def test_dry_salt_row_from_unterberger_radar_speeds():
+    """Dry rock salt: eps and v from the radar speeds of Unterberger (1976), typed here in ft/us."""
+    from scipy.constants import c, foot
+
+    # Outside source: Unterberger, R. R. (1976), Geophysics 41(1):123-132, doi:10.1190/1.1440595,
+    # abstract: radar speed 203 ft/us in pure salt, 188 ft/us measured at Cote Blanche; a range
+    # rate, so the wave velocity is twice it.
+    v_pure, v_mine = (2 * s * foot / 1e-6 for s in (203.0, 188.0))
+    row = load_materials()["dry_salt"]
+    np.testing.assert_allclose(row["relative_permittivity"], [(c / v_pure) ** 2, (c / v_mine) ** 2], atol=0.01)
+    assert v_mine <= row["velocity"] <= v_pure
+
+
 def test_bad_table_names_file_and_key(tmp_path, monkeypatch):
     """A broken table raises FileInputError naming the file and entry."""
     import subsurf.ground.presets as presets
