@@ -74,8 +74,14 @@ def strings(desc: str) -> dict:
     return array(text("one line"), desc)
 
 
-THRESHOLDS = obj({"reaches_margin_db": num("margin from which a target 'reaches' (dB)"),
+THRESHOLDS = obj({"reaches_margin_db": num("margin from which a target 'reaches' (dB; --reach-margin)",
+                                            minimum=0, maximum=40),
                   "marginal_margin_db": num("margin from which it is 'marginal' (dB)")}, "verdict thresholds")
+#: the thresholds of a survey run (map, report, demo): also where the reach threshold came from
+SURVEY_THRESHOLDS = obj({**THRESHOLDS["properties"],
+                         "reaches_margin_source": text("where the reach threshold came from",
+                                                       enum=("default", "[target] reach_margin", "--reach-margin"))},
+                        "verdict thresholds")
 CAUTION = text("the safety caution: predictions are not locations; verify buried services before digging")
 WARNINGS = strings("model warnings (a published validity range left), one line each")
 WRITTEN = strings("files written by this run (paths as given)")
@@ -230,8 +236,7 @@ def choose_schema() -> dict:
         "facts": soil_facts(),
         "layers": array(layer, "layers over the ground (--layer), top first"),
         "target": TARGET,
-        "thresholds": obj({"reaches_margin_db": num("margin from which a target 'reaches' (dB)"),
-                           "marginal_margin_db": num("margin from which it is 'marginal' (dB)"),
+        "thresholds": obj({**THRESHOLDS["properties"],
                            "near_field_wavelengths": num("near field: depth within this many wavelengths")},
                           "verdict thresholds"),
         "reach_definition": text("the verdicts in words"),
@@ -263,6 +268,7 @@ def setup_schema() -> dict:
         "target": {**TARGET, "type": ["object", "null"], "description": "the target, or null without one"},
         "verdict": text("reach verdict at the depth of interest", null=True),
         "reachable": boolean("the target can be reached: settings are planned"),
+        "thresholds": THRESHOLDS,
         "ground_at_centre": obj({"freq_mhz": num("antenna centre frequency (MHz)"),
                                  "eps_real": num("ground ε' (dimensionless)"),
                                  "velocity_m_per_ns": num("ground phase velocity (m/ns)"),
@@ -281,6 +287,7 @@ def setup_schema() -> dict:
         "caution": CAUTION,
         "warnings": WARNINGS,
         "calibration": CALIBRATION_SUMMARY,
+        "catalogue": catalogue_used(),
     }, "subsurf setup --json: acquisition settings for one antenna")
 
 
@@ -432,6 +439,8 @@ def _report_common() -> dict:
         "catalogue": catalogue_used(),
         "recommended": text("recommended antenna (from the maps when they were computed), or null", null=True),
         "reason": text("why, one line"),
+        "thresholds": SURVEY_THRESHOLDS,
+        "reach_definition": text("the verdicts in words"),
         "decision": obj({
             "bring": text("the antenna to bring, or null when none reaches", null=True),
             "also": {"type": "object", "description": "scenario -> a further antenna that scenario needs",
@@ -447,6 +456,32 @@ def _report_common() -> dict:
                 "whole_site": boolean("it reaches every cell of the site"),
                 "reason": text("why, one line")}, "one scenario's choice"), "the choice per scenario"),
         }, "what to bring, from the maps' area statistics (null without maps)", null=True),
+        "zones": array(obj({
+            "zone": text("zone name (file name first where two files share it; 'rest of the site (no zone)' for "
+                         "the cells in no zone)"),
+            "file": text("the zone file, or null for the rest of the site", null=True),
+            "texture": text("the zone's texture preset or USDA class (else the survey's), or null", null=True),
+            "cells": integer("grid cells of the site whose centre lies in the zone", minimum=0),
+            "area_pct": pct("share of the site's cells"),
+            "moisture_pct": num("median volumetric water content on its cells, before scenarios (%)", null=True),
+            "pore_water_ec_ms_per_m": num("median pore-water EC on its cells, before scenarios (mS/m)", null=True),
+            "clay_pct": num("median clay fraction on its cells (%)", null=True),
+            "recommended": text("the antenna for the zone by the site's rule on its cells alone, or null",
+                                null=True),
+            "also": {"type": "object", "description": "scenario -> a further antenna that scenario needs here",
+                     "additionalProperties": text("antenna name")},
+            "worst_scenario": text("scenario where the zone's antenna reaches the fewest of its cells", null=True),
+            "recommended_reach_pct": pct("share of the zone's cells its antenna reaches in the worst scenario",
+                                         null=True),
+            "headline": text("the zone's decision in words"),
+            "antennas": array(obj({
+                "antenna": text("antenna name"),
+                "reach_pct": {"type": "object", "description": "scenario -> share of the zone's cells reached (%)",
+                              "additionalProperties": pct("share of the zone's cells")},
+                "worst_reach_pct": pct("the smallest of those over the scenarios")}, "one antenna in the zone"),
+                "per antenna"),
+        }, "one soil zone"), "per soil zone, from the maps' statistics over its cells (empty without zones or "
+                             "maps)"),
         "site_median_recommendation": obj({"antenna": text("antenna recommended for the site-median soil", null=True),
                                            "reason": text("why, one line")},
                                           "the ranking of the site-median soil alone"),
@@ -597,7 +632,7 @@ def map_schema() -> dict:
              "additionalProperties": False}
     paths["required"] = list(paths["properties"])
     calibration = grid_calibration(defaults)
-    return obj({"caution": CAUTION, "paths": paths, "thresholds": THRESHOLDS,
+    return obj({"caution": CAUTION, "paths": paths, "thresholds": SURVEY_THRESHOLDS,
                 "reach_definition": text("the verdicts in words"),
                 "summary": array(row, "area fractions per scenario and antenna"),
                 "inputs": inputs, "monte_carlo": mc, "calibration": calibration, "text": text("the table as printed"),
@@ -634,9 +669,9 @@ def region_schema() -> dict:
         "cells_with_data": integer("cells with soil data", minimum=0),
         "map_duration_s": num("time to compute and write the map (s)"),
         "cells_per_second": num("throughput (cells/s)", null=True),
-        "thresholds": obj({"reaches_margin_db": num("margin from which a target 'reaches' (dB)"),
-                           "marginal_margin_db": num("margin from which it is 'marginal' (dB)")},
-                          "verdict thresholds"),
+        "thresholds": THRESHOLDS,
+        "reach_definition": text("the verdicts in words"),
+        "catalogue": catalogue_used(),
         "rows": array(row, "one row per antenna"),
         "no_antenna_marginal_or_better_pct": pct("cells where no antenna has margin >= 0 dB"),
         "coverage": obj({
@@ -665,8 +700,8 @@ def region_schema() -> dict:
         "caution": CAUTION,
     }, "subsurf region --json: feasibility over a regional soil raster",
         optional=("soil_write_duration_s", "target", "texture", "soil_model", "scheduler", "tiles", "batch",
-                  "cells_with_data", "map_duration_s", "cells_per_second", "thresholds", "rows",
-                  "no_antenna_marginal_or_better_pct", "coverage", "soil_inputs"))
+                  "cells_with_data", "map_duration_s", "cells_per_second", "thresholds", "reach_definition",
+                  "catalogue", "rows", "no_antenna_marginal_or_better_pct", "coverage", "soil_inputs"))
 
 
 def calibrate_schema() -> dict:

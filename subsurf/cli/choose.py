@@ -158,8 +158,10 @@ def add_arguments(parser) -> None:
     parser.add_argument("--antenna", action="append", metavar="NAME",
                         help="only these antennas of the catalogue (repeatable)")
     from ._calibration import add_calibration_argument
+    from ._reach import add_reach_margin_argument
 
     add_calibration_argument(parser)
+    add_reach_margin_argument(parser)
 
 
 COLUMNS_SPEC = [
@@ -177,15 +179,20 @@ COLUMNS_SPEC = [
 ]
 
 
-def compute(medium, target, antennas, *, surface_loss_db=None, layers=()) -> dict:
-    """Rows (human units) and recommendation for ``target`` in ``medium`` (under ``layers``)."""
+def compute(medium, target, antennas, *, surface_loss_db=None, layers=(), reaches_db=None) -> dict:
+    """Rows (human units) and recommendation for ``target`` in ``medium`` (under ``layers``).
+
+    ``reaches_db``: the reach threshold (default :data:`subsurf.detection.verdicts.REACHES_MARGIN_DB`).
+    """
     from ..detection.blindzone import NEAR_FIELD_WAVELENGTHS
     from ..detection.verdicts import REACHES_MARGIN_DB, range_definition, reach_definition
     from ..io.jsonstyle import soil_facts_json
     from ..planning.antennas import rank_antennas, recommend, target_summary
     from ..safety import CAUTION
 
-    rows_si = rank_antennas(medium.electrical, antennas, target, surface_loss_db=surface_loss_db, layers=layers)
+    reaches_db = REACHES_MARGIN_DB if reaches_db is None else reaches_db
+    rows_si = rank_antennas(medium.electrical, antennas, target, surface_loss_db=surface_loss_db, layers=layers,
+                            reaches_db=reaches_db)
     rows = []
     for r in rows_si:
         row = {
@@ -216,7 +223,7 @@ def compute(medium, target, antennas, *, surface_loss_db=None, layers=()) -> dic
             if k in r:
                 row[k] = r[k]
         rows.append(row)
-    name, reason = recommend(rows_si, target=target)
+    name, reason = recommend(rows_si, target=target, reaches_db=reaches_db)
     from ..detection.contrast import target_contrast
 
     contrast = target_contrast(medium.electrical, target, [a.centre_freq_hz for a in antennas])
@@ -226,9 +233,9 @@ def compute(medium, target, antennas, *, surface_loss_db=None, layers=()) -> dic
         "layers": [{"thickness_m": lay.thickness_m, "material": lay.label, "eps_real": complex(lay.eps).real,
                     "sigma_ms_per_m": lay.sigma * 1e3} for lay in layers],
         "target": target_summary(target),
-        "thresholds": {"reaches_margin_db": REACHES_MARGIN_DB, "marginal_margin_db": 0.0,
+        "thresholds": {"reaches_margin_db": reaches_db, "marginal_margin_db": 0.0,
                        "near_field_wavelengths": NEAR_FIELD_WAVELENGTHS},
-        "reach_definition": reach_definition(),
+        "reach_definition": reach_definition(reaches_db),
         **({"depth_range_definition": range_definition(target.depth_top_m, target.depth_m)}
            if target.is_range else {}),
         "rows": rows,
@@ -244,10 +251,12 @@ def run(args) -> int:
     from ..planning.catalogue import resolve_catalogue
     from ._depths import parse_depths
     from ._medium_args import medium_from_args
+    from ._reach import reach_margin_from_args
 
     depths = parse_depths(args.depth)
     depth = depths.bottom
     surface = parse_surface_loss(args.surface_loss)
+    reaches_db = reach_margin_from_args(args)
     with collect_warnings() as notes:
         choice = resolve_catalogue(file=args.catalogue, source="--catalogue")
         catalogue = choice.antennas
@@ -262,10 +271,10 @@ def run(args) -> int:
         from ._calibration import add_model_columns, replan_inputs
 
         ground, used, calibration = replan_inputs(args, medium, antennas, catalogue)
-        result = compute(ground, target, used, surface_loss_db=surface, layers=layers)
+        result = compute(ground, target, used, surface_loss_db=surface, layers=layers, reaches_db=reaches_db)
         if calibration and medium is not None:  # predicted (soil model, catalogue) beside observed
             add_model_columns(result["rows"], compute(medium, target, antennas, surface_loss_db=surface,
-                                                      layers=layers)["rows"])
+                                                      layers=layers, reaches_db=reaches_db)["rows"])
         medium = ground
     result["warnings"] = notes
     result["calibration"] = calibration

@@ -18,6 +18,9 @@ def add_arguments(parser) -> None:
                              "overwritten without --force")
     parser.add_argument("--force", action="store_true", help="replace an earlier demo output folder (one "
                         "holding other files is never deleted)")
+    from ._reach import add_reach_margin_argument
+
+    add_reach_margin_argument(parser)
 
 
 def run(args) -> int:
@@ -27,14 +30,17 @@ def run(args) -> int:
     from ..io.demo import DESCRIPTIONS, OWN_FILES, run_demo
     from ..io.outputs import print_notes, print_result
     from ..io.transaction import OutputTransaction
+    from ._reach import reach_margin_from_args
     from .report import summary_text
 
+    reach_margin = reach_margin_from_args(args)
     # the folder is staged and moved into place whole, with its manifest; an existing folder holding
     # files the demo does not write is never replaced, not even with --force
     txn = OutputTransaction("demo", force=args.force, expected_bytes=5e6)
     staged = txn.folder(args.out, own=OWN_FILES, foreign_ok=False)
     with txn:
-        result = run_demo(staged, force=True, quiet=args.quiet or args.json, public_dir=args.out)
+        result = run_demo(staged, force=True, quiet=args.quiet or args.json, public_dir=args.out,
+                          reach_margin_db=reach_margin)
     result = txn.public(result)
     print_notes(txn.notes, quiet=args.quiet or args.json)
     out = Path(result["out"])

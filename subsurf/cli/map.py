@@ -28,23 +28,28 @@ def add_arguments(parser) -> None:
                         "(instead of the survey's [calibration] file): the measured attenuation, Q*, velocity and "
                         "effective performance replace the soil model's and the catalogue's, anchored at the "
                         "site-median soil")
+    from ._reach import add_reach_margin_argument
+
+    add_reach_margin_argument(parser, survey=True)
 
 
 def summary_text(result: dict, out_dir) -> str:
     """The readable summary of a :func:`subsurf.io.maps.run_map` result."""
     from pathlib import Path
 
-    from ..io.maps import SUMMARY_COLUMNS
+    from ..io.maps import summary_columns
     from ..io.outputs import Column, format_table
 
-    cols = [Column(k, h, u, f if f != "s" else "") for k, h, u, f in SUMMARY_COLUMNS]
+    th = result["thresholds"]
+    cols = [Column(k, h, u, f if f != "s" else "") for k, h, u, f in summary_columns(th["reaches_margin_db"])]
     t, g, mc = result["target"], result["grid"], result["monte_carlo"]
     table = format_table(result["summary"], cols, title=f"{result['site']}: area where each antenna reaches the "
                          f"{t['kind']} target at {t['depth_m']:g} m")
     cal = [result["calibration"]["note"] + ".", ""] if result.get("calibration") else []
     return "\n".join([
         *cal, table, "",
-        f"Definition: {result['reach_definition']}.",
+        f"Definition: {result['reach_definition']}"
+        + ("." if th["reaches_margin_source"] == "default" else f" ({th['reaches_margin_source']})."),
         f"Reach probability: first-order where accurate, Monte Carlo ({mc['draws']} draws, seed "
         f"{mc['seed']}) on " + ", ".join(f"{100 * f:.1f} %" for f in mc["sampled_fraction"].values())
         + f" of the cells; estimated error <= {mc['max_estimated_error']:.3f}.",
@@ -61,7 +66,9 @@ def run(args) -> int:
     from ..io.outputs import CAUTION, collect_warnings, print_notes, print_result
     from ..io.preflight import map_output_bytes
     from ..io.transaction import OutputTransaction
+    from ._reach import reach_margin_from_args
 
+    reach_margin = reach_margin_from_args(args)
     txn = OutputTransaction("map", force=args.force)
     staged = txn.folder(args.out, own=OWN_FILES)
 
@@ -76,7 +83,7 @@ def run(args) -> int:
     with collect_warnings() as notes, txn:  # the folder is staged, then moved into place whole with its manifest
         result = run_map(args.survey, staged, force=True, quiet=args.quiet or args.json,
                          geotiff=not args.no_geotiff, preflight=preflight, calibration=args.calibration,
-                         catalogue=args.catalogue)
+                         catalogue=args.catalogue, reach_margin_db=reach_margin)
     result = txn.public(result)
     text = summary_text(result, args.out)
     payload = {"caution": CAUTION, **{k: result[k] for k in ("paths", "thresholds", "reach_definition", "summary",

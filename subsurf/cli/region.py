@@ -68,6 +68,9 @@ def add_arguments(parser) -> None:
                    "illustrative configs/antennas.toml)")
     s.add_argument("--antenna", action="append", metavar="NAME", help="only these antennas (repeatable; "
                    "default: every antenna of the catalogue)")
+    from ._reach import add_reach_margin_argument
+
+    add_reach_margin_argument(s)
     s.add_argument("--layers", default="velocity,attenuation_db_per_m",
                    help="comma-separated layers besides max_depth and margin_db: velocity, "
                         "attenuation_db_per_m, eps_real, eps_imag, sigma, vertical_resolution, or 'none' "
@@ -205,18 +208,22 @@ def run(args) -> int:
     from ..io.outputs import CAUTION, collect_warnings, print_notes, print_result
     from ..io.regional import map_region, write_soil
     from ..io.transaction import OutputTransaction
-    from ..planning.antennas import get_antenna, load_catalogue
+    from ..planning.antennas import get_antenna
+    from ..planning.catalogue import resolve_catalogue
     from ..site import regional, synthetic
     from ..units import parse_quantity
+    from ._reach import reach_margin_from_args
     from .choose import parse_depth, target_from_args
 
     _check_flags(args)
     layers = [s.strip() for s in args.layers.split(",") if s.strip() and s.strip() != "none"]
-    antennas, depth, target = [], None, None
+    reaches_db = reach_margin_from_args(args)
+    antennas, depth, target, choice = [], None, None, None
     if args.out:  # everything the map needs is read before anything is written
         depth = parse_depth(args.depth)
         target = target_from_args(args, depth_m=depth)
-        catalogue = load_catalogue(args.catalogue)
+        choice = resolve_catalogue(file=args.catalogue, source="--catalogue")  # as choose reads it
+        catalogue = choice.antennas
         antennas = [get_antenna(n, catalogue) for n in args.antenna] if args.antenna else list(catalogue.values())
     txn = OutputTransaction("region", force=args.force)
     staged_map = txn.file(args.out) if args.out else None
@@ -258,8 +265,9 @@ def run(args) -> int:
                                       texture=args.texture, model=args.model, layers=layers,
                                       scheduler=args.scheduler, workers=args.workers, batch=args.batch,
                                       float64=args.float64, force=True, quiet=args.quiet or args.json,
-                                      expected_seconds=est.seconds, fill_gaps=fill))
+                                      expected_seconds=est.seconds, fill_gaps=fill, reaches_db=reaches_db))
             payload["outputs"]["map"] = str(args.out)
+            payload["catalogue"] = choice.describe([a.name for a in antennas])
     if args.soil is not None:
         from ..site.schema import QUANTITIES
 
@@ -313,7 +321,6 @@ def _input_lines(payload: dict, args) -> list[str]:
 
 def summary_text(payload: dict, args) -> str:
     """The readable lines printed after a regional run."""
-    from ..detection.verdicts import REACHES_MARGIN_DB
     from ..io.outputs import CAUTION, Column, format_table
 
     nx, ny = payload["shape"]["x"], payload["shape"]["y"]
@@ -329,10 +336,10 @@ def summary_text(payload: dict, args) -> str:
         lines.append(f"Computed on {payload['scheduler']}: {payload['tiles']} tiles in "
                      f"{payload['map_duration_s']:.1f} s ({payload['cells_per_second']:,.0f} cells/s)")
         lines.append(format_table(payload["rows"], [Column(*c) for c in COLUMNS_SPEC]))
-        lines.append(f"Percentages of the {payload['cells_with_data']:,} cells with soil data; reaches = "
-                     f"margin >= {REACHES_MARGIN_DB:g} dB (the threshold of every subsurf output); 'margin >= 0 dB' "
-                     f"also counts marginal cells; no antenna with margin >= 0 dB: "
-                     f"{payload['no_antenna_marginal_or_better_pct']:.1f} %.")
+        lines.append(f"Percentages of the {payload['cells_with_data']:,} cells with soil data; "
+                     f"{payload['reach_definition']}; 'margin >= 0 dB' also counts marginal cells (below the blind "
+                     f"zone); no antenna with margin >= 0 dB: {payload['no_antenna_marginal_or_better_pct']:.1f} %.")
+        lines.append(f"Antennas: {payload['catalogue']['text']}.")
         lines.append(f"Wrote {args.out}")
     lines.append(f"Caution: {CAUTION}")
     return "\n".join(lines)

@@ -27,6 +27,9 @@ def add_arguments(parser) -> None:
     parser.add_argument("--calibration", metavar="JSON", help="site calibration written by 'subsurf calibrate' "
                         "(instead of the survey's [calibration] file): plan with the measured attenuation, Q*, "
                         "velocity and effective performance; the report sets the model's predictions beside them")
+    from ._reach import add_reach_margin_argument
+
+    add_reach_margin_argument(parser, survey=True)
 
 
 def default_report_name(survey_path) -> str:
@@ -50,6 +53,10 @@ def summary_text(summary: dict) -> str:
     if summary["recommended"]:
         lines.append(f"Recommended antenna: {summary['recommended']}")
     lines.append(f"Reason: {summary['reason']}")
+    th = summary["thresholds"]
+    lines.append(f"Reach threshold: {th['reaches_margin_db']:g} dB"
+                 + ("" if th["reaches_margin_source"] == "default" else f" ({th['reaches_margin_source']})")
+                 + f"; {summary['reach_definition']}")
     if summary.get("catalogue"):
         lines.append(f"Antennas: {summary['catalogue']['text']}")
     lines.append(f"Ground velocity ({'measured on site' if cal else 'site median'}): "
@@ -73,7 +80,9 @@ def run(args) -> int:
     from ..io.outputs import print_notes, print_result
     from ..io.report import make_report
     from ..io.transaction import OutputTransaction
+    from ._reach import reach_margin_from_args
 
+    reach_margin = reach_margin_from_args(args)
     out = Path(args.out) if args.out else Path(default_report_name(args.survey))
     keep_maps = bool(args.maps_out) and not args.no_maps
     txn = OutputTransaction("report", force=args.force, expected_bytes=REPORT_BYTES + MAPS_BYTES * keep_maps)
@@ -85,7 +94,7 @@ def run(args) -> int:
     with collect_warnings() as map_notes, txn:  # the report and its map folder appear together, or neither
         summary = make_report(args.survey, html, force=True, quiet=args.quiet or args.json,
                               maps=not args.no_maps, maps_out=maps_dir, calibration=args.calibration,
-                              catalogue=args.catalogue)
+                              catalogue=args.catalogue, reach_margin_db=reach_margin)
     summary = txn.public(summary)
     print_notes(txn.notes, quiet=args.quiet or args.json)
     if args.maps_out and not args.no_maps:

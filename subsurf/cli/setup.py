@@ -28,20 +28,25 @@ def add_arguments(parser) -> None:
     a.add_argument("--grid-3d", action="store_true", help="plan a 3D grid instead of 2D detection lines: "
                    "survey time at the common-practice spacing and at the λ/4 imaging limit")
     from ._calibration import add_calibration_argument
+    from ._reach import add_reach_margin_argument
 
     add_calibration_argument(parser)
+    add_reach_margin_argument(parser)
 
 
 def run(args) -> int:
     from ..errors import InputError
     from ..io.outputs import Column, collect_warnings, format_table, print_notes, print_result
-    from ..planning.antennas import get_antenna, load_catalogue
+    from ..planning.antennas import get_antenna
+    from ..planning.catalogue import resolve_catalogue
     from ..units import parse_quantity
     from ._medium_args import medium_from_args
+    from ._reach import reach_margin_from_args
     from .choose import layers_from_args, parse_depth, parse_surface_loss, target_from_args
 
     depth = parse_depth(args.depth) if args.depth is not None else None
     surface = parse_surface_loss(args.surface_loss)
+    reaches_db = reach_margin_from_args(args)
 
     def positive(text, kind, unit, name, high=None, shown=""):
         if text is None:
@@ -72,7 +77,8 @@ def run(args) -> int:
         raise InputError(f"--stacks must be an integer between 1 and {MAX_STACKS} (beyond the clutter limit "
                          f"stacking adds under 1 dB per doubling), got {args.stacks}")
     with collect_warnings() as warns:
-        catalogue = load_catalogue(args.catalogue)
+        choice = resolve_catalogue(file=args.catalogue, source="--catalogue")  # as choose reads it
+        catalogue = choice.antennas
         antenna = get_antenna(args.antenna, catalogue)
         medium = medium_from_args(args, required=not args.calibration)
         from ._calibration import replan_inputs
@@ -81,12 +87,14 @@ def run(args) -> int:
         target = target_from_args(args, depth_m=depth)
         result = acquisition_for_antenna(medium, antenna, target=target, depth_m=depth, surface_loss_db=surface,
                                          stacks=args.stacks, area_m2=area, line_length_m=line_length,
-                                         speed_m_per_s=speed, imaging=args.grid_3d, layers=layers_from_args(args))
+                                         speed_m_per_s=speed, imaging=args.grid_3d, layers=layers_from_args(args),
+                                         reaches_db=reaches_db)
     from ..io.jsonstyle import soil_facts_json
 
     result["facts"] = soil_facts_json(result["facts"])
     result["warnings"] = warns
     result["calibration"] = calibration
+    result["catalogue"] = choice.describe([antenna.name])
     rows = [{"setting": label, "value": result["settings"][k], "unit": unit, "rule": result["rules"][k], "_fmt": fmt}
             for k, label, unit, fmt, _ in ROWS_SPEC if result["settings"][k] is not None]
     for r in rows:
@@ -112,8 +120,12 @@ def run(args) -> int:
         text += "\n\n" + survey_table(result["survey"])
     for n in result["notes"]:
         text += f"\nNote: {n}."
+    if result["target"]:
+        text += (f"\nReach: a target counts as reached with a margin of at least "
+                 f"{result['thresholds']['reaches_margin_db']:g} dB below the blind zone; stacking aims at it.")
     if antenna.illustrative:
         text += "\nCatalogue figures are ILLUSTRATIVE demo values; use your instrument's measured figures."
+    text += f"\nCatalogue: {result['catalogue']['text']}."
     text += f"\nCaution: {result['caution']}"
     print_result(result, text, as_json=args.json)
     print_notes(warns, quiet=args.quiet or args.json)

@@ -24,6 +24,8 @@ import numpy as np
 
 __all__ = [
     "REACHES_MARGIN_DB",
+    "REACH_MARGIN_RANGE_DB",
+    "check_reach_margin",
     "REACHES",
     "MARGINAL",
     "DOES_NOT_REACH",
@@ -41,8 +43,16 @@ __all__ = [
 #: 6 dB is a factor of two in received amplitude: our allowance for the usual
 #: uncertainty in ground conductivity and target contrast (engineering judgement,
 #: in line with common practice of demanding a few dB of headroom in link budgets).
-#: Configured here only; every output states it.
+#: The default, defined here only; a run may set another threshold (``--reach-margin`` on
+#: choose, setup, map, report, region and demo; ``[target] reach_margin`` in a survey file),
+#: checked by :func:`check_reach_margin`, and every output states the one it used.
 REACHES_MARGIN_DB = 6.0
+
+#: Allowed range of a configured threshold (dB, inclusive).  Our limits, stated: below 0 dB
+#: "reaches" would include targets whose echo is weaker than the system can detect, and above
+#: 40 dB (a factor of 100 in amplitude) the threshold exceeds any uncertainty allowance and
+#: approaches the whole dynamic range of a typical system (about 100-160 dB, from memory).
+REACH_MARGIN_RANGE_DB = (0.0, 40.0)
 
 REACHES = "reaches"
 MARGINAL = "marginal"
@@ -51,6 +61,26 @@ TOO_SHALLOW = "too shallow"
 PARTLY_BLIND = "partly blind"
 #: The verdicts, best first.
 VERDICT_WORDS = (REACHES, MARGINAL, DOES_NOT_REACH, TOO_SHALLOW, PARTLY_BLIND)
+
+
+def check_reach_margin(value_db, *, name: str = "reach margin", shown=None) -> float:
+    """The reach threshold ``value_db`` (dB) as a float, or an :class:`~subsurf.errors.InputError` naming ``name``.
+
+    Allowed: :data:`REACH_MARGIN_RANGE_DB` (0 to 40 dB, inclusive).  ``shown``: the value as the
+    user typed it, for the message (default ``value_db``).
+    """
+    from ..errors import InputError
+
+    low, high = REACH_MARGIN_RANGE_DB
+    try:
+        v = float(value_db)
+    except (TypeError, ValueError):
+        raise InputError(f"{name} must be a number of dB between {low:g} and {high:g}, got {value_db!r}") from None
+    if not low <= v <= high:  # NaN fails too
+        raise InputError(f"{name} must be between {low:g} and {high:g} dB (the margin a target needs to "
+                         f"count as reached; default {REACHES_MARGIN_DB:g} dB), got "
+                         f"{value_db if shown is None else shown!r}")
+    return v
 
 
 def verdict(margin, *, too_shallow=False, partly_blind=False, reaches_db: float = REACHES_MARGIN_DB) -> np.ndarray:

@@ -69,12 +69,13 @@ def _foreign_files(folder) -> list[str]:
     return found
 
 
-def run_demo(out_dir, *, force: bool = False, quiet: bool = False, public_dir=None) -> dict:
+def run_demo(out_dir, *, force: bool = False, quiet: bool = False, public_dir=None, reach_margin_db=None) -> dict:
     """Write the demo into ``out_dir`` (built in a temporary folder, renamed at the end).
 
     ``public_dir`` is the folder's name as the user will see it, when ``out_dir`` is a staged
     folder of an output transaction (:mod:`subsurf.io.transaction`); paths written into the
-    demo's files use it.
+    demo's files use it.  ``reach_margin_db``: the reach threshold (``--reach-margin``; default the
+    example survey's).
     """
     import json
     import os
@@ -104,7 +105,8 @@ def run_demo(out_dir, *, force: bool = False, quiet: bool = False, public_dir=No
     os.umask(umask)
     os.chmod(tmp, 0o777 & ~umask)
     try:
-        summary = make_report(survey, tmp / "report.html", quiet=quiet, maps_out=tmp / "maps", tables_dir=tmp)
+        summary = make_report(survey, tmp / "report.html", quiet=quiet, maps_out=tmp / "maps", tables_dir=tmp,
+                              reach_margin_db=reach_margin_db)
         shown = Path(public_dir) if public_dir is not None else out
         summary["report"] = str(shown / "report.html")
         summary["tables"] = [str(shown / Path(p).name) for p in summary["tables"]]

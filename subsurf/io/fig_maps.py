@@ -169,7 +169,14 @@ def _class_legend(fig, entries, *, title: str, ncols: int):
                       fontsize=fs, title_fontsize=fs, frameon=False)
 
 
-def depth_classes(max_depth_m, margin_db, target_depth_m: float, *, too_shallow=None):
+def _threshold(result) -> float:
+    """The reach threshold (dB) the maps were computed with (their ``reaches_margin_db`` attribute)."""
+    from ..detection.verdicts import REACHES_MARGIN_DB
+
+    return float(result.attrs.get("reaches_margin_db", REACHES_MARGIN_DB))
+
+
+def depth_classes(max_depth_m, margin_db, target_depth_m: float, *, too_shallow=None, reaches_db=None):
     """Class of each cell of a depth map: 0 short of the target, 1 marginal, 2 reaches, 3 reaches with depth to spare.
 
     The classes follow the one definition of "reaches" (:mod:`subsurf.detection.verdicts`):
@@ -177,12 +184,14 @@ def depth_classes(max_depth_m, margin_db, target_depth_m: float, *, too_shallow=
     class 1, *reaches* class 2, split off as class 3 where the maximum detectable depth is at
     least :data:`DEPTH_TO_SPARE_FACTOR` times the target depth.  A cell inside the blind zone
     (``too_shallow``) is class 0 (it cannot be seen however strong the echo).  NaN where
-    ``margin_db`` is NaN.
+    ``margin_db`` is NaN.  ``reaches_db``: the reach threshold (default
+    :data:`subsurf.detection.verdicts.REACHES_MARGIN_DB`).
     """
-    from ..detection.verdicts import DOES_NOT_REACH, MARGINAL, TOO_SHALLOW, verdict
+    from ..detection.verdicts import DOES_NOT_REACH, MARGINAL, REACHES_MARGIN_DB, TOO_SHALLOW, verdict
 
     margin = np.asarray(margin_db, dtype=float)
-    v = verdict(margin, too_shallow=False if too_shallow is None else too_shallow)
+    v = verdict(margin, too_shallow=False if too_shallow is None else too_shallow,
+                reaches_db=REACHES_MARGIN_DB if reaches_db is None else reaches_db)
     deep = np.asarray(max_depth_m, dtype=float) >= DEPTH_TO_SPARE_FACTOR * target_depth_m
     cls = np.where((v == DOES_NOT_REACH) | (v == TOO_SHALLOW), 0.0,
                    np.where(v == MARGINAL, 1.0, np.where(deep, 3.0, 2.0)))
@@ -206,8 +215,7 @@ def antenna_figure(grid, result, *, scenario: str, target_depth_m: float, outlin
     """
     from matplotlib.colors import BoundaryNorm, ListedColormap
 
-    from ..detection.verdicts import REACHES_MARGIN_DB
-
+    reaches_db = _threshold(result)
     da = result["max_depth"].sel(scenario=scenario)
     names = [str(a) for a in result["antenna"].values]
     fig, axes = _figure(len(names), ncols=2 if len(names) == 4 else None, aspect=_aspect(grid), extra_h=1.5)
@@ -219,16 +227,17 @@ def antenna_figure(grid, result, *, scenario: str, target_depth_m: float, outlin
         data = da.sel(antenna=name).values
         classes = depth_classes(data, result["margin_db"].sel(scenario=scenario, antenna=name).values,
                                 target_depth_m,
-                                too_shallow=None if shallow is None else shallow.sel(antenna=name).values)
+                                too_shallow=None if shallow is None else shallow.sel(antenna=name).values,
+                                reaches_db=reaches_db)
         _mesh(ax, grid, classes, cmap=cmap, norm=norm, outline=outline)
         # the share the summary table counts: cells that reach (classes 2 and 3, margin >= the threshold
         # below the blind zone) among the cells with values
         frac = float(np.count_nonzero(classes >= 2) / max(np.count_nonzero(np.isfinite(classes)), 1))
-        ax.set_title(f"{name}: reaches {target_depth_m:g} m (>= {REACHES_MARGIN_DB:g} dB) over {100 * frac:.0f} % "
+        ax.set_title(f"{name}: reaches {target_depth_m:g} m (>= {reaches_db:g} dB) over {100 * frac:.0f} % "
                      "of site", fontsize=SIZES["title"])
         _decorate(ax, grid, outline=outline, samples=samples, extrapolated=result["extrapolated"].values,
                   crs_name=crs_name, first_col=(i % ncols == 0), last_row=(i >= len(names) - ncols))
-    t, m = target_depth_m, REACHES_MARGIN_DB
+    t, m = target_depth_m, reaches_db
     entries = [(f"does not reach {t:g} m", DEPTH_CLASS_COLOURS[0]),
                (f"marginal: under {m:g} dB to spare at {t:g} m", DEPTH_CLASS_COLOURS[1]),
                (f"reaches {t:g} m ({m:g} dB or more to spare)", DEPTH_CLASS_COLOURS[2]),
@@ -253,8 +262,9 @@ def scenario_figure(grid, result, *, target_depth_m: float, outline, samples, cr
     """
     from matplotlib.colors import BoundaryNorm, ListedColormap
 
-    from ..detection.verdicts import REACHES_MARGIN_DB, reaches, share_word
+    from ..detection.verdicts import reaches, share_word
 
+    reaches_db = _threshold(result)
     scen = [str(s) for s in result["scenario"].values]
     names = [str(a) for a in result["antenna"].values]
     fig, axes = _figure(len(scen), aspect=_aspect(grid), extra_h=1.6)
@@ -273,12 +283,12 @@ def scenario_figure(grid, result, *, target_depth_m: float, outline, samples, cr
         top = max(counts, key=counts.get) if counts else "-"
         # "none reaches": no antenna has margin >= the threshold below the blind zone (detection.verdicts)
         shallow = result["too_shallow"].sel(scenario=s).values.astype(bool) if "too_shallow" in result else False
-        ok = reaches(result["margin_db"].sel(scenario=s).values, too_shallow=shallow)
+        ok = reaches(result["margin_db"].sel(scenario=s).values, too_shallow=shallow, reaches_db=reaches_db)
         none = int(np.count_nonzero(~np.any(ok, axis=0) & inside))
         n_site = max(int(inside.sum()), 1)
         share = counts.get(top, 0) / n_site
         ax.set_title(_wrap_title(f"{s}: {top} recommended on a {share_word(share)} of cells ({100 * share:.0f} %); "
-                                 f"none reaches (>= {REACHES_MARGIN_DB:g} dB): {100 * none / n_site:.0f} %", ax),
+                                 f"none reaches (>= {reaches_db:g} dB): {100 * none / n_site:.0f} %", ax),
                      fontsize=SIZES["title"])
         used = np.unique(rec[inside])
         if used.size > 1:  # boundaries between the cells of different recommended antennas
@@ -295,7 +305,7 @@ def scenario_figure(grid, result, *, target_depth_m: float, outline, samples, cr
     entries.append((f"{pct[-1]} or more", PROBABILITY_CLASSES[-1][1]))
     _class_legend(fig, entries, ncols=4, title=f"Chance that the antenna recommended for the cell reaches "
                         f"{target_depth_m:g} m (dashed line: where the recommended antenna changes)")
-    fig.suptitle(title or f"Scenarios: probability of reaching (margin >= {REACHES_MARGIN_DB:g} dB)",
+    fig.suptitle(title or f"Scenarios: probability of reaching (margin >= {reaches_db:g} dB)",
                  fontsize=SIZES["suptitle"])
     return fig
 

@@ -17,7 +17,7 @@ from pathlib import Path
 from ..detection.verdicts import REACHES_MARGIN_DB, reach_definition
 from .tables import sidecar_names
 
-__all__ = ["NETCDF_NAME", "SUMMARY_COLUMNS", "GEOTIFF_LAYERS", "OWN_FILES", "output_paths", "write_map_outputs",
+__all__ = ["NETCDF_NAME", "summary_columns", "GEOTIFF_LAYERS", "OWN_FILES", "output_paths", "write_map_outputs",
            "run_map", "scenario_tags", "antenna_figure_key"]
 
 NETCDF_NAME = "feasibility.nc"
@@ -29,21 +29,26 @@ GEOTIFF_LAYERS = ("max_depth", "margin_db", "reach_probability")
 #: glob patterns of every file a map folder holds (an earlier output is recognised by them)
 OWN_FILES = (NETCDF_NAME, f"{SUMMARY_STEM}.*", "map_*.png", "geotiff/*.tif")
 
-#: summary columns: row key, header, unit, number format ("s": text)
-SUMMARY_COLUMNS = (
-    ("scenario", "scenario", "", "s"), ("antenna", "antenna", "", "s"),
-    ("centre_frequency_mhz", "f_c", "MHz", ".0f"),
-    ("reach_pct", f"reaches (>= {REACHES_MARGIN_DB:g} dB)", "% area", ".0f"),
-    ("marginal_or_better_pct", "margin >= 0 dB", "% area", ".0f"),
-    ("expected_reach_pct", "mean P(reach)", "%", ".0f"), ("reach_p90_pct", "P(reach)>=0.9", "% area", ".0f"),
-    ("median_max_depth_m", "median max depth", "m", ".2f"), ("recommended_pct", "recommended", "% area", ".0f"),
-)
+def summary_columns(reaches_db: float = REACHES_MARGIN_DB) -> tuple:
+    """Summary columns for the reach threshold ``reaches_db``: row key, header, unit, number format ("s": text)."""
+    return (
+        ("scenario", "scenario", "", "s"), ("antenna", "antenna", "", "s"),
+        ("centre_frequency_mhz", "f_c", "MHz", ".0f"),
+        ("reach_pct", f"reaches (>= {reaches_db:g} dB)", "% area", ".0f"),
+        ("marginal_or_better_pct", "margin >= 0 dB", "% area", ".0f"),
+        ("expected_reach_pct", "mean P(reach)", "%", ".0f"), ("reach_p90_pct", "P(reach)>=0.9", "% area", ".0f"),
+        ("median_max_depth_m", "median max depth", "m", ".2f"), ("recommended_pct", "recommended", "% area", ".0f"),
+    )
 
 
-def thresholds() -> dict:
-    """The reach threshold and its definition, as every map output states them (the keys ``choose`` uses)."""
-    return {"thresholds": {"reaches_margin_db": REACHES_MARGIN_DB, "marginal_margin_db": 0.0},
-            "reach_definition": reach_definition()}
+def thresholds(reaches_db: float = REACHES_MARGIN_DB, source: str = "default") -> dict:
+    """The reach threshold and its definition, as every map output states them (the keys ``choose`` uses).
+
+    ``source``: where the threshold came from (``default``, ``[target] reach_margin`` or ``--reach-margin``).
+    """
+    return {"thresholds": {"reaches_margin_db": float(reaches_db), "marginal_margin_db": 0.0,
+                           "reaches_margin_source": source},
+            "reach_definition": reach_definition(reaches_db)}
 
 
 def have_rioxarray() -> bool:
@@ -99,7 +104,7 @@ def summary_markdown(rows, survey, caution: str, calibration=None) -> str:
     """The summary table as Markdown with the target, grid and Monte Carlo settings and the caution."""
     from .outputs import Column
 
-    cols = [Column(k, h, u, f) for k, h, u, f in SUMMARY_COLUMNS]
+    cols = [Column(k, h, u, f) for k, h, u, f in summary_columns(survey.reach_margin_db)]
     head = "| " + " | ".join(c.label() for c in cols) + " |"
     sep = "|" + "|".join("---" for _ in cols) + "|"
     body = ["| " + " | ".join(c.render(r[c.key]) for c in cols) + " |" for r in rows]
@@ -111,27 +116,28 @@ def summary_markdown(rows, survey, caution: str, calibration=None) -> str:
         f"Reach probability: first-order where accurate, else Monte Carlo ({survey.draws} draws, "
         f"seed {survey.seed}). Antennas: {survey.catalogue.text(survey.antennas)}.", "",
         *([f"**{calibration.note()}.**", ""] if calibration is not None else []),
-        f"Definition: {reach_definition()}. Mean P(reach) and P(reach) are the probability of reaching.", "",
+        f"Definition: {reach_definition(survey.reach_margin_db)}. Mean P(reach) and P(reach) are the probability of reaching.", "",
         head, sep, *body, "", f"> **Caution.** {caution}", ""])
 
 
-def summary_table_columns():
+def summary_table_columns(reaches_db: float = REACHES_MARGIN_DB):
     """The summary CSV's columns (:class:`~subsurf.io.tables.TableColumn`: names, titles, units, 4 significant
-    digits), in :data:`SUMMARY_COLUMNS` order."""
+    digits), in :func:`summary_columns` order."""
     from .tables import TableColumn
 
     units = {"% area": "%", "%": "%"}  # the CSVW unit; what the percentage is of stays in the title
     return [TableColumn(k, f"{h} ({u})" if u else h, units.get(u, u), datatype="string" if f == "s" else "number",
-                        fmt="" if f == "s" else ".4g") for k, h, u, f in SUMMARY_COLUMNS]
+                        fmt="" if f == "s" else ".4g") for k, h, u, f in summary_columns(reaches_db)]
 
 
 def summary_csv_files(rows, csv_path, survey, calibration=None) -> dict[Path, str]:
     """Path -> text of the summary CSV (caution column on every row) and its CSVW/.csvt sidecars."""
     from .tables import table_files
 
-    return table_files(csv_path, rows, summary_table_columns(),
+    return table_files(csv_path, rows, summary_table_columns(survey.reach_margin_db),
                        title=f"subsurf map: area each antenna reaches, per scenario ({survey.name})",
                        notes=[f"target: {survey.target.kind} at {survey.target.depth_m:g} m depth",
+                              f"definition: {reach_definition(survey.reach_margin_db)}",
                               f"grid: {survey.cell_size_m:g} m cells in {survey.grid_crs.name}",
                               *([calibration.note()] if calibration is not None else [])])
 
@@ -149,6 +155,8 @@ def _netcdf_attrs(survey, calibration=None) -> dict:
         "comment": CAUTION,
         "caution": CAUTION,
         "antenna_catalogue": survey.catalogue.text(survey.antennas),
+        "reaches_margin_db": float(survey.reach_margin_db),
+        "reach_definition": reach_definition(survey.reach_margin_db),
         **({"calibration": calibration.note(), "calibration_file": str(calibration.path)}
            if calibration is not None else {}),
     }
@@ -228,7 +236,8 @@ def _write_geotiffs(maps, paths, *, force: bool, written: dict) -> None:
                 band = var.sel(scenario=s.name, antenna=a.name).values
                 write_layer(paths[key], band[::-1] if flip else band, transform=transform, crs=crs,
                             description=attrs.get("long_name", layer), unit=attrs.get("units", ""),
-                            tags={**attrs, "layer": layer, "scenario": s.name, "antenna": a.name},
+                            tags={**attrs, "layer": layer, "scenario": s.name, "antenna": a.name,
+                                  "reaches_margin_db": f"{maps.reaches_margin_db:g}"},
                             force=force)
                 written[key] = paths[key]
 
@@ -255,7 +264,8 @@ def write_map_outputs(maps, out_dir, *, force: bool = False, geotiff: bool = Tru
     written["summary_md"] = atomic_write_text(
         paths["summary_md"], summary_markdown(rows, survey, CAUTION, maps.calibration), force=force)
     grid = maps.grid
-    summary_json = {"caution": CAUTION, "inputs": survey.describe(), **thresholds(), "summary": rows,
+    summary_json = {"caution": CAUTION, "inputs": survey.describe(),
+                    **thresholds(maps.reaches_margin_db, survey.reach_margin_source), "summary": rows,
                     "monte_carlo": maps.monte_carlo,
                     "grid": {"nx": int(grid.sizes["x"]), "ny": int(grid.sizes["y"]),
                              "cells_inside": int(grid["mask"].values.sum())},
@@ -270,7 +280,7 @@ def write_map_outputs(maps, out_dir, *, force: bool = False, geotiff: bool = Tru
 
 
 def run_map(survey_path, out_dir, *, force: bool = False, quiet: bool = False, geotiff: bool = True,
-            preflight=None, calibration=None, catalogue=None) -> dict:
+            preflight=None, calibration=None, catalogue=None, reach_margin_db=None) -> dict:
     """Compute and write every output of ``subsurf map`` for one survey.
 
     Parameters
@@ -293,6 +303,8 @@ def run_map(survey_path, out_dir, *, force: bool = False, quiet: bool = False, g
     catalogue : str or Path, optional
         Antenna catalogue file replacing the survey's ``[antennas] catalogue`` (``--catalogue``);
         the survey's inline antennas are kept.
+    reach_margin_db : float, optional
+        Reach threshold (dB) replacing the survey's ``[target] reach_margin`` (``--reach-margin``).
 
     Returns
     -------
@@ -300,14 +312,16 @@ def run_map(survey_path, out_dir, *, force: bool = False, quiet: bool = False, g
         ``paths`` (output kind -> path written), ``summary`` (one row per scenario and
         antenna), ``inputs`` (the survey description), ``monte_carlo``, ``grid`` (nx, ny,
         cells inside, CRS name and source, cell size), ``geotiff`` (whether GeoTIFFs were
-        written), ``calibration`` (what the calibration is and does; None without one) and
+        written), ``calibration`` (what the calibration is and does; None without one), ``zones``
+        (per soil zone, :func:`subsurf.site.zone_stats.zone_summaries`; empty without zones) and
         ``caution``.
     """
     from ..site.maps import compute_maps
     from ..site.survey import load_survey
+    from ..site.zone_stats import zone_summaries
     from .outputs import CAUTION, check_outputs_free
 
-    survey = load_survey(survey_path, catalogue=catalogue)
+    survey = load_survey(survey_path, catalogue=catalogue, reach_margin_db=reach_margin_db)
     geotiff = geotiff and have_rioxarray()
     check_outputs_free(output_paths(out_dir, survey, geotiff=geotiff).values(), force=force)
     if preflight is not None:
@@ -315,11 +329,13 @@ def run_map(survey_path, out_dir, *, force: bool = False, quiet: bool = False, g
     maps = compute_maps(survey, quiet=quiet, calibration=calibration)
     written = write_map_outputs(maps, out_dir, force=force, geotiff=geotiff)
     grid = maps.grid
-    return {"paths": {k: str(v) for k, v in written.items()}, **thresholds(), "summary": maps.rows,
+    return {"paths": {k: str(v) for k, v in written.items()},
+            **thresholds(maps.reaches_margin_db, survey.reach_margin_source), "summary": maps.rows,
             "inputs": survey.describe(),
             "monte_carlo": maps.monte_carlo, "caution": CAUTION, "geotiff": geotiff,
             "grid": {"nx": int(grid.sizes["x"]), "ny": int(grid.sizes["y"]),
                      "cells_inside": int(grid["mask"].values.sum()), "crs_name": survey.grid_crs.name,
                      "crs_source": survey.grid_crs_source, "cell_size_m": survey.cell_size_m},
             "site": survey.name, "target": {"kind": survey.target.kind, "depth_m": survey.target.depth_m},
+            "zones": zone_summaries(maps),
             "calibration": None if maps.calibration is None else maps.calibration.describe()}

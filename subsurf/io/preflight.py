@@ -169,7 +169,8 @@ def region_estimate(*, cells: int, antennas: int, layers: int, chunk: int, tiles
     seconds = cells * antennas * _REGION_SECONDS if map_out else cells * soil_quantities * 2e-8
     # float32 values uncompressed: an upper bound (measured with zlib level 1: 69 B per cell for 6 antennas and
     # 2 extra layers against 96 B here; the synthetic soil 9 B per cell against 12 B)
-    out = 4.0 * cells * ((2 + layers) * antennas * map_out + soil_quantities)
+    # (+ 1 B per cell and antenna: the int8 too_shallow layer)
+    out = 4.0 * cells * ((2 + layers) * antennas * map_out + soil_quantities) + cells * antennas * map_out
     what = f"subsurf region of {cells:,} cells" + (f" x {antennas} antennas" if map_out else "")
     return Estimate(f"{what} (tiles of {chunk}x{chunk} cells, {tiles_in_flight} at once)", memory, seconds, out)
 

@@ -46,7 +46,7 @@ def write_region(result, path, *, force: bool = False, batch: int = 4, dtype: st
     """
     from ..detection.verdicts import REACHES_MARGIN_DB
     from ..errors import InputError
-    from ..site.regional import DEFAULT_USED_FILL, REC_FILL, RegionSummary
+    from ..site.regional import DEFAULT_USED_FILL, REC_FILL, SHALLOW_FILL, RegionSummary
     from .netcdf import write_netcdf
 
     if dtype not in ("float32", "float64"):
@@ -55,6 +55,9 @@ def write_region(result, path, *, force: bool = False, batch: int = 4, dtype: st
         result = result.chunk({"y": result.sizes["y"], "x": result.sizes["x"]})
     result = result.copy()
     result["recommended_antenna"].encoding["_FillValue"] = REC_FILL
+    if "too_shallow" in result:
+        result["too_shallow"].encoding["_FillValue"] = SHALLOW_FILL
+    reaches_db = float(result.attrs.get("reaches_margin_db", REACHES_MARGIN_DB))
     filled = []
     if "soil_default_used" in result:
         result["soil_default_used"].encoding["_FillValue"] = DEFAULT_USED_FILL
@@ -63,7 +66,8 @@ def write_region(result, path, *, force: bool = False, batch: int = 4, dtype: st
 
     def on_tile(blocks):
         summary.add(blocks["max_depth"], blocks["margin_db"], blocks["recommended_antenna"],
-                    reaches_db=REACHES_MARGIN_DB, used=blocks.get("soil_default_used"))
+                    reaches_db=reaches_db, used=blocks.get("soil_default_used"),
+                    too_shallow=blocks.get("too_shallow"))
 
     attrs = {"title": "subsurf regional GPR feasibility map", "source": "subsurf.io.regional.write_region"}
     if caution:
@@ -126,7 +130,8 @@ def _tile_bar(quiet: bool, *, long_run: bool = False):
 def map_region(soil, antennas, out, *, target, target_depth_m: float, texture: str, model: str, layers,
                scheduler: str | None = "threads", workers: int | None = None, batch: int | None = None,
                float64: bool = False, force: bool = False, quiet: bool = False,
-               expected_seconds: float = 0.0, fill_gaps: dict | None = None) -> dict:
+               expected_seconds: float = 0.0, fill_gaps: dict | None = None,
+               reaches_db: float | None = None) -> dict:
     """Evaluate and write the regional map of ``soil`` to ``out``; return what the command reports.
 
     Progress: a bar of tiles on a terminal; without one, a line per tenth of the tiles with
@@ -142,15 +147,18 @@ def map_region(soil, antennas, out, *, target, target_depth_m: float, texture: s
         ``no_antenna_marginal_or_better_pct``, percentages of the cells with soil data (the keys
         ``subsurf map`` uses for the same quantities); ``coverage``: ``cells_with_data_pct`` of all
         cells, and per quantity filled with its default (``fill_gaps``) ``default_used_pct`` of
-        the cells with data.
+        the cells with data.  ``reaches_db``: the reach threshold (default
+        :data:`subsurf.detection.verdicts.REACHES_MARGIN_DB`); "reaches" counts cells below the blind zone.
     """
-    from ..detection.verdicts import REACHES_MARGIN_DB
+    from ..detection.verdicts import REACHES_MARGIN_DB, reach_definition
     from ..planning.antennas import target_summary
     from ..site import regional
     from .outputs import CAUTION
 
+    reaches_db = REACHES_MARGIN_DB if reaches_db is None else float(reaches_db)
     result = regional.feasibility_region(soil, antennas, target=target, target_depth_m=target_depth_m,
-                                         texture=texture, model=model, layers=layers, fill_gaps=fill_gaps)
+                                         texture=texture, model=model, layers=layers, fill_gaps=fill_gaps,
+                                         reaches_db=reaches_db)
     progress, close = _tile_bar(quiet, long_run=expected_seconds > 60)
     t1 = time.perf_counter()
     try:
@@ -173,7 +181,8 @@ def map_region(soil, antennas, out, *, target, target_depth_m: float, texture: s
         "scheduler": sched["scheduler"], "tiles": summary.tiles, "batch": batch,
         "cells_with_data": summary.cells_with_data, "map_duration_s": seconds,
         "cells_per_second": summary.cells / seconds if seconds > 0 else None,
-        "thresholds": {"reaches_margin_db": REACHES_MARGIN_DB, "marginal_margin_db": 0.0},
+        "thresholds": {"reaches_margin_db": reaches_db, "marginal_margin_db": 0.0},
+        "reach_definition": reach_definition(reaches_db),
         "rows": rows, "no_antenna_marginal_or_better_pct": 100 * none,
         "coverage": {"cells_with_data_pct": 100 * summary.cells_with_data / max(summary.cells, 1),
                      "default_used_pct": {q: 100 * f for q, f in summary.filled_fractions().items()}},

@@ -15,6 +15,7 @@ from dataclasses import dataclass
 import numpy as np
 from scipy import constants
 
+from ..detection.verdicts import REACHES_MARGIN_DB
 from ..errors import InputError, check_positive
 from .coverage import (
     TURN_TIME_S,
@@ -153,9 +154,12 @@ def clutter_stack_limit(clutter_limit_db, *, min_doubling_gain_db: float = MIN_D
     return n
 
 
-def stacks_for_margin(margin_db, *, wanted_db: float = 6.0, current_stacks: int = 1,
+def stacks_for_margin(margin_db, *, wanted_db: float = REACHES_MARGIN_DB, current_stacks: int = 1,
                       clutter_limit_db: float = 15.0):
     """Stack count N (a power of two, ≥ ``current_stacks``) that lifts a margin to ``wanted_db``, or 0.
+
+    ``wanted_db`` is the reach threshold (default
+    :data:`subsurf.detection.verdicts.REACHES_MARGIN_DB`): stacking aims at "reaches".
 
     ``margin_db`` is the margin with ``current_stacks``.  The gain of going from N₀ to N is
     G(N) − G(N₀) with the clutter-limited G; N never exceeds :func:`clutter_stack_limit`

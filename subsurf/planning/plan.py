@@ -50,7 +50,7 @@ ALL_GRIDS = GRIDS_2D + GRIDS_3D
 
 def acquisition_for_antenna(medium, antenna, *, target=None, depth_m=None, surface_loss_db=None, stacks=None,
                             area_m2=None, line_length_m=None, speed_m_per_s=None, imaging=False, layers=(),
-                            grids=None) -> dict:
+                            grids=None, reaches_db=None) -> dict:
     """Acquisition settings (human units) for ``antenna`` in ``medium``, with notes and the rules used.
 
     ``grids`` names the grids whose survey effort the plan shows (``survey.grids[].planned``
@@ -65,7 +65,8 @@ def acquisition_for_antenna(medium, antenna, *, target=None, depth_m=None, surfa
     up to the clutter limit (:func:`subsurf.planning.acquisition.clutter_stack_limit`); a
     target that does not reach with the margin even there, or that lies inside the blind
     zone, gets ``reachable = False``, the verdict, no survey time and a note saying why,
-    instead of an impossible survey.
+    instead of an impossible survey.  ``reaches_db``: the margin a target needs to count as
+    reached (default :data:`subsurf.detection.verdicts.REACHES_MARGIN_DB`), the one stacking aims at.
     """
     import numpy as np
 
@@ -77,6 +78,7 @@ def acquisition_for_antenna(medium, antenna, *, target=None, depth_m=None, surfa
     from .antennas import antenna_budget_for, target_summary
     from .coverage import TURN_TIME_S
 
+    reaches_db = REACHES_MARGIN_DB if reaches_db is None else float(reaches_db)
     fc = antenna.centre_freq_hz
     eps, sig = medium.electrical(np.array([fc]))
     w = wave_properties(eps, sig, np.array([fc]))
@@ -110,20 +112,20 @@ def acquisition_for_antenna(medium, antenna, *, target=None, depth_m=None, surfa
                          f"({antenna.clutter_limit_db:g} dB): each doubling past {limit} adds under 1 dB and halves "
                          "the towing speed")
         if stacks is None:
-            n = stacks_for_margin(margin0, wanted_db=REACHES_MARGIN_DB, current_stacks=antenna.stacks,
+            n = stacks_for_margin(margin0, wanted_db=reaches_db, current_stacks=antenna.stacks,
                                   clutter_limit_db=antenna.clutter_limit_db)
             if n == 0:
                 stacks = antenna.stacks
             else:
                 stacks = n
                 if n > antenna.stacks:
-                    notes.append(f"stacking raised from {antenna.stacks} to {stacks} for a {REACHES_MARGIN_DB:g} dB "
+                    notes.append(f"stacking raised from {antenna.stacks} to {stacks} for a {reaches_db:g} dB "
                                  f"margin (clutter limit {antenna.clutter_limit_db:g} dB: at most {limit} stacks help)")
             if stacks != antenna.stacks:
                 budget = antenna_budget_for(medium.electrical, antenna, target, depth_m=depth_m, stacks=stacks,
                                             surface_loss_db=surface_loss_db, layers=layers)
         margin = float(budget["margin_db"])
-        verdict_word = str(verdict(margin, too_shallow=too_shallow))
+        verdict_word = str(verdict(margin, too_shallow=too_shallow, reaches_db=reaches_db))
         if too_shallow:
             reachable = False
             notes.insert(0, f"too shallow: at {depth_m:g} m the echo arrives within the direct wave; this antenna's "
@@ -133,7 +135,7 @@ def acquisition_for_antenna(medium, antenna, *, target=None, depth_m=None, surfa
         elif verdict_word != REACHES:
             reachable = False
             notes.insert(0, f"out of reach: margin {margin:.1f} dB at {depth_m:g} m with {stacks} stacks, short of "
-                            f"the {REACHES_MARGIN_DB:g} dB needed, and stacking beyond {limit} adds under 1 dB per "
+                            f"the {reaches_db:g} dB needed, and stacking beyond {limit} adds under 1 dB per "
                             f"doubling (clutter limit {antenna.clutter_limit_db:g} dB); maximum depth "
                             f"{float(budget['max_depth']):.3g} m; no survey planned: use a lower-frequency antenna "
                             "or accept a shallower target")
@@ -210,6 +212,7 @@ def acquisition_for_antenna(medium, antenna, *, target=None, depth_m=None, surfa
         "target": None if target is None else target_summary(target),
         "verdict": verdict_word,
         "reachable": reachable,
+        "thresholds": {"reaches_margin_db": reaches_db, "marginal_margin_db": 0.0},
         "ground_at_centre": {"freq_mhz": fc / 1e6, "eps_real": float(w.eps_real[0]),
                              "velocity_m_per_ns": float(w.velocity[0]) / 1e9,
                              "wavelength_m": float(w.wavelength[0]),

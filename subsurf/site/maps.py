@@ -14,7 +14,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-__all__ = ["FeasibilityMaps", "compute_maps", "summary_rows", "monte_carlo_info", "sample_points"]
+__all__ = ["FeasibilityMaps", "compute_maps", "summary_rows", "area_rows", "monte_carlo_info", "sample_points"]
 
 
 @dataclass(frozen=True)
@@ -41,8 +41,14 @@ class FeasibilityMaps:
     target : subsurf.detection.budget.Target
     fractions : list of dict
         Per scenario, :func:`subsurf.site.feasibility.area_fractions` of the site.
+    zones, zone_fractions : list
+        The soil zones' cells (:func:`subsurf.site.zone_stats.zone_cells`) and, per zone and
+        scenario, the area fractions over them, from the same arrays as ``fractions``.
     calibration : subsurf.site.calibrated.GridCalibration or None
         The site calibration the maps use (None: the soil model and the catalogue).
+
+    The reach threshold is the survey's (``survey.reach_margin_db``, :attr:`reaches_margin_db`);
+    the dataset states it in its ``reaches_margin_db`` attribute.
     """
 
     survey: object
@@ -53,11 +59,18 @@ class FeasibilityMaps:
     target: object
     fractions: list = field(default_factory=list)
     calibration: object = None
+    zones: list = field(default_factory=list)  # subsurf.site.zone_stats.ZoneCells, one per zone (and the rest)
+    zone_fractions: list = field(default_factory=list)  # per zone, per scenario: area_fractions over its cells
 
     @property
     def rows(self) -> list[dict]:
         """One summary row per scenario and antenna (:func:`summary_rows`)."""
         return summary_rows(self)
+
+    @property
+    def reaches_margin_db(self) -> float:
+        """The reach threshold (dB) of these maps: the survey's ``[target] reach_margin`` or ``--reach-margin``."""
+        return float(self.survey.reach_margin_db)
 
     @property
     def monte_carlo(self) -> dict:
@@ -98,13 +111,14 @@ def compute_maps(survey, *, quiet: bool = True, calibration=None) -> Feasibility
     """
     import xarray as xr
 
-    from ..detection.verdicts import REACHES_MARGIN_DB, reach_definition
+    from ..detection.verdicts import reach_definition
     from ..io.progress import steps
     from . import feasibility as fz
     from .grid import build_grid, soil_on_grid
     from .probability import DEFAULT_TOLERANCE, reach_probability
 
     antennas, target = _antennas_and_target(survey)
+    reaches_db = float(survey.reach_margin_db)
     cal = None
     if calibration is not None or survey.calibration_path is not None:
         from .calibrated import load_grid_calibration
@@ -124,6 +138,10 @@ def compute_maps(survey, *, quiet: bool = True, calibration=None) -> Feasibility
         from .calibrated import reference_soil
 
         cal = _replace(cal, reference=fz._clip_moisture(reference_soil(base_values, inside), texture=survey.texture))
+    from .zone_stats import zone_cells
+
+    zones = zone_cells(survey, grid)
+    zone_fractions = [[] for _ in zones]
     layers = {k: [] for k in fz.LAYER_ATTRS}
     rec_all, fractions, sampled, shallow_all = [], [], [], []
     freqs = [a.centre_freq_hz for a in antennas]
@@ -134,7 +152,8 @@ def compute_maps(survey, *, quiet: bool = True, calibration=None) -> Feasibility
             common = {"target": target, "target_depth_m": survey.target.depth_m, "texture": survey.texture,
                       "model": survey.soil_model, "calibration": cal}
             out = fz.evaluate(vals, antennas, **common)
-            r = reach_probability(vals, base_sd, antennas, draws=survey.draws, seed=survey.seed, **common)
+            r = reach_probability(vals, base_sd, antennas, draws=survey.draws, seed=survey.seed,
+                                  reaches_db=reaches_db, **common)
             p, se = r.probability, r.error
             sampled.append(r.sampled_fraction)
             out["reach_probability"], out["reach_probability_se"] = p, se
@@ -142,10 +161,13 @@ def compute_maps(survey, *, quiet: bool = True, calibration=None) -> Feasibility
                 layers[k].append(out[k])
             shallow = np.asarray(out["too_shallow"], bool) & inside
             shallow_all.append(shallow)
-            rec = fz.recommend_antenna(out["margin_db"], freqs, too_shallow=shallow)
+            rec = fz.recommend_antenna(out["margin_db"], freqs, too_shallow=shallow, reaches_db=reaches_db)
             rec_all.append(np.where(inside, rec, -2).astype(np.int16))
             fractions.append(fz.area_fractions(out["margin_db"], grid["mask"].values, probability=p,
-                                               too_shallow=shallow))
+                                               too_shallow=shallow, reaches_db=reaches_db))
+            for z, zf in zip(zones, zone_fractions):  # the same arrays, over each zone's cells
+                zf.append(fz.area_fractions(out["margin_db"], z.cells, probability=p, too_shallow=shallow,
+                                            reaches_db=reaches_db) if z.count else None)
             bar.advance()
     dims = ("scenario", "antenna", "y", "x")
     ds = xr.Dataset(coords=grid.coords)
@@ -164,13 +186,13 @@ def compute_maps(survey, *, quiet: bool = True, calibration=None) -> Feasibility
         "flag_meanings": "below_blind_zone in_blind_zone", "grid_mapping": "crs"})
     names = " ".join(["outside_site", "none_even_marginal"] + [a.name.replace(" ", "_") for a in antennas])
     ds["recommended_antenna"] = (("scenario", "y", "x"), np.stack(rec_all), {
-        "long_name": f"recommended antenna (highest frequency with >= {REACHES_MARGIN_DB:g} dB margin, else largest "
+        "long_name": f"recommended antenna (highest frequency with >= {reaches_db:g} dB margin, else largest "
                      "margin >= 0)",
         "flag_values": np.arange(-2, n_ant, dtype=np.int16), "flag_meanings": names, "grid_mapping": "crs"})
     for q in soil.data_vars:
         ds["soil_" + q if q not in ("distance_to_sample", "extrapolated") else q] = soil[q]
     ds["reach_probability"].attrs["long_name"] = (
-        f"probability that the target is reached (margin >= {REACHES_MARGIN_DB:g} dB outside the blind zone)")
+        f"probability that the target is reached (margin >= {reaches_db:g} dB outside the blind zone)")
     ds["reach_probability"].attrs["comment"] = (
         "per-cell soil values normal with the measurement and interpolation standard deviations; "
         f"first-order (linearised) probability of margin and blind zone jointly where its estimated error is "
@@ -183,8 +205,9 @@ def compute_maps(survey, *, quiet: bool = True, calibration=None) -> Feasibility
     ds.attrs = {
         "target": f"{t.kind} {t.material} {t.size_m:g} m at {t.depth_m:g} m",
         "target_depth_m": t.depth_m,
-        "reaches_margin_db": REACHES_MARGIN_DB,
-        "reach_definition": reach_definition(),
+        "reaches_margin_db": reaches_db,
+        "reaches_margin_source": survey.reach_margin_source,
+        "reach_definition": reach_definition(reaches_db),
         "monte_carlo_draws": survey.draws,
         "monte_carlo_seed": survey.seed,
         "cell_size_m": survey.cell_size_m,
@@ -201,14 +224,14 @@ def compute_maps(survey, *, quiet: bool = True, calibration=None) -> Feasibility
                                       + ("; sigma is the effective conductivity, eps_imag 0" if k in
                                          ("sigma", "eps_imag") else ""))
     return FeasibilityMaps(survey=survey, dataset=ds, grid=grid, soil=soil, antennas=antennas, target=target,
-                           fractions=fractions, calibration=cal)
+                           fractions=fractions, calibration=cal, zones=zones, zone_fractions=zone_fractions)
 
 
 def summary_rows(maps: FeasibilityMaps) -> list[dict]:
     """Area fractions per scenario and antenna, in percent of the cells inside the site.
 
     Keys: ``scenario``, ``antenna``, ``centre_frequency_mhz``, ``reach_pct`` (area where it
-    reaches: margin ≥ the reach threshold :data:`subsurf.detection.verdicts.REACHES_MARGIN_DB`
+    reaches: margin ≥ the survey's reach threshold, :attr:`FeasibilityMaps.reaches_margin_db`,
     outside the blind zone), ``marginal_or_better_pct`` (margin ≥ 0 dB), ``expected_reach_pct``
     (mean probability of reaching), ``reach_p90_pct`` (probability ≥ 0.9), ``median_max_depth_m``,
     ``max_depth_min_m`` / ``max_depth_max_m`` (its range over the site),
@@ -216,12 +239,21 @@ def summary_rows(maps: FeasibilityMaps) -> list[dict]:
     (area where the antenna is the recommended one).
     """
     ds = maps.dataset
-    inside = ds["mask"].values.astype(bool)
+    return area_rows(maps, ds["mask"].values.astype(bool), maps.fractions)
+
+
+def area_rows(maps: FeasibilityMaps, inside, fractions) -> list[dict]:
+    """:func:`summary_rows` over the cells ``inside`` (bool, y × x) with their ``fractions`` per scenario.
+
+    ``fractions``: per scenario, :func:`subsurf.site.areas.area_fractions` over the same cells
+    (the site's are ``maps.fractions``, a zone's :attr:`FeasibilityMaps.zone_fractions`).
+    """
+    ds = maps.dataset
     n_inside = max(int(inside.sum()), 1)
     rows = []
     for si, sc in enumerate(maps.survey.scenarios):
         rec = ds["recommended_antenna"].values[si]
-        fr = maps.fractions[si]
+        fr = fractions[si]
         for ai, a in enumerate(maps.antennas):
             md = ds["max_depth"].values[si, ai][inside]
             rows.append({

@@ -25,11 +25,11 @@ from __future__ import annotations
 
 import contextlib
 import os
-from dataclasses import dataclass, field
 
 import numpy as np
 
 from ..errors import FileInputError, InputError
+from .region_stats import REC_FILL, SHALLOW_FILL, RegionSummary  # re-exported: the statistics live there
 from .regional_input import gap_fill_values, open_region  # the input side; re-exported (public here)
 
 __all__ = [
@@ -40,6 +40,7 @@ __all__ = [
     "feasibility_region",
     "RegionSummary",
     "REC_FILL",
+    "SHALLOW_FILL",
     "DEFAULT_USED_FILL",
     "scheduler",
     "chain_antennas",
@@ -50,8 +51,6 @@ ALWAYS_LAYERS = ("max_depth", "margin_db")
 #: Further per-antenna layers that may be asked for (``sigma`` is per cell only).
 OPTIONAL_LAYERS = ("velocity", "attenuation_db_per_m", "eps_real", "eps_imag", "sigma", "vertical_resolution")
 
-#: ``recommended_antenna`` where a cell has no soil data
-REC_FILL = np.int16(-32768)
 #: ``soil_default_used`` where a cell has no moisture (no soil data)
 DEFAULT_USED_FILL = np.int8(-1)
 
@@ -103,7 +102,8 @@ def _fill_block(values: dict, fill: dict):
     return out, np.where(known, used, np.int8(DEFAULT_USED_FILL)).astype(np.int8)
 
 
-def _chain_block(*arrays, names, antennas, target, target_depth_m, texture, model, layers, source, fill=None):
+def _chain_block(*arrays, names, antennas, target, target_depth_m, texture, model, layers, source, reaches_db,
+                 fill=None):
     """The feasibility chain on one tile; outputs with the antenna axis last (apply_ufunc's core dim)."""
     from .feasibility import evaluate, recommend_antenna
 
@@ -113,17 +113,22 @@ def _chain_block(*arrays, names, antennas, target, target_depth_m, texture, mode
     if fill:
         values, used = _fill_block(values, fill)
     res = evaluate(values, antennas, target=target, target_depth_m=target_depth_m, texture=texture, model=model)
-    rec = recommend_antenna(res["margin_db"], [a.centre_freq_hz for a in antennas], too_shallow=res.get("too_shallow"))
-    rec = np.where(np.isfinite(res["margin_db"][0]), rec, REC_FILL).astype(np.int16)
+    shallow = np.asarray(res["too_shallow"], bool)
+    rec = recommend_antenna(res["margin_db"], [a.centre_freq_hz for a in antennas], too_shallow=shallow,
+                            reaches_db=reaches_db)
+    valid = np.isfinite(res["margin_db"][0])
+    rec = np.where(valid, rec, REC_FILL).astype(np.int16)
     outs = []
     for name in layers:
         v = res[name]
         outs.append(v[0] if name == "sigma" else np.moveaxis(v, 0, -1))
+    outs.append(np.moveaxis(np.where(valid, shallow, SHALLOW_FILL).astype(np.int8), 0, -1))
     return (*outs, rec) if used is None else (*outs, rec, used)
 
 
 def feasibility_region(soil, antennas, *, target, target_depth_m: float, texture: str | None = None,
-                       model: str = "crim", layers=("velocity", "attenuation_db_per_m"), fill_gaps: dict | None = None):
+                       model: str = "crim", layers=("velocity", "attenuation_db_per_m"), fill_gaps: dict | None = None,
+                       reaches_db: float | None = None):
     """The feasibility chain over a (dask-backed) soil Dataset, lazily.
 
     Parameters
@@ -144,20 +149,26 @@ def feasibility_region(soil, antennas, *, target, target_depth_m: float, texture
         quantity is missing but moisture is known; without it such cells have no data.
         With it the output has a ``soil_default_used`` layer (CF flag_masks, one bit per
         quantity; -1 where there is no moisture).
+    reaches_db : float, optional
+        The reach threshold (default :data:`subsurf.detection.verdicts.REACHES_MARGIN_DB`).
 
     Returns
     -------
     xarray.Dataset
         ``max_depth``, ``margin_db`` and the requested layers with dims (antenna, y, x)
-        (``sigma``: (y, x)), ``recommended_antenna`` (y, x; index into ``antenna``, −1
+        (``sigma``: (y, x)), ``too_shallow`` (antenna, y, x; 1 where the target lies in the
+        antenna's blind zone, −1 without soil data), ``recommended_antenna`` (y, x; index into ``antenna``, −1
         where no antenna reaches the target, fill value where there is no soil data),
         CF attributes and the grid mapping.  Values are exactly those of
         :func:`subsurf.feasibility.evaluate` on the same cells.
     """
     import xarray as xr
 
+    from ..detection.verdicts import REACHES_MARGIN_DB, reach_definition
     from .feasibility import LAYER_ATTRS
     from .survey import QUANTITIES
+
+    reaches_db = REACHES_MARGIN_DB if reaches_db is None else float(reaches_db)
 
     layers = list(ALWAYS_LAYERS) + [name for name in layers if name not in ALWAYS_LAYERS]
     bad = [name for name in layers if name not in ALWAYS_LAYERS + OPTIONAL_LAYERS]
@@ -171,13 +182,14 @@ def feasibility_region(soil, antennas, *, target, target_depth_m: float, texture
     chain_ants = chain_antennas(antennas, band_resolution="vertical_resolution" in layers)
     n_ant = len(chain_ants)
     fill = {q: float(v) for q, v in (fill_gaps or {}).items() if q in names and q != "moisture"}
-    core = [[] if name == "sigma" else ["antenna"] for name in layers] + [[]] + ([[]] if fill else [])
-    dtypes = [float] * len(layers) + [np.int16] + ([np.int8] if fill else [])
+    core = [[] if name == "sigma" else ["antenna"] for name in layers] + [["antenna"], []] + ([[]] if fill else [])
+    dtypes = [float] * len(layers) + [np.int8, np.int16] + ([np.int8] if fill else [])
     results = xr.apply_ufunc(
         _chain_block, *(soil[q] for q in names),
         kwargs={"names": names, "antennas": chain_ants, "target": target, "target_depth_m": float(target_depth_m),
                 "texture": texture, "model": model, "layers": layers,
-                "source": str(soil.attrs.get("source", "soil raster")), "fill": fill},
+                "source": str(soil.attrs.get("source", "soil raster")), "fill": fill,
+                "reaches_db": reaches_db},
         output_core_dims=core, dask="parallelized", output_dtypes=dtypes, keep_attrs=False,
         dask_gufunc_kwargs={"output_sizes": {"antenna": n_ant}},
     )
@@ -194,18 +206,22 @@ def feasibility_region(soil, antennas, *, target, target_depth_m: float, texture
                        "every quantity",
         })
         out["soil_default_used"].encoding["_FillValue"] = DEFAULT_USED_FILL
-    for name, da in zip(layers, results[:-1]):
+    for name, da in zip(layers, results[:-2]):
         if "antenna" in da.dims:
             da = da.transpose("antenna", "y", "x")
         out[name] = da.assign_attrs({**LAYER_ATTRS[name], "grid_mapping": "crs"})
+    out["too_shallow"] = results[-2].transpose("antenna", "y", "x").assign_attrs({
+        "long_name": "target inside the antenna's blind zone (its echo arrives within the direct wave; not "
+                     "reached whatever the margin)", "flag_values": np.array([0, 1], np.int8),
+        "flag_meanings": "below_blind_zone in_blind_zone", "grid_mapping": "crs"})
     rec = results[-1]
     out["recommended_antenna"] = rec.assign_attrs({
         "long_name": "recommended antenna (index into the antenna coordinate)",
         "flag_values": np.arange(-1, n_ant, dtype=np.int16),
         "flag_meanings": " ".join(["none_reaches"] + [a.name.replace(" ", "_") for a in chain_ants]),
         "grid_mapping": "crs",
-        "comment": "highest centre frequency with a margin of at least the headroom; else the largest "
-                   "non-negative margin; -1 where every margin is negative",
+        "comment": f"highest centre frequency with a margin of at least {reaches_db:g} dB below its blind zone; "
+                   "else the largest non-negative margin; -1 where every margin is negative",
     })
     out = out.assign_coords(
         antenna=("antenna", [a.name for a in chain_ants], {"long_name": "antenna name"}),
@@ -220,7 +236,8 @@ def feasibility_region(soil, antennas, *, target, target_depth_m: float, texture
     if "crs" in soil:
         out["crs"] = soil["crs"]
     out.attrs = {"target_kind": target.kind, "target_depth_m": float(target_depth_m),
-                 "target_material": target.material or "", "soil_model": model, "texture": texture or ""}
+                 "target_material": target.material or "", "soil_model": model, "texture": texture or "",
+                 "reaches_margin_db": reaches_db, "reach_definition": reach_definition(reaches_db)}
     return out
 
 
@@ -289,61 +306,3 @@ def scheduler(address: str | None = None, *, workers: int | None = None):
     with client:
         slots = sum(client.nthreads().values()) or 1
         yield {"scheduler": f"dask.distributed at {address} ({slots} threads)", "slots": slots, "client": client}
-
-
-# --- whole-region statistics --------------------------------------------------------------------------------
-
-@dataclass
-class RegionSummary:
-    """Whole-region statistics accumulated tile by tile (:meth:`add`) while the map is written.
-
-    ``reach`` counts cells with margin ≥ 0 dB, ``reach_with_headroom`` cells with margin
-    ≥ the reach threshold (:data:`subsurf.detection.verdicts.REACHES_MARGIN_DB`).
-    """
-
-    antennas: list
-    cells: int = 0
-    cells_with_data: int = 0
-    reach: np.ndarray = field(default=None)
-    reach_with_headroom: np.ndarray = field(default=None)
-    depth_sum: np.ndarray = field(default=None)
-    recommended: np.ndarray = field(default=None)  # counts: index 0 = none reaches, i+1 = antenna i
-    tiles: int = 0
-    filled_names: list = field(default_factory=list)  # quantities of the soil_default_used bits
-    filled: np.ndarray = field(default=None)  # cells where each was filled with its default
-
-    def __post_init__(self):
-        n = len(self.antennas)
-        self.reach = np.zeros(n, np.int64)
-        self.reach_with_headroom = np.zeros(n, np.int64)
-        self.depth_sum = np.zeros(n)
-        self.recommended = np.zeros(n + 1, np.int64)
-        self.filled = np.zeros(len(self.filled_names), np.int64)
-
-    def add(self, max_depth, margin, rec, *, reaches_db: float, used=None):
-        valid = rec != REC_FILL
-        self.cells += rec.size
-        self.cells_with_data += int(valid.sum())
-        self.reach += np.count_nonzero((margin >= 0) & valid, axis=(1, 2))
-        self.reach_with_headroom += np.count_nonzero((margin >= reaches_db) & valid, axis=(1, 2))
-        self.depth_sum += np.where(valid, max_depth, 0.0).sum(axis=(1, 2))
-        self.recommended += np.bincount(rec[valid].astype(np.int64) + 1, minlength=self.recommended.size)
-        if used is not None:
-            u = np.asarray(used)
-            u = u[u >= 0]
-            for k in range(len(self.filled_names)):
-                self.filled[k] += np.count_nonzero(u & (1 << k))
-        self.tiles += 1
-
-    def filled_fractions(self) -> dict:
-        """Fraction of the cells with soil data where each quantity was filled with its default."""
-        n = max(self.cells_with_data, 1)
-        return {q: self.filled[k] / n for k, q in enumerate(self.filled_names)}
-
-    def rows(self) -> list[dict]:
-        n = max(self.cells_with_data, 1)
-        return [{"antenna": a, "reach_fraction": self.reach[i] / n,
-                 "reach_with_headroom_fraction": self.reach_with_headroom[i] / n,
-                 "mean_max_depth_m": self.depth_sum[i] / n if self.cells_with_data else float("nan"),
-                 "recommended_fraction": self.recommended[i + 1] / n}
-                for i, a in enumerate(self.antennas)]

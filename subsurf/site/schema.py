@@ -20,6 +20,7 @@ from typing import Annotated, Literal
 from pydantic import BeforeValidator, Field, create_model, field_validator, model_validator
 
 from .._schema import Strict, json_schema, quantity_type
+from ..detection.verdicts import REACH_MARGIN_RANGE_DB, REACHES_MARGIN_DB
 from ..planning.catalogue import AntennaEntry, check_names
 
 __all__ = ["Quantity", "QUANTITIES", "SD_SUFFIX", "TARGET_KINDS", "SurveyFile", "survey_json_schema",
@@ -230,6 +231,10 @@ class Target(Strict):
     size: Length("diameter of a point or line target (default 0.1 m; planar: 1 m)") | None = None  # type: ignore
     material: str = Field(min_length=1, description="a key of configs/materials.toml or an alias "
                           "(metal, pvc, air, void, water, steel ...)")
+    reach_margin: quantity_type(  # type: ignore[valid-type]
+        "decibel", "dB", low=REACH_MARGIN_RANGE_DB[0], high=REACH_MARGIN_RANGE_DB[1],
+        description=f"margin the target needs to count as reached, e.g. '10 dB' (default "
+                    f"{REACHES_MARGIN_DB:g} dB; the commands' --reach-margin overrides it)") | None = None
 
 
 def _names_list(value):

@@ -23,6 +23,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 from .._schema import fail, key_path, validate_file
+from ..detection.verdicts import REACHES_MARGIN_DB
 from ..errors import FileInputError, InputError
 from ..ground.presets import texture_preset
 from .crs import auto_utm_crs, read_crs
@@ -100,6 +101,8 @@ class Survey:
     interpolation: str = "auto"  # samples to grid: "auto", "kriging" or "spline"
     variogram: str = "exponential"  # variogram model family for kriging
     calibration_path: Path | None = None  # [calibration] file: a site calibration (subsurf calibrate)
+    reach_margin_db: float = REACHES_MARGIN_DB  # the reach threshold: [target] reach_margin or --reach-margin
+    reach_margin_source: str = "default"  # where it came from: "default", "[target] reach_margin" or "--reach-margin"
 
     def antenna_list(self) -> list:
         """The antennas to map (catalogue entries, in the order of ``antennas``)."""
@@ -211,7 +214,7 @@ def _catalogue(spec, *, path, override=None):
     return choice, names
 
 
-def load_survey(path, *, catalogue=None) -> Survey:
+def load_survey(path, *, catalogue=None, reach_margin_db=None) -> Survey:
     """Read and validate a survey file and every input it names.
 
     Parameters
@@ -296,4 +299,8 @@ def load_survey(path, *, catalogue=None) -> Survey:
                   draws=spec.monte_carlo.draws, seed=spec.monte_carlo.seed, max_cells=spec.grid.max_cells,
                   catalogue_path=None if choice.source == "bundled" else choice.file, catalogue=choice,
                   interpolation=soil.interpolation, variogram=soil.variogram,
-                  calibration_path=calibration_path)
+                  calibration_path=calibration_path,
+                  reach_margin_db=(reach_margin_db if reach_margin_db is not None else
+                                   t.reach_margin if t.reach_margin is not None else REACHES_MARGIN_DB),
+                  reach_margin_source=("--reach-margin" if reach_margin_db is not None else
+                                       "[target] reach_margin" if t.reach_margin is not None else "default"))

@@ -99,6 +99,9 @@ def make_workspace(ws: Path) -> None:
                                + "stack = 2\n"),
         "inlinedup": _variant(survey, 'names = ["lowband-100", "midband-250", "midband-500", "highband-1000"]',
                               'names = ["midband-250"]\n[antennas.define.midband-250]\n' + _RIG),
+        "reachneg": _variant(survey, 'material = "metal"', 'material = "metal"\nreach_margin = "-2 dB"'),
+        "reach50": _variant(survey, 'material = "metal"', 'material = "metal"\nreach_margin = 50'),
+        "reachtypo": _variant(survey, 'material = "metal"', 'material = "metal"\nreach_margin_db = 10'),
     }
     variants["calmissing"] = survey + '\n[calibration]\nfile = "nowhere_cal.json"\n'
     variants["calfreq"] = survey + '\n[calibration]\nfile = "../cal_freq.json"\n'

@@ -136,7 +136,7 @@ def test_every_output_states_the_same_threshold(uniform):
     """`choose`, `map` and the report name one reach threshold, 6 dB, and the same definition."""
     chosen, mapped, report = uniform
     assert chosen["thresholds"]["reaches_margin_db"] == mapped["thresholds"]["reaches_margin_db"] == 6.0
-    assert report["decision"]["reaches_margin_db"] == 6.0
+    assert report["decision"]["reaches_margin_db"] == report["thresholds"]["reaches_margin_db"] == 6.0
     assert chosen["reach_definition"] == mapped["reach_definition"]
 
 
@@ -163,3 +163,19 @@ def test_two_zone_report_follows_the_map_not_the_median_soil(two_zones):
     median = report["site_median_recommendation"]["antenna"]
     assert median != report["recommended"]  # the median soil recommends an antenna that misses two thirds
     assert next(r["reach_pct"] for r in mapped["summary"] if r["antenna"] == median) < 100.0
+
+
+def test_two_zone_report_zone_table_is_choose_per_zone(two_zones):
+    """Two uniform zones: the report's zone table gives each zone the hand-counted share of the site (8 and 16 of
+    24 cells), `choose`'s recommendation for that zone's soil, and 100 %/0 % reached exactly where `choose` says
+    'reaches' / not."""
+    chosen, _, report = two_zones
+    zones = {z["zone"]: z for z in report["zones"]}
+    assert set(zones) == {"dry sand", "damp sand"}  # every cell lies in a zone: no 'rest of the site' row
+    for name, key, share in (("dry sand", "dry", DRY_SHARE), ("damp sand", "damp", DAMP_SHARE)):
+        z, c = zones[name], chosen[key]
+        assert z["area_pct"] == pytest.approx(100 * share, abs=1e-9)
+        assert z["recommended"] == c["recommendation"]["antenna"] and z["also"] == {}
+        verdicts = {r["antenna"]: r["verdict"] for r in c["rows"]}
+        for a in z["antennas"]:
+            assert a["worst_reach_pct"] == (100.0 if verdicts[a["antenna"]] == "reaches" else 0.0), (name, a)

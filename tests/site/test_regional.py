@@ -98,12 +98,13 @@ def test_summary_matches_area_fractions_of_the_in_memory_map(soil_numpy, antenna
     """Reach fractions accumulated per tile equal feasibility.area_fractions over the whole map."""
     ref = _in_memory(soil_numpy, antennas, target)
     mask = np.isfinite(soil_numpy["moisture"].values)
-    expect = feasibility.area_fractions(ref["margin_db"], mask)
+    expect = feasibility.area_fractions(ref["margin_db"], mask, too_shallow=ref["too_shallow"])
     lazy = scale.feasibility_region(soil_numpy.chunk({"y": 16, "x": 16}), antennas, target=target,
                                     target_depth_m=DEPTH, texture="loam")
     summary = write_region(lazy, tmp_path / "m.nc")
     rows = summary.rows()
-    # the region's reach_with_headroom is the one "reaches" (margin >= 6 dB); its reach_fraction counts margin >= 0
+    # the region's reach_with_headroom is the one "reaches" (margin >= 6 dB below the blind zone); its
+    # reach_fraction counts margin >= 0 below the blind zone
     np.testing.assert_allclose([r["reach_fraction"] for r in rows], expect["marginal_or_better"], rtol=1e-12)
     np.testing.assert_allclose([r["reach_with_headroom_fraction"] for r in rows], expect["reach"], rtol=1e-12)
     assert summary.cells_with_data == int(mask.sum())

@@ -6,13 +6,15 @@ __all__ = ["make_report"]
 
 
 def make_report(survey_path, out_path, *, force: bool = False, quiet: bool = False, maps: bool = True,
-                maps_out=None, map_result: dict | None = None, tables_dir=None, calibration=None, catalogue=None) -> dict:
+                maps_out=None, map_result: dict | None = None, tables_dir=None, calibration=None, catalogue=None,
+                reach_margin_db=None) -> dict:
     """Run the maps (unless given or skipped) and write the report; return the summary.
 
     Existing outputs are checked before any work starts.  ``calibration``: a site
     calibration file used instead of the survey's ``[calibration] file`` (maps and page).
     ``catalogue``: an antenna catalogue file replacing the survey's (``--catalogue``), maps and
-    page alike.  Map files go to ``maps_out`` when given (kept), else to a temporary folder that is removed afterwards.
+    page alike.  ``reach_margin_db``: the reach threshold replacing the survey's ``[target] reach_margin``
+    (``--reach-margin``), maps and page alike.  Map files go to ``maps_out`` when given (kept), else to a temporary folder that is removed afterwards.
 
     Returns
     -------
@@ -43,13 +45,15 @@ def make_report(survey_path, out_path, *, force: bool = False, quiet: bool = Fal
                 folder = maps_out if tmp is None else tmp.name
                 # GeoTIFF layers only when the map files are kept (they are not embedded)
                 map_result = {**run_map(survey_path, folder, force=force or tmp is not None, quiet=True,
-                                        geotiff=tmp is None, calibration=calibration, catalogue=catalogue),
+                                        geotiff=tmp is None, calibration=calibration, catalogue=catalogue,
+                                        reach_margin_db=reach_margin_db),
                               "kept": tmp is None, "out_dir": str(folder)}
                 bar.advance("site and soil")
             else:
                 bar.start("site and soil")
             return write_report(survey_path, out_path, force=force, map_result=map_result, bar=bar,
-                                tables_dir=tables_dir, calibration=calibration, catalogue=catalogue)
+                                tables_dir=tables_dir, calibration=calibration, catalogue=catalogue,
+                                reach_margin_db=reach_margin_db)
         finally:
             if tmp is not None:
                 tmp.cleanup()

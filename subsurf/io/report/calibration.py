@@ -79,7 +79,7 @@ def calibrated_plan(path, survey, site, antennas, target, *, model_rows, from_fl
     gcal, used = load_grid_calibration(path, survey, antennas, field_name=None if from_flag else "[calibration] file")
     rec = gcal.record
     ground = gcal.ground
-    rows = rank_antennas(ground.electrical, used, target)
+    rows = rank_antennas(ground.electrical, used, target, reaches_db=survey.reach_margin_db)
 
     name = rec["antenna"]["name"]
     ant = (survey.catalogue.antennas if survey.catalogue is not None else load_catalogue(survey.catalogue_path))[name]
@@ -129,7 +129,7 @@ def calibrated_plan(path, survey, site, antennas, target, *, model_rows, from_fl
                 "max_depth_after_m": r["max_depth_m"], "margin_before_db": before[r["name"]]["margin_db"],
                 "margin_after_db": r["margin_db"], "verdict_before": before[r["name"]]["verdict"],
                 "verdict_after": r["verdict"]} for r in rows]
-    rec_before, _ = recommend(model_rows)
+    rec_before, _ = recommend(model_rows, reaches_db=survey.reach_margin_db)
     return {"ground": ground, "antennas": used, "rows": rows, "comparison": comparison, "changes": changes,
             "recommended_before": rec_before, "note": gcal.note(), "file": str(gcal.path), "antenna": name,
             "describe": gcal.describe(), "model_draws": int(a_draw.size), "seed": survey.seed}

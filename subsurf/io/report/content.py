@@ -133,7 +133,7 @@ def _nice_step(x: float) -> float:
     return 10.0 * mag  # pragma: no cover
 
 
-def _acquisition(antenna, site: SiteSoil, target, *, area_m2: float | None, ground=None) -> dict:
+def _acquisition(antenna, site: SiteSoil, target, *, area_m2: float | None, ground=None, reaches_db=None) -> dict:
     """Acquisition settings for ``antenna`` at the target depth, from ``subsurf setup``'s computation
     (in the calibrated ``ground`` when given, as ``setup --calibration``)."""
     from ...ground.medium import Medium
@@ -144,7 +144,7 @@ def _acquisition(antenna, site: SiteSoil, target, *, area_m2: float | None, grou
     # the report is the site's planning document: the survey time of every grid (2D lines, 3D common
     # practice, 3D λ/4 limit), with the notes that go with each
     result = acquisition_for_antenna(medium, antenna, target=target, depth_m=target.depth_m, area_m2=area_m2,
-                                     grids=ALL_GRIDS)
+                                     grids=ALL_GRIDS, reaches_db=reaches_db)
     rows = []
     for key, label, unit, fmt, _ in ROWS_SPEC:
         value = result["settings"].get(key)
@@ -170,7 +170,8 @@ def _site_area_m2(survey) -> float:
     return float(project(survey.outline).area)
 
 
-def collect(survey_path, *, map_result: dict | None = None, bar=None, calibration=None, catalogue=None) -> dict:
+def collect(survey_path, *, map_result: dict | None = None, bar=None, calibration=None, catalogue=None,
+            reach_margin_db=None) -> dict:
     """Gather everything the report shows, as a dictionary (SI units).
 
     Parameters
@@ -188,6 +189,9 @@ def collect(survey_path, *, map_result: dict | None = None, bar=None, calibratio
         (:mod:`.calibration`), with the model's predictions beside the observations.
     catalogue : str or Path, optional
         Antenna catalogue replacing the survey's (``--catalogue``).
+    reach_margin_db : float, optional
+        Reach threshold (dB) replacing the survey's ``[target] reach_margin`` (``--reach-margin``);
+        the maps in ``map_result`` must have been computed with the same one.
     """
     from ...detection.budget import max_depth
     from ...planning.antennas import make_target, rank_antennas, recommend
@@ -200,7 +204,8 @@ def collect(survey_path, *, map_result: dict | None = None, bar=None, calibratio
             bar.advance(label)
 
     with collect_warnings() as notes:
-        survey = load_survey(survey_path, catalogue=catalogue)
+        survey = load_survey(survey_path, catalogue=catalogue, reach_margin_db=reach_margin_db)
+        reaches_db = survey.reach_margin_db
         site = site_soil(survey)
         step("ground properties")
         ground = _ground_over_frequency(site.soil, REPORT_FREQS_HZ)
@@ -209,7 +214,7 @@ def collect(survey_path, *, map_result: dict | None = None, bar=None, calibratio
         t = survey.target
         target = make_target(t.kind, depth_m=t.depth_m, size_m=None if t.kind == "planar" else t.size_m,
                              material=t.material)
-        rows = rank_antennas(site.soil.electrical, antennas, target)
+        rows = rank_antennas(site.soil.electrical, antennas, target, reaches_db=reaches_db)
         electrical, cal = site.soil.electrical, None
         if calibration is not None or survey.calibration_path is not None:
             from .calibration import calibrated_plan
@@ -217,8 +222,8 @@ def collect(survey_path, *, map_result: dict | None = None, bar=None, calibratio
             cal = calibrated_plan(calibration if calibration is not None else survey.calibration_path, survey, site,
                                   antennas, target, model_rows=rows, from_flag=calibration is not None)
             rows, antennas, electrical = cal["rows"], cal["antennas"], cal["ground"].electrical
-        median_name, median_reason = recommend(rows)
-        decision = map_decision(map_result, [s.name for s in survey.scenarios])
+        median_name, median_reason = recommend(rows, reaches_db=reaches_db)
+        decision = map_decision(map_result, [s.name for s in survey.scenarios], reaches_db=reaches_db)
         if decision is not None:  # the headline from the maps' area statistics, every scenario
             rec_name, reason = decision.bring, decision.headline
         else:
@@ -239,7 +244,7 @@ def collect(survey_path, *, map_result: dict | None = None, bar=None, calibratio
         rec_ant = next((a for a in antennas if a.name == rec_name), None)
         chart_ant = rec_ant or max(antennas, key=lambda a: next(r["margin_db"] for r in rows if r["name"] == a.name))
         acq = _acquisition(chart_ant, site, target, area_m2=_site_area_m2(survey),
-                           ground=None if cal is None else cal["ground"])
+                           ground=None if cal is None else cal["ground"], reaches_db=reaches_db)
         step("depth chart")
         window_s = acq["window_s"]
         measured = None if cal is None else (cal["ground"].velocity, cal["describe"]["velocity_se_m_per_ns"] * 1e9)
@@ -261,6 +266,9 @@ def collect(survey_path, *, map_result: dict | None = None, bar=None, calibratio
         "recommended": rec_name,
         "reason": reason,
         "decision": decision,
+        "zones": list((map_result or {}).get("zones") or []) if decision is not None else [],
+        "reaches_margin_db": reaches_db,
+        "reaches_margin_source": survey.reach_margin_source,
         "site_median_recommendation": {"antenna": median_name, "reason": median_reason},
         "chart_antenna": chart_ant.name,
         "antennas_illustrative": any(a.illustrative for a in antennas),
@@ -274,13 +282,18 @@ def collect(survey_path, *, map_result: dict | None = None, bar=None, calibratio
     }
 
 
-def map_decision(map_result: dict | None, scenarios: list[str]):
+def map_decision(map_result: dict | None, scenarios: list[str], *, reaches_db: float):
     """The :class:`subsurf.site.decision.Decision` from the map's summary rows (None without maps)."""
     if not map_result or not map_result.get("summary"):
         return None
+    from ...errors import SubsurfError
     from ...site.decision import decide
 
-    return decide(list(map_result["summary"]), scenarios=scenarios)
+    mapped = (map_result.get("thresholds") or {}).get("reaches_margin_db", reaches_db)
+    if mapped != reaches_db:  # a programming error, not the user's: the maps and the page must agree
+        raise SubsurfError(f"the maps were computed with a reach threshold of {mapped:g} dB, the report with "
+                           f"{reaches_db:g} dB")
+    return decide(list(map_result["summary"]), scenarios=scenarios, reaches_db=reaches_db)
 
 
 def maps_section(map_result: dict | None) -> dict | None:

@@ -50,7 +50,6 @@ def environment():
 def render_html(data: dict) -> str:
     """The complete, self-contained HTML page for the content of :func:`.content.collect`."""
     from ... import __version__
-    from ...detection.verdicts import REACHES_MARGIN_DB
 
     titles = dict(SECTIONS)
     sections = [(sid, titles[sid], ctx) for sid, build in SECTION_BUILDERS.items() if (ctx := build(data)) is not None]
@@ -58,11 +57,12 @@ def render_html(data: dict) -> str:
         title=data["title"], generated=data["generated"], version=__version__,
         survey_file=Path(data["survey"]["survey"]).name, sections=sections,
         toc=[(sid, h) for sid, h, _ in sections[1:]],
-        reaches_db=f"{REACHES_MARGIN_DB:g}")
+        reaches_db=f"{data['reaches_margin_db']:g}")
 
 
 def summary_payload(data: dict, report_path) -> dict:
     """The JSON-able summary printed by the commands (no arrays, no images)."""
+    from ...detection.verdicts import reach_definition
     from ...safety import CAUTION
 
     rows = [{"antenna": r["name"], "centre_frequency_mhz": r["centre_freq_hz"] / 1e6,
@@ -77,7 +77,11 @@ def summary_payload(data: dict, report_path) -> dict:
         "catalogue": data["survey"]["catalogue"],
         "recommended": data["recommended"],
         "reason": data["reason"],
+        "thresholds": {"reaches_margin_db": data["reaches_margin_db"], "marginal_margin_db": 0.0,
+                       "reaches_margin_source": data["reaches_margin_source"]},
+        "reach_definition": reach_definition(data["reaches_margin_db"]),
         "decision": data["decision"].as_dict() if data.get("decision") is not None else None,
+        "zones": data["zones"],
         "site_median_recommendation": data.get("site_median_recommendation"),
         "ranking": rows,
         "velocity_m_per_ns": c["velocity"] * 1e-9,
@@ -151,7 +155,7 @@ def table_file_names() -> list[str]:
 
 
 def write_report(survey_path, out_path, *, force: bool = False, map_result: dict | None = None,
-                 bar=None, tables_dir=None, calibration=None, catalogue=None) -> dict:
+                 bar=None, tables_dir=None, calibration=None, catalogue=None, reach_margin_db=None) -> dict:
     """Build the report for ``survey_path`` and write it atomically to ``out_path``.
 
     Returns the summary of :func:`summary_payload` (with ``tables``: the CSV files
@@ -165,7 +169,7 @@ def write_report(survey_path, out_path, *, force: bool = False, map_result: dict
     names = table_file_names()
     check_outputs_free([out_path] + ([Path(tables_dir) / n for n in names] if tables_dir else []), force=force)
     data = collect(survey_path, map_result=map_result, bar=bar, calibration=calibration,
-                   catalogue=catalogue)
+                   catalogue=catalogue, reach_margin_db=reach_margin_db)
     page = render_html(data)
     if bar is not None:
         bar.advance("writing")

@@ -15,17 +15,16 @@ from pathlib import Path
 
 import numpy as np
 
-from ...detection.verdicts import REACHES_MARGIN_DB
 from .content import REPORT_FREQS_HZ, ground_table, site_geometry
 from .texts import (
     ASSUMPTIONS,
     HUMAN,
-    MAP_COLUMNS,
     MODEL_VALIDITY,
     REFERENCES,
     REFERENCES_SKIPPED,
     SAFETY,
     SPREAD_NAMES,
+    map_columns,
 )
 
 __all__ = ["Table", "Figure", "Verdict", "fmt", "SECTION_BUILDERS"]
@@ -81,7 +80,8 @@ def summary(data) -> dict:
     decision = data.get("decision")
     cards = []
     if decision is not None:
-        cards += _decision_cards(decision, rows, (data.get("maps") or {}).get("summary", []))
+        cards += _decision_cards(decision, rows, (data.get("maps") or {}).get("summary", []),
+                                 data["reaches_margin_db"])
     else:
         rec_row = next((r for r in rows if r["name"] == rec), None)
         if rec_row:
@@ -112,7 +112,7 @@ def summary(data) -> dict:
             "target_text": f"{t['kind']} target of {t['material'].replace('_', ' ')}{size}, top at {t['depth_m']:.2f} m",
             "reason": data["reason"], "across": across, "caution": " ".join(data["caution"]),
             "calibrated": (data.get("calibration") or {}).get("note", ""),
-            "from_maps": decision is not None, "reaches_db": f"{REACHES_MARGIN_DB:g}",
+            "from_maps": decision is not None, "reaches_db": f"{data['reaches_margin_db']:g}",
             "illustrative": bool(data.get("antennas_illustrative"))}
 
 
@@ -152,17 +152,17 @@ def calibration(data) -> dict | None:
             "recommendation": verdict, "draws": cal["model_draws"], "seed": cal["seed"]}
 
 
-def _decision_cards(decision, rows, map_rows) -> list:
+def _decision_cards(decision, rows, map_rows, reaches_db) -> list:
     """The headline cards from the maps' decision: what to bring, its worst-scenario area, antennas reaching."""
     freq = {r["name"]: r["centre_freq_hz"] for r in rows}
     if decision.bring is None:
-        return [("bring", "none", f"no antenna reaches the target with {REACHES_MARGIN_DB:g} dB anywhere", True)]
+        return [("bring", "none", f"no antenna reaches the target with {reaches_db:g} dB anywhere", True)]
     also = "; ".join(f"{s}: also {a}" for s, a in decision.also.items())
     cards = [("bring", decision.bring, f"{freq.get(decision.bring, 0) / 1e6:.0f} MHz" + (f" · {also}" if also else ""),
               False)]
     w = next(r for r in map_rows if r["scenario"] == decision.worst_scenario and r["antenna"] == decision.bring)
     cards.append((f"area reached, worst scenario ({decision.worst_scenario})", f"{w['reach_pct']:.0f} %",
-                  f"{decision.bring}, margin ≥ {REACHES_MARGIN_DB:g} dB · mean probability {w['expected_reach_pct']:.0f} %",
+                  f"{decision.bring}, margin ≥ {reaches_db:g} dB · mean probability {w['expected_reach_pct']:.0f} %",
                   w["reach_pct"] < 99.5))
     whole = [a for a in dict.fromkeys(r["antenna"] for r in map_rows)
              if all(r["reach_pct"] >= 100.0 - 1e-9 for r in map_rows if r["antenna"] == a)]
@@ -251,11 +251,40 @@ def antennas(data) -> dict:
     decision = data.get("decision")
     if decision is not None:  # the choice per scenario, from the maps' area statistics
         out["decision"] = Table(
-            ["scenario", "antenna chosen", f"area reached, margin ≥ {REACHES_MARGIN_DB:g} dB (%)",
+            ["scenario", "antenna chosen", f"area reached, margin ≥ {data['reaches_margin_db']:g} dB (%)",
              "mean probability of reaching (%)", "why"],
             [[c.scenario, c.antenna or "none", fmt(c.reach_pct, ".0f"), fmt(c.expected_reach_pct, ".0f"), c.reason]
              for c in decision.per_scenario], numeric=(2, 3))
+    out["zones"] = zone_table(data)
     return out
+
+
+def zone_table(data) -> Table | None:
+    """One row per soil zone: its soil, area share, the antenna for it and the share of its cells each reaches.
+
+    From the maps' per-zone statistics (:func:`subsurf.site.zone_stats.zone_summaries`: the site's
+    area fractions and decision rule restricted to the zone's cells); None without zones or maps.
+    """
+    zones = data.get("zones") or []
+    if not zones:
+        return None
+    t = f"{data['reaches_margin_db']:g}"
+    names = next(([a["antenna"] for a in z["antennas"]] for z in zones if z["antennas"]), [])
+    headers = ["zone", "texture", "moisture θ (%)", "pore-water EC (mS/m)", "area (% of site)", "antenna for the zone",
+               f"its cells reached, margin ≥ {t} dB, worst scenario (%)", "worst scenario",
+               *[f"{n}: cells reached, worst scenario (%)" for n in names]]
+    rows = []
+    for z in zones:
+        worst = {a["antenna"]: a["worst_reach_pct"] for a in z["antennas"]}
+        rec = z["recommended"] or "none"
+        if z["also"]:
+            rec += "; " + "; ".join(f"{s}: also {a}" for s, a in z["also"].items())
+        rows.append([z["zone"], (z["texture"] or "–").replace("_", " "), fmt(z["moisture_pct"], ".3g"),
+                     fmt(z["pore_water_ec_ms_per_m"], ".3g"), fmt(z["area_pct"], ".0f"), rec,
+                     fmt(z["recommended_reach_pct"], ".0f"), z["worst_scenario"] or "–",
+                     *[fmt(worst.get(n), ".0f") for n in names]])
+    numeric = (2, 3, 4, 6, *range(8, 8 + len(names)))
+    return Table(headers, rows, numeric=numeric)
 
 
 def settings(data) -> dict:
@@ -304,8 +333,9 @@ def maps(data) -> dict:
            "figures": [Figure(f["png"], f["caption"], f["caption"]) for f in m["figures"]],
            "files": _describe_files(m["files"]) if m["files"] else ""}
     if m["summary"]:
-        rows = [[fmt(r.get(k), f) if f != "s" else str(r.get(k, "")) for k, _, f in MAP_COLUMNS] for r in m["summary"]]
-        out["table"] = Table([h for _, h, _ in MAP_COLUMNS], rows, numeric=tuple(range(2, len(MAP_COLUMNS))))
+        cols = map_columns(data["reaches_margin_db"])
+        rows = [[fmt(r.get(k), f) if f != "s" else str(r.get(k, "")) for k, _, f in cols] for r in m["summary"]]
+        out["table"] = Table([h for _, h, _ in cols], rows, numeric=tuple(range(2, len(cols))))
         mc = out["monte_carlo"]
         err = mc.get("max_estimated_error", mc.get("max_standard_error", 0.0))
         out["mc_error"] = f"{err:.3f}" if mc else ""

@@ -6,8 +6,6 @@ them out, so the wording can be reviewed in one place.
 
 from __future__ import annotations
 
-from ...detection.verdicts import REACHES_MARGIN_DB
-
 #: survey quantity -> (label, unit shown, factor from SI, format)
 HUMAN = {
     "moisture": ("volumetric water content θ", "%", 100.0, ".3g"),
@@ -83,14 +81,16 @@ MAP_CAPTIONS = {
     "png_inputs": "The soil inputs on the survey grid, with the sample positions.",
 }
 
-#: map summary columns shown in the scenario comparison: key, header, format
-MAP_COLUMNS = (
-    ("scenario", "scenario", "s"), ("antenna", "antenna", "s"),
-    ("reach_pct", f"area reached, margin ≥ {REACHES_MARGIN_DB:g} dB (%)", ".0f"),
-    ("marginal_or_better_pct", "area with margin ≥ 0 dB (%)", ".0f"),
-    ("expected_reach_pct", f"mean probability of reaching (margin ≥ {REACHES_MARGIN_DB:g} dB) (%)", ".0f"),
-    ("median_max_depth_m", "median max depth (m)", ".2f"), ("recommended_pct", "area where recommended (%)", ".0f"),
-)
+def map_columns(reaches_db: float) -> tuple:
+    """Map summary columns shown in the scenario comparison, for the reach threshold: key, header, format."""
+    return (
+        ("scenario", "scenario", "s"), ("antenna", "antenna", "s"),
+        ("reach_pct", f"area reached, margin ≥ {reaches_db:g} dB (%)", ".0f"),
+        ("marginal_or_better_pct", "area with margin ≥ 0 dB (%)", ".0f"),
+        ("expected_reach_pct", f"mean probability of reaching (margin ≥ {reaches_db:g} dB) (%)", ".0f"),
+        ("median_max_depth_m", "median max depth (m)", ".2f"),
+        ("recommended_pct", "area where recommended (%)", ".0f"),
+    )
 
 
 
