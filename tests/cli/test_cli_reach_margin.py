@@ -32,8 +32,9 @@ notes = "FICTIONAL antenna invented for a test"
 """
 X0, Y0 = 500000.0, 5700000.0
 #: six zones of 10 m side by side, moisture rising west to east (pore-water EC 100 mS/m everywhere):
-#: margins for a metal plane at 3 m from about 15 dB down to about 3 dB (see the reference below)
-MOISTURE = [0.12, 0.14, 0.155, 0.165, 0.175, 0.185]
+#: margins for a metal plane at 3 m from about 16 dB down to about 2.5 dB (see the reference below; the test
+#: checks that none lies within 0.4 dB of 6 or 10 dB, so a change of the soil model shows as such)
+MOISTURE = [0.12, 0.14, 0.16, 0.17, 0.19, 0.20]
 EC, TEMP, DEPTH = 0.1, 15.0, 3.0
 SURVEY = f"""[site]
 name = "six-zone test strip (invented)"
