@@ -132,7 +132,7 @@ def style_axes(ax, *, minor_grid: bool = True) -> None:
         label.set_size(SIZES["label"])
 
 
-def _settle_layout(fig, *, passes: int = 4, tol: float = 1e-3) -> None:
+def _settle_layout(fig, *, passes: int = 4, tol: float = 2e-3) -> None:
     """Decide ``fig``'s layout once, before the one draw that renders it.
 
     Constrained layout places titles, colour bars and legends from the extents of their text
@@ -140,6 +140,9 @@ def _settle_layout(fig, *, passes: int = 4, tol: float = 1e-3) -> None:
     outside the panels move one another, so the layout is run until the axes stop moving (at
     most ``passes`` runs of the layout alone: no artist is drawn) and then frozen, and the PNG
     is rendered by a single draw.  Before, each figure was drawn four to six times in full.
+    The layout contracts by a factor of about 16 per run on the map figures (the axes moved 0.021,
+    0.0013, 0.00008 of the figure on successive runs), so stopping once a run moves them by less than
+    ``tol`` = 0.002 (2 pixels at 1000 pixels) leaves them about 0.1 pixel from where further runs go.
     """
     import matplotlib as mpl
     import numpy as np
