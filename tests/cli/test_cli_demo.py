@@ -116,12 +116,13 @@ def test_demo_force_keeps_folder_with_other_files(tmp_path):
     assert sorted(p.name for p in tmp_path.iterdir()) == ["d"]
 
 
-def test_demo_json_output(tmp_path):
-    """--json prints the same result as JSON (files list, report path, caution)."""
-    res = _run("demo", "--out", "j", "--json", cwd=tmp_path)
+def test_demo_json_output(demo_json):
+    """--json prints the same result as JSON (files list, report path, caution); --quiet leaves stderr empty."""
+    res, out = demo_json  # one shared run (tests/cli/conftest.py), also validated against its schema
     assert res.returncode == 0, res.stderr
+    assert res.stderr == ""
     payload = json.loads(res.stdout)
-    assert payload["report"].endswith("report.html")
+    assert payload["report"].endswith("report.html") and (out / "report.html").is_file()
     assert "report.html" in payload["files"]
     assert payload["caution"]
 

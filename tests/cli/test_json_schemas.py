@@ -64,7 +64,7 @@ CASES = {
     "report": ("report", ("report", "{survey}", "--out", "{tmp}/plan.html", "--no-maps")),
     "report-calibrated": ("report", ("report", "{survey}", "--out", "{tmp}/plan-cal.html", "--no-maps",
                                       "--calibration", "{tmp}/cal/cal.json")),
-    "demo": ("demo", ("demo", "--out", "{tmp}/demo")),
+    "demo": ("demo", ("demo", "--out", "{tmp}/demo")),  # run once for the session: conftest.py's demo_json
     "calibrate": ("calibrate", ("calibrate", "{tmp}/cal/fictional_test_line.nc", "--antenna", "midband-250",
                                 "--velocity", "0.1", "--out", "{tmp}/cal/cal.json")),
 }
@@ -83,7 +83,7 @@ def workdir(tmp_path_factory):
 
 
 @pytest.fixture(scope="module")
-def outputs(workdir):
+def outputs(workdir, request):
     """Each case's parsed --json output, run once (lazily) and shared by the tests of this module."""
     tmp, survey = workdir
     done: dict[str, dict] = {}
@@ -98,7 +98,8 @@ def outputs(workdir):
                 subprocess.run([sys.executable, str(ROOT / "surveys/calibration/make_example.py"), str(tmp / "cal")],
                                check=True, capture_output=True)
             argv = [str(a).format(tmp=tmp, survey=survey) for a in args]
-            res = run(*argv, cwd=tmp)
+            # the demo: one run shared with test_cli_demo (conftest.py), made only when this case runs
+            res = request.getfixturevalue("demo_json")[0] if case == "demo" else run(*argv, cwd=tmp)
             assert res.returncode == 0, res.stderr
             assert res.stderr == ""  # --json --quiet: the JSON is the whole answer
             done[case] = json.loads(res.stdout)
