@@ -1,16 +1,15 @@
-"""`subsurf choose` and `subsurf setup` as a user runs them (subprocess)."""
+"""`subsurf choose` and `subsurf setup` as a user runs them (a fork of one warm interpreter per run, tests/cli/warm_runner.py: a real process without the start-up)."""
 
 import json
-import subprocess
-import sys
 
 import pytest
+from warm_runner import run_warm
 
 from subsurf.io.outputs import CAUTION
 
 
 def run(*args):
-    return subprocess.run([sys.executable, "-m", "subsurf", *args], capture_output=True, text=True, timeout=120)
+    return run_warm(args)
 
 
 def test_choose_direct_ground_table():

@@ -1,4 +1,4 @@
-"""The depth and velocity subcommands as a user meets them (subprocess)."""
+"""The depth and velocity subcommands as a user meets them (a fork of one warm interpreter per run, tests/cli/warm_runner.py: a real process without the start-up)."""
 
 import json
 import subprocess
@@ -6,12 +6,13 @@ import sys
 from pathlib import Path
 
 import pytest
+from warm_runner import run_warm
 
 EXAMPLES = Path(__file__).resolve().parents[2] / "surveys" / "picks"
 
 
 def _run(*args, cwd=None):
-    return subprocess.run([sys.executable, "-m", "subsurf", *args], capture_output=True, text=True, cwd=cwd)
+    return run_warm(args, cwd=cwd, timeout=600)
 
 
 def test_depth_single_value_json():

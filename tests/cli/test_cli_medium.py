@@ -1,4 +1,4 @@
-"""The ``subsurf medium`` command as a user meets it: a subprocess, its exit code and output."""
+"""The ``subsurf medium`` command as a user meets it: its exit code and output (a fork of one warm interpreter per run, tests/cli/warm_runner.py: a real process without the start-up)."""
 
 from __future__ import annotations
 
@@ -9,10 +9,11 @@ import sys
 
 import pytest
 from scipy import constants
+from warm_runner import run_warm
 
 
 def run(*args: str) -> subprocess.CompletedProcess:
-    return subprocess.run([sys.executable, "-m", "subsurf", *args], capture_output=True, text=True, timeout=120)
+    return run_warm(args)
 
 
 def test_medium_direct_json_matches_low_loss_handbook_values():

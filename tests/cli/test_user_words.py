@@ -1,23 +1,21 @@
 """Errors and notes name what the user typed (a flag or a file key), never an internal parameter name.
 
-Each case runs the command as a subprocess and checks the one error line (exit 1) or the
+Each case runs the command (a fork of one warm interpreter per run, tests/cli/warm_runner.py: a real process without the start-up) and checks the one error line (exit 1) or the
 JSON warnings: the flag appears, the Soil field name behind it does not.
 """
 
 from __future__ import annotations
 
 import json
-import subprocess
-import sys
 
 import pytest
+from warm_runner import run_warm
 
 GROUND = ("--texture", "loam", "--moisture", "20 %")
 
 
 def run(*args):
-    return subprocess.run([sys.executable, "-m", "subsurf", *map(str, args)], capture_output=True, text=True,
-                          timeout=120)
+    return run_warm(args)
 
 
 @pytest.mark.parametrize("extra, typed, internal", [

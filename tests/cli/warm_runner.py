@@ -19,6 +19,7 @@ at least one case per command (and the kill/race tests all their runs) as a genu
 
 from __future__ import annotations
 
+import atexit
 import json
 import os
 import select
@@ -26,6 +27,7 @@ import signal
 import subprocess
 import sys
 import tempfile
+import threading
 from pathlib import Path
 
 #: imported once by the warm interpreter (before any fork); each is imported by some subsurf command anyway.
@@ -109,6 +111,21 @@ class WarmRunner:
 
     def __exit__(self, *exc):
         self.close()
+
+
+_SHARED: WarmRunner | None = None
+_SHARED_LOCK = threading.Lock()
+
+
+def run_warm(args, *, cwd=None, timeout: float = 120) -> subprocess.CompletedProcess:
+    """``python -m subsurf <args>`` as a fork of this test process's one shared warm runner (started on first use,
+    closed at exit); for the many CLI tests whose point is the command's output, not the interpreter's start-up."""
+    global _SHARED
+    with _SHARED_LOCK:
+        if _SHARED is None:
+            _SHARED = WarmRunner()
+            atexit.register(_SHARED.close)
+        return _SHARED.run([str(a) for a in args], cwd or os.getcwd(), timeout=timeout)
 
 
 def _serve(req_fd: int, rep_fd: int) -> list[str] | None:
