@@ -115,6 +115,16 @@ def soil_facts() -> dict:
                       "names; only the facts given appear", optional=tuple(props))
 
 
+#: Depth keys of a survey's target: one depth, or a range (or list) of depths of interest.
+SURVEY_TARGET_DEPTHS = {
+    "depth_m": num("depth at which reach is judged (m): the target's depth, or the bottom of a range"),
+    "depth_top_m": num("a range of depths of interest: its shallowest (m), where the blind zone and resolution "
+                       "are judged"),
+    "depth_bottom_m": num("a range of depths of interest: its deepest (m), = depth_m"),
+    "depths_m": array(num("depth (m)"), "the depths of interest when given as a list, ascending"),
+}
+_RANGE_KEYS = ("depth_top_m", "depth_bottom_m", "depths_m")
+
 TARGET = obj({
     "kind": text("target kind", enum=("planar", "point", "line")),
     "depth_m": num("depth to the top of the target (m): the depth at which reach (margin, verdict) is judged; "
@@ -426,16 +436,16 @@ def _report_common() -> dict:
         "performance_db": num("system performance (dB)"),
         "max_depth_m": num("maximum detectable depth at the site median (m)", null=True),
         "margin_db": num("margin at the target depth (dB)", null=True),
-        "verdict": text("reach verdict", enum=("reaches", "marginal", "does not reach", "too shallow")),
+        "verdict": text("reach verdict", enum=VERDICTS),
         "recommended": boolean("the recommended antenna"),
     }, "one antenna")
     return {
         "report": text("the HTML report written"),
         "survey": text("the survey file"),
         "site": text("site name"),
-        "target": obj({"kind": text("target kind"), "depth_m": num("target depth (m)"),
+        "target": obj({"kind": text("target kind"), **SURVEY_TARGET_DEPTHS,
                        "size_m": num("target diameter (m)", null=True), "material": text("target material")},
-                      "the survey's target"),
+                      "the survey's target", optional=_RANGE_KEYS),
         "catalogue": catalogue_used(),
         "recommended": text("recommended antenna (from the maps when they were computed), or null", null=True),
         "reason": text("why, one line"),
@@ -602,9 +612,9 @@ def map_schema() -> dict:
         "zones": array(obj({"file": text("zone file"), "names": strings("zone names")}, "a zone file"), "zones"),
         "rasters": array(obj({"file": text("raster"), "quantity": text("quantity it gives")}, "a raster"),
                          "rasters"),
-        "target": obj({"kind": text("target kind"), "depth_m": num("target depth (m)"),
+        "target": obj({"kind": text("target kind"), **SURVEY_TARGET_DEPTHS,
                        "size_m": num("target diameter (m)", null=True), "material": text("target material")},
-                      "the target"),
+                      "the target", optional=_RANGE_KEYS),
         "antennas": strings("antennas mapped"),
         "catalogue": catalogue_used(),
         "scenarios": array(obj({"name": text("scenario"), "description": text("what it changes", null=True)},

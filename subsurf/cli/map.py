@@ -37,19 +37,24 @@ def summary_text(result: dict, out_dir) -> str:
     """The readable summary of a :func:`subsurf.io.maps.run_map` result."""
     from pathlib import Path
 
+    from ..detection.verdicts import range_definition
     from ..io.maps import summary_columns
     from ..io.outputs import Column, format_table
 
     th = result["thresholds"]
     cols = [Column(k, h, u, f if f != "s" else "") for k, h, u, f in summary_columns(th["reaches_margin_db"])]
     t, g, mc = result["target"], result["grid"], result["monte_carlo"]
+    where = f"at {t['depth_m']:g} m" if "depth_top_m" not in t else (
+        f"over {t['depth_top_m']:g}-{t['depth_bottom_m']:g} m (reach judged at {t['depth_bottom_m']:g} m, "
+        f"blind zone at {t['depth_top_m']:g} m: a cell blind at the top does not count)")
     table = format_table(result["summary"], cols, title=f"{result['site']}: area where each antenna reaches the "
-                         f"{t['kind']} target at {t['depth_m']:g} m")
+                         f"{t['kind']} target {where}")
     cal = [result["calibration"]["note"] + ".", ""] if result.get("calibration") else []
     return "\n".join([
         *cal, table, "",
         f"Definition: {result['reach_definition']}"
         + ("." if th["reaches_margin_source"] == "default" else f" ({th['reaches_margin_source']})."),
+        *([f"Depth range: {range_definition(t['depth_top_m'], t['depth_bottom_m'])}."] if "depth_top_m" in t else []),
         f"Reach probability: first-order where accurate, Monte Carlo ({mc['draws']} draws, seed "
         f"{mc['seed']}) on " + ", ".join(f"{100 * f:.1f} %" for f in mc["sampled_fraction"].values())
         + f" of the cells; estimated error <= {mc['max_estimated_error']:.3f}.",

@@ -220,6 +220,13 @@ def run(args) -> int:
     reaches_db = reach_margin_from_args(args)
     antennas, depth, target, choice = [], None, None, None
     if args.out:  # everything the map needs is read before anything is written
+        from ._depths import parse_depths
+
+        if parse_depths(args.depth).is_range:
+            from ..errors import InputError
+
+            raise InputError(f"--depth: region maps one depth, got the range or list {args.depth!r}; give one depth "
+                             "(e.g. the bottom of the range), or map the range with a survey file and 'subsurf map'")
         depth = parse_depth(args.depth)
         target = target_from_args(args, depth_m=depth)
         choice = resolve_catalogue(file=args.catalogue, source="--catalogue")  # as choose reads it

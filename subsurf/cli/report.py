@@ -57,6 +57,11 @@ def summary_text(summary: dict) -> str:
     lines.append(f"Reach threshold: {th['reaches_margin_db']:g} dB"
                  + ("" if th["reaches_margin_source"] == "default" else f" ({th['reaches_margin_source']})")
                  + f"; {summary['reach_definition']}")
+    t = summary.get("target") or {}
+    if "depth_top_m" in t:
+        from ..detection.verdicts import range_definition
+
+        lines.append(f"Target: {t['kind']}, {range_definition(t['depth_top_m'], t['depth_bottom_m'])}")
     if summary.get("catalogue"):
         lines.append(f"Antennas: {summary['catalogue']['text']}")
     lines.append(f"Ground velocity ({'measured on site' if cal else 'site median'}): "

@@ -40,11 +40,13 @@ def run(args) -> int:
     from ..planning.antennas import get_antenna
     from ..planning.catalogue import resolve_catalogue
     from ..units import parse_quantity
+    from ._depths import parse_depths
     from ._medium_args import medium_from_args
     from ._reach import reach_margin_from_args
-    from .choose import layers_from_args, parse_depth, parse_surface_loss, target_from_args
+    from .choose import layers_from_args, parse_surface_loss, target_from_args
 
-    depth = parse_depth(args.depth) if args.depth is not None else None
+    depths = parse_depths(args.depth) if args.depth is not None else None
+    depth = depths.bottom if depths is not None else None
     surface = parse_surface_loss(args.surface_loss)
     reaches_db = reach_margin_from_args(args)
 
@@ -84,7 +86,7 @@ def run(args) -> int:
         from ._calibration import replan_inputs
 
         medium, (antenna,), calibration = replan_inputs(args, medium, [antenna], catalogue)
-        target = target_from_args(args, depth_m=depth)
+        target = target_from_args(args, depth_m=depth, depths=depths)
         result = acquisition_for_antenna(medium, antenna, target=target, depth_m=depth, surface_loss_db=surface,
                                          stacks=args.stacks, area_m2=area, line_length_m=line_length,
                                          speed_m_per_s=speed, imaging=args.grid_3d, layers=layers_from_args(args),
@@ -108,6 +110,13 @@ def run(args) -> int:
     if result["target"]:
         t = result["target"]
         title += f"\nTarget: {t['kind']}, {t['material']}" + (f", {t['size_m']:g} m across" if t["size_m"] else "")
+        if "depth_top_m" in t:
+            from .choose import depth_words
+
+            title += ", " + depth_words(t)
+    elif depths is not None and depths.is_range:
+        result["notes"].append(f"depth range without --target: the time window is planned for its bottom, "
+                               f"{depths.bottom:g} m")
     cols = [Column("setting", "setting"), Column("value", "value"), Column("unit", "unit"), Column("rule", "rule")]
     if result["reachable"]:
         text = format_table(rows, cols, title=title)

@@ -199,8 +199,13 @@ def depth_classes(max_depth_m, margin_db, target_depth_m: float, *, too_shallow=
 
 
 @styled
+def _depths(target_depth_m, depth_top_m):
+    """'1.5 m', or '0.5-1.5 m' for a range of depths of interest."""
+    return f"{target_depth_m:g} m" if depth_top_m is None else f"{depth_top_m:g}-{target_depth_m:g} m"
+
+
 def antenna_figure(grid, result, *, scenario: str, target_depth_m: float, outline, samples, crs_name: str,
-                   description: str = "", title: str = ""):
+                   description: str = "", title: str = "", depth_top_m: float | None = None):
     """Maximum detectable depth per antenna for one scenario, with the target-depth contour.
 
     One figure per scenario (``subsurf map`` writes one for each); the title names the scenario
@@ -233,16 +238,20 @@ def antenna_figure(grid, result, *, scenario: str, target_depth_m: float, outlin
         # the share the summary table counts: cells that reach (classes 2 and 3, margin >= the threshold
         # below the blind zone) among the cells with values
         frac = float(np.count_nonzero(classes >= 2) / max(np.count_nonzero(np.isfinite(classes)), 1))
-        ax.set_title(f"{name}: reaches {target_depth_m:g} m (>= {reaches_db:g} dB) over {100 * frac:.0f} % "
-                     "of site", fontsize=SIZES["title"])
+        ax.set_title(f"{name}: reaches {_depths(target_depth_m, depth_top_m)} (>= {reaches_db:g} dB) over "
+                     f"{100 * frac:.0f} % of site", fontsize=SIZES["title"])
         _decorate(ax, grid, outline=outline, samples=samples, extrapolated=result["extrapolated"].values,
                   crs_name=crs_name, first_col=(i % ncols == 0), last_row=(i >= len(names) - ncols))
     t, m = target_depth_m, reaches_db
-    entries = [(f"does not reach {t:g} m", DEPTH_CLASS_COLOURS[0]),
+    blind = "" if depth_top_m is None else f", or blind at {depth_top_m:g} m"
+    entries = [(f"does not reach {t:g} m{blind}", DEPTH_CLASS_COLOURS[0]),
                (f"marginal: under {m:g} dB to spare at {t:g} m", DEPTH_CLASS_COLOURS[1]),
-               (f"reaches {t:g} m ({m:g} dB or more to spare)", DEPTH_CLASS_COLOURS[2]),
+               (f"reaches {_depths(t, depth_top_m)} ({m:g} dB or more to spare"
+                + (")" if depth_top_m is None else f" at {t:g} m)"), DEPTH_CLASS_COLOURS[2]),
                (f"reaches, and could see down to {DEPTH_TO_SPARE_FACTOR * t:.3g} m or deeper", DEPTH_CLASS_COLOURS[3])]
-    _class_legend(fig, entries, ncols=2, title=f"Target {t:g} m deep: what each antenna achieves "
+    deep = f"{t:g} m deep" if depth_top_m is None else (
+        f"{depth_top_m:g}-{t:g} m deep (reach judged at {t:g} m, blind zone at {depth_top_m:g} m)")
+    _class_legend(fig, entries, ncols=2, title=f"Target {deep}: what each antenna achieves "
                   "(the depths themselves are in feasibility.nc and the GeoTIFFs)")
     import textwrap
 
@@ -253,7 +262,8 @@ def antenna_figure(grid, result, *, scenario: str, target_depth_m: float, outlin
 
 
 @styled
-def scenario_figure(grid, result, *, target_depth_m: float, outline, samples, crs_name: str, title: str = ""):
+def scenario_figure(grid, result, *, target_depth_m: float, outline, samples, crs_name: str, title: str = "",
+                    depth_top_m: float | None = None):
     """Probability of reaching the target with the recommended antenna, one panel per scenario.
 
     Each cell shows the chance that the antenna recommended for that cell reaches the target,
@@ -304,7 +314,7 @@ def scenario_figure(grid, result, *, target_depth_m: float, outline, samples, cr
     entries += [(f"{lo} to {hi}", c) for lo, hi, (_, c) in zip(pct[:-1], pct[1:], PROBABILITY_CLASSES[1:])]
     entries.append((f"{pct[-1]} or more", PROBABILITY_CLASSES[-1][1]))
     _class_legend(fig, entries, ncols=4, title=f"Chance that the antenna recommended for the cell reaches "
-                        f"{target_depth_m:g} m (dashed line: where the recommended antenna changes)")
+                        f"{_depths(target_depth_m, depth_top_m)} (dashed line: where the recommended antenna changes)")
     fig.suptitle(title or f"Scenarios: probability of reaching (margin >= {reaches_db:g} dB)",
                  fontsize=SIZES["suptitle"])
     return fig

@@ -111,7 +111,9 @@ def summary_markdown(rows, survey, caution: str, calibration=None) -> str:
     t = survey.target
     return "\n".join([
         f"# Feasibility summary: {survey.name}", "",
-        f"Target: {t.kind} ({t.material}, {t.size_m:g} m) at {t.depth_m:g} m depth. "
+        f"Target: {t.kind} ({t.material}, {t.size_m:g} m) at {t.depth_text()} depth"
+        + (f" (reach judged at {t.depth_m:g} m, blind zone and resolution at {t.depth_top_m:g} m). "
+           if t.is_range else ". ") +
         f"Grid: {survey.cell_size_m:g} m cells in {survey.grid_crs.name}. "
         f"Reach probability: first-order where accurate, else Monte Carlo ({survey.draws} draws, "
         f"seed {survey.seed}). Antennas: {survey.catalogue.text(survey.antennas)}.", "",
@@ -136,7 +138,9 @@ def summary_csv_files(rows, csv_path, survey, calibration=None) -> dict[Path, st
 
     return table_files(csv_path, rows, summary_table_columns(survey.reach_margin_db),
                        title=f"subsurf map: area each antenna reaches, per scenario ({survey.name})",
-                       notes=[f"target: {survey.target.kind} at {survey.target.depth_m:g} m depth",
+                       notes=[f"target: {survey.target.kind} at {survey.target.depth_text()} depth"
+                              + (f" (reach judged at {survey.target.depth_m:g} m, blind zone at "
+                                 f"{survey.target.depth_top_m:g} m)" if survey.target.is_range else ""),
                               f"definition: {reach_definition(survey.reach_margin_db)}",
                               f"grid: {survey.cell_size_m:g} m cells in {survey.grid_crs.name}",
                               *([calibration.note()] if calibration is not None else [])])
@@ -178,14 +182,15 @@ def _figures(maps):
     survey, ds, grid = maps.survey, maps.dataset, maps.grid
     outline = shapely.from_wkt(grid.attrs["site_outline_wkt"])
     common = {"outline": outline, "samples": sample_points(survey), "crs_name": survey.grid_crs.name}
-    depth = survey.target.depth_m
+    depth, top = survey.target.depth_m, survey.target.depth_top_m
 
     def antennas(sc):
         return lambda: fig_maps.antenna_figure(grid, ds, scenario=sc.name, description=sc.description,
-                                               target_depth_m=depth, **common)
+                                               target_depth_m=depth, depth_top_m=top, **common)
 
     figs = {antenna_figure_key(sc.name): antennas(sc) for sc in survey.scenarios}
-    figs["png_scenarios"] = lambda: fig_maps.scenario_figure(grid, ds, target_depth_m=depth, **common)
+    figs["png_scenarios"] = lambda: fig_maps.scenario_figure(grid, ds, target_depth_m=depth, depth_top_m=top,
+                                                             **common)
     figs["png_inputs"] = lambda: fig_maps.inputs_figure(grid, maps.soil, **common)
     if maps.calibration is None:
         return figs
@@ -230,6 +235,9 @@ def _write_geotiffs(maps, paths, *, force: bool, written: dict) -> None:
     for layer in GEOTIFF_LAYERS:
         var = ds[layer].transpose("scenario", "antenna", "y", "x")
         attrs = {k: str(v) for k, v in var.attrs.items() if k in ("long_name", "units")}
+        attrs.update({k: str(ds.attrs[k]) for k in ("target", "target_depth_m", "target_depth_top_m",
+                                                    "target_depth_bottom_m", "depth_range_definition")
+                      if k in ds.attrs})
         for s in survey.scenarios:
             for a in maps.antennas:
                 key = f"tif_{layer}_{s.name}_{a.name}"
@@ -336,6 +344,7 @@ def run_map(survey_path, out_dir, *, force: bool = False, quiet: bool = False, g
             "grid": {"nx": int(grid.sizes["x"]), "ny": int(grid.sizes["y"]),
                      "cells_inside": int(grid["mask"].values.sum()), "crs_name": survey.grid_crs.name,
                      "crs_source": survey.grid_crs_source, "cell_size_m": survey.cell_size_m},
-            "site": survey.name, "target": {"kind": survey.target.kind, "depth_m": survey.target.depth_m},
+            "site": survey.name, "target": {k: v for k, v in survey.target.json().items()
+                                            if k not in ("size_m", "material")},
             "zones": zone_summaries(maps),
             "calibration": None if maps.calibration is None else maps.calibration.describe()}

@@ -67,6 +67,9 @@ def acquisition_for_antenna(medium, antenna, *, target=None, depth_m=None, surfa
     zone, gets ``reachable = False``, the verdict, no survey time and a note saying why,
     instead of an impossible survey.  ``reaches_db``: the margin a target needs to count as
     reached (default :data:`subsurf.detection.verdicts.REACHES_MARGIN_DB`), the one stacking aims at.
+    A target with a range of depths of interest (``target.depth_top_m``, ``depth_m`` its bottom) is judged at its bottom for the margin
+    and at its top for the blind zone and the footprint (line spacing); when only its top is
+    blind ("partly blind") the survey is planned for the part below the blind zone, said so.
     """
     import numpy as np
 
@@ -102,8 +105,9 @@ def acquisition_for_antenna(medium, antenna, *, target=None, depth_m=None, surfa
     margin = None
     budget = None
     if target is not None:
+        top = target.depth_top_m if target.is_range and target.depth_top_m < depth_m else None
         budget = antenna_budget_for(medium.electrical, antenna, target, depth_m=depth_m, stacks=stacks,
-                                    surface_loss_db=surface_loss_db, layers=layers)
+                                    surface_loss_db=surface_loss_db, layers=layers, depth_top_m=top)
         margin0 = float(budget["margin_db"])
         too_shallow = bool(budget["too_shallow"])
         limit = clutter_stack_limit(antenna.clutter_limit_db)
@@ -123,12 +127,20 @@ def acquisition_for_antenna(medium, antenna, *, target=None, depth_m=None, surfa
                                  f"margin (clutter limit {antenna.clutter_limit_db:g} dB: at most {limit} stacks help)")
             if stacks != antenna.stacks:
                 budget = antenna_budget_for(medium.electrical, antenna, target, depth_m=depth_m, stacks=stacks,
-                                            surface_loss_db=surface_loss_db, layers=layers)
+                                            surface_loss_db=surface_loss_db, layers=layers, depth_top_m=top)
         margin = float(budget["margin_db"])
-        verdict_word = str(verdict(margin, too_shallow=too_shallow, reaches_db=reaches_db))
-        if too_shallow:
+        partly = bool(budget["partly_blind"])
+        verdict_word = str(verdict(margin, too_shallow=too_shallow, partly_blind=partly,
+                                   reaches_db=reaches_db))
+        if partly and margin >= reaches_db:
+            notes.insert(0, f"partly blind: this antenna's blind zone reaches {float(budget['min_depth']):.2g} m, so "
+                            f"the top of the range ({top:g} m) is not seen; settings are planned for "
+                            f"{float(budget['min_depth']):.2g}-{depth_m:g} m: for the top use a higher-frequency "
+                            "antenna")
+        elif too_shallow and not partly:
             reachable = False
-            notes.insert(0, f"too shallow: at {depth_m:g} m the echo arrives within the direct wave; this antenna's "
+            notes.insert(0, f"too shallow: at {top if top is not None else depth_m:g} m the echo arrives within the "
+                            "direct wave; this antenna's "
                             f"blind zone reaches {float(budget['min_depth']):.2g} m (pulse "
                             f"{antenna.pulse_length * 1e9:.3g} ns, separation {antenna.separation_m:g} m); no survey "
                             "planned: use a higher-frequency antenna")

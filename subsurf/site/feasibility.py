@@ -110,7 +110,8 @@ def feasibility_chain(moisture, *, freq_hz, performance_db, target, target_depth
     target : subsurf.detection.Target
         Kind, size and material of the target.
     target_depth_m : float
-        Depth of the target's top (m).
+        Depth of the target's top (m); for a range of depths of interest (``target.depth_top_m``
+        set), its bottom: the margin is judged here, the blind zone and resolution at the top.
     bandwidth_hz : array_like, optional
         Antenna bandwidth (Hz): the budget is integrated over the band at the antenna's fixed
         frequencies (:func:`subsurf.detection.band.band_nodes`), as ``choose`` does; None
@@ -176,7 +177,10 @@ def feasibility_chain(moisture, *, freq_hz, performance_db, target, target_depth
         (eps_b, sig_b), extra_b, surface_b = calibration.electrical(band_soil, f_nodes, eps_b, sig_b), 0.0, 1.0
     fixed_gain = None if gain is None or np.all(np.isnan(np.asarray(gain, dtype=float))) else gain
     # ε, σ from the Soil just validated: the budget does not re-check them
-    res = antenna_budget(eps_b, sig_b, f_nodes, w_nodes, target, depth_m=target_depth_m,
+    # a range of depths of interest: margin at target_depth_m (its bottom), blind zone and resolution at its top
+    top = getattr(target, "depth_top_m", None)
+    top = top if top is not None and top < target_depth_m else None
+    res = antenna_budget(eps_b, sig_b, f_nodes, w_nodes, target, depth_m=target_depth_m, depth_top_m=top,
                          performance_db=performance_db, pulse_length_s=pulse, separation_m=separation_m,
                          gain=fixed_gain, surface_loss_db=0.0 if surface_loss_db is None else surface_loss_db,
                          extra_attenuation_np_per_m=extra_b, surface_power_factor=surface_b,

@@ -86,6 +86,10 @@ def _antennas_and_target(survey):
     try:
         target = make_target(t.kind, depth_m=t.depth_m, size_m=t.size_m if t.kind != "planar" else None,
                              material=t.material)
+        if t.is_range:
+            from dataclasses import replace
+
+            target = replace(target, depth_top_m=t.depth_top_m, depths_m=t.depths_m)
     except InputError as exc:
         raise FileInputError(survey.path, str(exc), field="target") from None
     return antennas, target
@@ -111,7 +115,7 @@ def compute_maps(survey, *, quiet: bool = True, calibration=None) -> Feasibility
     """
     import xarray as xr
 
-    from ..detection.verdicts import reach_definition
+    from ..detection.verdicts import range_definition, reach_definition
     from ..io.progress import steps
     from . import feasibility as fz
     from .grid import build_grid, soil_on_grid
@@ -182,7 +186,10 @@ def compute_maps(survey, *, quiet: bool = True, calibration=None) -> Feasibility
         ds[k] = (dims, np.stack(arrs).astype(np.float32), dict(fz.LAYER_ATTRS[k], grid_mapping="crs"))
     ds["too_shallow"] = (dims, np.stack(shallow_all).astype(np.int8), {
         "long_name": "target inside the antenna's blind zone (its echo arrives within the direct wave; not "
-                     "reached whatever the margin)", "flag_values": np.array([0, 1], np.int8),
+                     "reached whatever the margin)" + (f"; for the depth range {survey.target.depth_text()}: its "
+                                                       f"top, {survey.target.depth_top_m:g} m"
+                                                       if survey.target.is_range else ""),
+        "flag_values": np.array([0, 1], np.int8),
         "flag_meanings": "below_blind_zone in_blind_zone", "grid_mapping": "crs"})
     names = " ".join(["outside_site", "none_even_marginal"] + [a.name.replace(" ", "_") for a in antennas])
     ds["recommended_antenna"] = (("scenario", "y", "x"), np.stack(rec_all), {
@@ -203,11 +210,13 @@ def compute_maps(survey, *, quiet: bool = True, calibration=None) -> Feasibility
     ds["reach_probability"].attrs["sampled_fraction"] = np.array(sampled)
     t = survey.target
     ds.attrs = {
-        "target": f"{t.kind} {t.material} {t.size_m:g} m at {t.depth_m:g} m",
+        "target": f"{t.kind} {t.material} {t.size_m:g} m at {t.depth_text()}",
         "target_depth_m": t.depth_m,
         "reaches_margin_db": reaches_db,
         "reaches_margin_source": survey.reach_margin_source,
         "reach_definition": reach_definition(reaches_db),
+        **({"target_depth_top_m": t.depth_top_m, "target_depth_bottom_m": t.depth_m,
+            "depth_range_definition": range_definition(t.depth_top_m, t.depth_m)} if t.is_range else {}),
         "monte_carlo_draws": survey.draws,
         "monte_carlo_seed": survey.seed,
         "cell_size_m": survey.cell_size_m,

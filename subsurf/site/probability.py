@@ -178,6 +178,8 @@ class _Problem:
         out = self._chain(fields)
         x = np.asarray(self.antenna_kw["separation_m"], float).reshape((-1, 1, 1))
         d = float(self.kw["target_depth_m"])
+        top = getattr(self.kw["target"], "depth_top_m", None)  # a range: the blind zone is judged at its top
+        d = float(top) if top is not None and top < d else d
         d_min = d - out["blind_zone_slack_m"]
         with np.errstate(divide="ignore", invalid="ignore"):
             ratio = (np.sqrt(x * x + 4.0 * d * d) - x) / (np.sqrt(x * x + 4.0 * d_min * d_min) - x) - 1.0

@@ -223,11 +223,23 @@ class SoilTable(Strict):
     rasters: list[Raster] = Field(default_factory=list)
 
 
+#: Deepest target depth a survey may ask for (m), as ``--depth`` (subsurf.cli._depths.MAX_DEPTH_M).
+MAX_TARGET_DEPTH_M = 1e4
+
+
 class Target(Strict):
-    """[target]: what is sought."""
+    """[target]: what is sought, at one depth or over a range (or list) of depths of interest."""
 
     kind: Literal[TARGET_KINDS]  # type: ignore[valid-type]
-    depth: Length("depth to the top of the target, e.g. '1.2 m'")  # type: ignore[valid-type]
+    depth: Length("depth to the top of the target, e.g. '1.2 m' (or give depth_top and depth_bottom, "  # type: ignore
+                  "or depths)") | None = None
+    depth_top: Length("shallowest depth of interest of a range, e.g. '0.5 m': the blind zone and the "  # type: ignore
+                      "resolution are judged here") | None = None
+    depth_bottom: Length("deepest depth of interest of a range, e.g. '1.5 m': reach (margin, verdict) is "  # type: ignore
+                         "judged here") | None = None
+    depths: list[Length("a depth of interest")] | None = Field(  # type: ignore[valid-type]
+        None, min_length=2, description="a list of depths of interest, e.g. ['0.5 m', '1 m', '1.5 m']: reach "
+                                        "judged at the deepest, blind zone and resolution at the shallowest")
     size: Length("diameter of a point or line target (default 0.1 m; planar: 1 m)") | None = None  # type: ignore
     material: str = Field(min_length=1, description="a key of configs/materials.toml or an alias "
                           "(metal, pvc, air, void, water, steel ...)")
@@ -235,6 +247,47 @@ class Target(Strict):
         "decibel", "dB", low=REACH_MARGIN_RANGE_DB[0], high=REACH_MARGIN_RANGE_DB[1],
         description=f"margin the target needs to count as reached, e.g. '10 dB' (default "
                     f"{REACHES_MARGIN_DB:g} dB; the commands' --reach-margin overrides it)") | None = None
+
+    @field_validator("depth", "depth_top", "depth_bottom")
+    @classmethod
+    def _not_too_deep(cls, value):
+        if value is not None and value > MAX_TARGET_DEPTH_M:
+            raise ValueError(f"must be at most {MAX_TARGET_DEPTH_M / 1e3:g} km (deeper than any radar sounding "
+                             f"reaches), got {value:g} m")
+        return value
+
+    @field_validator("depths")
+    @classmethod
+    def _distinct(cls, value):
+        if value is None:
+            return value
+        if max(value) > MAX_TARGET_DEPTH_M:
+            raise ValueError(f"must be at most {MAX_TARGET_DEPTH_M / 1e3:g} km each, got {max(value):g} m")
+        if len(set(value)) != len(value):
+            raise ValueError("repeats a depth; give each depth of interest once")
+        return sorted(value)
+
+    @field_validator("depth_bottom")
+    @classmethod
+    def _below_top(cls, value, info):
+        top = info.data.get("depth_top")
+        if value is not None and top is not None and not top < value:
+            word = "has zero width" if top == value else "is inverted"
+            raise ValueError(f"the range {word}: depth_bottom ({value:g} m) must be deeper than depth_top "
+                             f"({top:g} m), e.g. depth_top = '0.5 m', depth_bottom = '1.5 m'")
+        return value
+
+    @model_validator(mode="after")
+    def _one_form(self):
+        forms = [self.depth is not None, self.depth_top is not None or self.depth_bottom is not None,
+                 self.depths is not None]
+        if sum(forms) != 1:
+            raise ValueError("give the target depth once: depth = '1.2 m', or depth_top and depth_bottom "
+                             "(a range), or depths = [...] (a list)")
+        if forms[1] and (self.depth_top is None or self.depth_bottom is None):
+            raise ValueError("a depth range needs both depth_top and depth_bottom, e.g. depth_top = '0.5 m', "
+                             "depth_bottom = '1.5 m'")
+        return self
 
 
 def _names_list(value):

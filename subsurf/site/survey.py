@@ -52,12 +52,40 @@ __all__ = [
 
 @dataclass(frozen=True)
 class TargetSpec:
-    """What is sought: kind, depth to its top, size and material."""
+    """What is sought: kind, depth to its top, size and material.
+
+    ``depth_m`` is the depth at which reach is judged: for a range (or list) of depths of
+    interest its deepest, with ``depth_top_m`` its shallowest (blind zone and resolution judged
+    there) and ``depths_m`` the list as given (ascending); both None for one depth.
+    """
 
     kind: str
     depth_m: float
     size_m: float
     material: str
+    depth_top_m: float | None = None
+    depths_m: tuple[float, ...] | None = None
+
+    @property
+    def is_range(self) -> bool:
+        return self.depth_top_m is not None
+
+    def depth_text(self) -> str:
+        """'1.2 m', '0.5-1.5 m' or '0.5, 1, 1.5 m'."""
+        if self.depths_m is not None:
+            return ", ".join(f"{d:g}" for d in self.depths_m) + " m"
+        if self.depth_top_m is not None:
+            return f"{self.depth_top_m:g}-{self.depth_m:g} m"
+        return f"{self.depth_m:g} m"
+
+    def json(self) -> dict:
+        """The target facts as in ``subsurf choose --json`` (depth keys with units)."""
+        out = {"kind": self.kind, "depth_m": self.depth_m, "size_m": self.size_m, "material": self.material}
+        if self.is_range:
+            out.update(depth_top_m=self.depth_top_m, depth_bottom_m=self.depth_m)
+            if self.depths_m is not None:
+                out["depths_m"] = list(self.depths_m)
+        return out
 
 
 @dataclass(frozen=True)
@@ -135,8 +163,7 @@ class Survey:
                         for s in self.samples],
             "zones": [{"file": str(z.path), "names": list(z.names)} for z in self.zones],
             "rasters": [{"file": str(r.path), "quantity": r.quantity} for r in self.rasters],
-            "target": {"kind": self.target.kind, "depth_m": self.target.depth_m,
-                       "size_m": self.target.size_m, "material": self.target.material},
+            "target": self.target.json(),
             "antennas": list(self.antennas),
             "catalogue": None if self.catalogue is None else self.catalogue.describe(self.antennas),
             "calibration": None if self.calibration_path is None else str(self.calibration_path),
@@ -279,7 +306,14 @@ def load_survey(path, *, catalogue=None, reach_margin_db=None) -> Survey:
 
     t = spec.target
     size = t.size if t.size is not None else (1.0 if t.kind == "planar" else 0.1)
-    target = TargetSpec(kind=t.kind, depth_m=t.depth, size_m=size, material=t.material)
+    if t.depths is not None:
+        depth, top, listed = t.depths[-1], t.depths[0], tuple(t.depths)
+    elif t.depth_top is not None:
+        depth, top, listed = t.depth_bottom, t.depth_top, None
+    else:
+        depth, top, listed = t.depth, None, None
+    target = TargetSpec(kind=t.kind, depth_m=depth, size_m=size, material=t.material, depth_top_m=top,
+                        depths_m=listed)
     choice, names = _catalogue(spec.antennas, path=path, override=catalogue)
     calibration_path = None
     if spec.calibration is not None:

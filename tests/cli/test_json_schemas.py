@@ -47,6 +47,8 @@ CASES = {
                                      "0.1", "--material", "metal")),
     "choose-calibrated": ("choose", ("choose", "--calibration", "{tmp}/cal/cal.json", *PIPE)),
     "setup": ("setup", ("setup", "--antenna", "midband-500", *GROUND, *PIPE, "--area", "2000 m^2")),
+    "setup-depth-range": ("setup", ("setup", "--antenna", "lowband-100", *GROUND, "--target", "planar", "--depth",
+                                    "0.5-1.5 m", "--material", "concrete")),
     "depth-picks": ("depth", ("depth", "--picks", PICKS / "fictional_utility_picks.csv", "--velocity", "0.095 m/ns",
                               "--velocity-se", "0.003 m/ns", "--time-zero", "2 ns", "--offset", "0.14 m")),
     "depth-layered": ("depth", ("depth", "--twt", "25", "--twt", "40", "--layer", "0.6 m, 0.11 m/ns, 0.004 m/ns",

@@ -214,6 +214,10 @@ def collect(survey_path, *, map_result: dict | None = None, bar=None, calibratio
         t = survey.target
         target = make_target(t.kind, depth_m=t.depth_m, size_m=None if t.kind == "planar" else t.size_m,
                              material=t.material)
+        if t.is_range:  # margin at the bottom, blind zone and resolution at the top (detection.verdicts)
+            from dataclasses import replace
+
+            target = replace(target, depth_top_m=t.depth_top_m, depths_m=t.depths_m)
         rows = rank_antennas(site.soil.electrical, antennas, target, reaches_db=reaches_db)
         electrical, cal = site.soil.electrical, None
         if calibration is not None or survey.calibration_path is not None:
@@ -222,7 +226,7 @@ def collect(survey_path, *, map_result: dict | None = None, bar=None, calibratio
             cal = calibrated_plan(calibration if calibration is not None else survey.calibration_path, survey, site,
                                   antennas, target, model_rows=rows, from_flag=calibration is not None)
             rows, antennas, electrical = cal["rows"], cal["antennas"], cal["ground"].electrical
-        median_name, median_reason = recommend(rows, reaches_db=reaches_db)
+        median_name, median_reason = recommend(rows, reaches_db=reaches_db, target=target)
         decision = map_decision(map_result, [s.name for s in survey.scenarios], reaches_db=reaches_db)
         if decision is not None:  # the headline from the maps' area statistics, every scenario
             rec_name, reason = decision.bring, decision.headline
@@ -261,7 +265,7 @@ def collect(survey_path, *, map_result: dict | None = None, bar=None, calibratio
         "site_soil": site,
         "ground": ground,
         "ground_table_freqs_hz": sorted({a.centre_freq_hz for a in antennas}),
-        "target": {"kind": t.kind, "depth_m": t.depth_m, "size_m": t.size_m, "material": t.material},
+        "target": t.json(),
         "ranking": rows,
         "recommended": rec_name,
         "reason": reason,

@@ -15,6 +15,7 @@ from pathlib import Path
 
 import numpy as np
 
+from ...detection.verdicts import range_definition
 from .content import REPORT_FREQS_HZ, ground_table, site_geometry
 from .texts import (
     ASSUMPTIONS,
@@ -38,7 +39,8 @@ class Verdict:
 
     @property
     def css(self) -> str:
-        return {"reaches": "verdict-reaches", "marginal": "verdict-marginal"}.get(self.word, "verdict-no")
+        return {"reaches": "verdict-reaches", "marginal": "verdict-marginal",
+                "partly blind": "verdict-marginal"}.get(self.word, "verdict-no")
 
 
 @dataclass(frozen=True)
@@ -75,6 +77,15 @@ def fmt(v, spec=".3g") -> str:
         return str(v)
 
 
+def _depth_span(t: dict) -> str:
+    """'1.20 m', '0.50–1.50 m' or '0.50, 1.00, 1.50 m' (a range or list of depths of interest)."""
+    if t.get("depths_m"):
+        return ", ".join(f"{d:.2f}" for d in t["depths_m"]) + " m"
+    if "depth_top_m" in t:
+        return f"{t['depth_top_m']:.2f}–{t['depth_bottom_m']:.2f} m"
+    return f"{t['depth_m']:.2f} m"
+
+
 def summary(data) -> dict:
     rows, rec, t, chart = data["ranking"], data["recommended"], data["target"], data["depth_chart"]
     decision = data.get("decision")
@@ -88,7 +99,8 @@ def summary(data) -> dict:
             cards.append(("recommended antenna", rec, f"{rec_row['centre_freq_hz'] / 1e6:.0f} MHz (site-median soil)",
                           False))
             cards.append(("max depth, this target", f"{rec_row['max_depth_m']:.2f} m",
-                          f"target at {t['depth_m']:.2f} m · margin {rec_row['margin_db']:.0f} dB",
+                          f"target at {_depth_span(t)} · margin {rec_row['margin_db']:.0f} dB"
+                          + (f" at {t['depth_m']:.2f} m" if "depth_top_m" in t else ""),
                           rec_row["verdict"] != "reaches"))
         else:
             cards.append(("recommended antenna", "none", "no listed antenna reaches the target", True))
@@ -109,7 +121,10 @@ def summary(data) -> dict:
                            for c in decision.per_scenario)
     return {"description": data["survey"].get("description") or "",
             "cards": [{"k": k, "v": v, "s": s, "bad": bad} for k, v, s, bad in cards],
-            "target_text": f"{t['kind']} target of {t['material'].replace('_', ' ')}{size}, top at {t['depth_m']:.2f} m",
+            "target_text": f"{t['kind']} target of {t['material'].replace('_', ' ')}{size}, " + (
+                f"top at {t['depth_m']:.2f} m" if "depth_top_m" not in t else
+                f"tops at depths of interest {_depth_span(t)}: reach judged at the deepest ({t['depth_bottom_m']:.2f} "
+                f"m), blind zone and resolution at the shallowest ({t['depth_top_m']:.2f} m)"),
             "reason": data["reason"], "across": across, "caution": " ".join(data["caution"]),
             "calibrated": (data.get("calibration") or {}).get("note", ""),
             "from_maps": decision is not None, "reaches_db": f"{data['reaches_margin_db']:g}",
@@ -228,7 +243,8 @@ def reach(data) -> dict:
     pts = [{"name": r["name"], "freq_hz": r["centre_freq_hz"], "max_depth_m": r["max_depth_m"],
             "recommended": r["recommended"]} for r in data["ranking"]]
     png = max_depth_png(REPORT_FREQS_HZ, data["max_depth_curves"], t["depth_m"], pts,
-                        target_label=f"{t['kind']} target")
+                        target_label=f"{t['kind']} target" + (f", bottom of {_depth_span(t)}" if "depth_top_m" in t
+                                                              else ""))
     text = ("Curves: the deepest the target could be detected by a system of the stated performance and "
             "gain at each frequency. Points: each antenna with its own performance (stacking included) and "
             "gain; a point above the dashed target line does not reach it.")
@@ -243,8 +259,12 @@ def antennas(data) -> dict:
                      Verdict(r["verdict"]), fmt(r["vertical_resolution_m"], ".2g"),
                      fmt(r["fresnel_radius_m"], ".2g"), fmt(r["received_freq_hz"] / 1e6, ".3g")])
         classes.append("rec" if r["recommended"] else "")
-    out = {"table": Table(["antenna", "f_c (MHz)", "performance (dB)", "max depth (m)", "margin at target (dB)",
-                           "verdict", "vertical resolution (m)", "horizontal resolution (m)", "received f (MHz)"],
+    t = data["target"]
+    bottom, top = ("", "") if "depth_top_m" not in t else (f" at {t['depth_bottom_m']:.2f} m",
+                                                          f" at {t['depth_top_m']:.2f} m")
+    out = {"table": Table(["antenna", "f_c (MHz)", "performance (dB)", "max depth (m)",
+                           f"margin at target{bottom} (dB)", "verdict", f"vertical resolution{top} (m)",
+                           f"horizontal resolution{top} (m)", f"received f{top} (MHz)"],
                           rows, numeric=(1, 2, 3, 4, 6, 7, 8), row_classes=classes),
            "reason": data["reason"], "decision": None,
            "median": data.get("site_median_recommendation") or {}}
@@ -363,7 +383,11 @@ def depth(data) -> dict:
 
 def assumptions(data) -> dict:
     model = data["survey"]["soil_model"]
-    return {"entries": [f"Soil model: {MODEL_VALIDITY.get(model, model)}", *ASSUMPTIONS],
+    t = data["target"]
+    rng = [] if "depth_top_m" not in t else [
+        f"Target depth range: {range_definition(t['depth_top_m'], t['depth_bottom_m'])}. A map cell, or an antenna, "
+        "counts as reaching only where the whole range is seen."]
+    return {"entries": [f"Soil model: {MODEL_VALIDITY.get(model, model)}", *ASSUMPTIONS, *rng],
             "warnings": list(data["warnings"])}
 
 
