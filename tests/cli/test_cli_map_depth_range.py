@@ -82,7 +82,7 @@ def test_range_stated_in_netcdf_geotiff_and_json(runs):
     attrs, *_ = _nc(out)
     assert attrs["target_depth_m"] == 1.5 and attrs["target_depth_bottom_m"] == 1.5
     assert attrs["target_depth_top_m"] == 0.5 and "0.5-1.5 m" in attrs["target"]
-    tif = next(out.glob("*margin_db*.tif"))
+    tif = next(out.rglob("*margin_db*.tif"))
     with rasterio.open(tif) as src:
         tags = src.tags()
     assert float(tags["target_depth_top_m"]) == 0.5 and float(tags["target_depth_bottom_m"]) == 1.5
