@@ -27,6 +27,7 @@ from .texts import (
     SPREAD_NAMES,
     map_columns,
 )
+from .texts import depth_span as _depth_span
 
 __all__ = ["Table", "Figure", "Verdict", "fmt", "SECTION_BUILDERS"]
 
@@ -75,15 +76,6 @@ def fmt(v, spec=".3g") -> str:
         return format(v, spec)
     except (TypeError, ValueError):
         return str(v)
-
-
-def _depth_span(t: dict) -> str:
-    """'1.20 m', '0.50–1.50 m' or '0.50, 1.00, 1.50 m' (a range or list of depths of interest)."""
-    if t.get("depths_m"):
-        return ", ".join(f"{d:.2f}" for d in t["depths_m"]) + " m"
-    if "depth_top_m" in t:
-        return f"{t['depth_top_m']:.2f}–{t['depth_bottom_m']:.2f} m"
-    return f"{t['depth_m']:.2f} m"
 
 
 def summary(data) -> dict:

@@ -146,3 +146,12 @@ REFERENCES_SKIPPED = {"crim": {"peplinski1995", "topp1980"}, "peplinski": {"birc
 #: Soil field -> name in the depth-chart note
 SPREAD_NAMES = {"moisture": "moisture", "pore_water_ec25": "pore-water EC", "pore_water_salinity_psu": "salinity",
                 "temp_c": "temperature"}
+
+
+def depth_span(t: dict) -> str:
+    """'1.20 m', '0.50–1.50 m' or '0.50, 1.00, 1.50 m' (a range or list of depths of interest)."""
+    if t.get("depths_m"):
+        return ", ".join(f"{d:.2f}" for d in t["depths_m"]) + " m"
+    if "depth_top_m" in t:
+        return f"{t['depth_top_m']:.2f}–{t['depth_bottom_m']:.2f} m"
+    return f"{t['depth_m']:.2f} m"
