@@ -304,6 +304,8 @@ def settings(data) -> dict:
     return {"antenna": data["chart_antenna"],
             "which": "the recommended antenna" if data["recommended"] else "the antenna that comes closest",
             "depth": f"{data['target']['depth_m']:.2f}", "area": f"{acq['area_m2']:,.0f}",
+            "range_note": "" if "depth_top_m" not in data["target"] else (
+                f" (the bottom of {_depth_span(data['target'])}; blind zone and 2D line spacing from its top)"),
             "table": Table(["setting", "value", "unit", "rule"],
                            [[r["label"], fmt(r["value"], r["fmt"]), r["unit"], r["rule"]] for r in acq["rows"]],
                            numeric=(1,)),
