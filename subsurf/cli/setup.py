@@ -131,7 +131,8 @@ def run(args) -> int:
         text += f"\nNote: {n}."
     if result["target"]:
         text += (f"\nReach: a target counts as reached with a margin of at least "
-                 f"{result['thresholds']['reaches_margin_db']:g} dB below the blind zone; stacking aims at it.")
+                 f"{result['thresholds']['reaches_margin_db']:g} dB, with the target deeper than the blind zone; "
+                 "stacking aims at it.")
     if antenna.illustrative:
         text += "\nCatalogue figures are ILLUSTRATIVE demo values; use your instrument's measured figures."
     text += f"\nCatalogue: {result['catalogue']['text']}."

@@ -109,7 +109,7 @@ def reaches(margin, *, too_shallow=False, reaches_db: float = REACHES_MARGIN_DB)
 
 def reach_definition(reaches_db: float = REACHES_MARGIN_DB) -> str:
     """The sentence every output prints to say what "reaches" means."""
-    return (f"reaches = margin >= {reaches_db:g} dB below the blind zone; marginal = 0 to {reaches_db:g} dB; "
+    return (f"reaches = margin >= {reaches_db:g} dB and the target deeper than the blind zone; marginal = 0 to {reaches_db:g} dB; "
             f"does not reach = margin < 0 dB; too shallow = inside the blind zone (echo within the direct wave)")
 
 

@@ -257,7 +257,7 @@ def test_region_does_not_count_the_blind_zone_as_reached(tmp_path):
     assert table["lowband-50"]["recommended_pct"] == 0.0
     assert table["midband-250"]["reach_pct"] > 0.0
     assert out["catalogue"]["bundled"] and out["catalogue"]["source"] == "bundled"
-    assert out["thresholds"]["reaches_margin_db"] == 6.0 and "below the blind zone" in out["reach_definition"]
+    assert out["thresholds"]["reaches_margin_db"] == 6.0 and "deeper than the blind zone" in out["reach_definition"]
     with xr.open_dataset(tmp_path / "r.nc") as ds:
         assert list(ds["antenna_name"].values) == ["lowband-50", "midband-250"]
         has_data = np.isfinite(ds["margin_db"].values[0])
