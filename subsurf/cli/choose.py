@@ -280,7 +280,11 @@ def run(args) -> int:
     result["calibration"] = calibration
     result["catalogue"] = choice.describe([a.name for a in antennas])
     t = result["target"]
-    what = f"{t['kind']} target, {t['material']}" + (f", {t['size_m']:g} m across" if t["size_m"] else "")
+    size = ""
+    if t["size_m"]:
+        size = (f", {t['size_m']:g} m across" if t["kind"] != "planar"
+                else f" (--size {t['size_m']:g} m not used: a planar target is an extended interface)")
+    what = f"{t['kind']} target, {t['material']}" + size
     title = f"Ground: {medium.label}"
     if result["layers"]:
         title += "\nUnder: " + ", ".join(f"{lay['thickness_m']:g} m {lay['material']}" for lay in result["layers"])

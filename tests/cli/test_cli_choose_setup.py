@@ -165,3 +165,16 @@ def test_layers_cost_depth_and_are_shown():
     bare = json.loads(run(*base).stdout)["rows"][0]
     out = json.loads(run(*base, "--over", "0.08 m asphalt", "--over", "0.2 m concrete_wet").stdout)
     assert out["layers"][0]["material"] == "asphalt" and out["rows"][0]["margin_db"] < bare["margin_db"]
+
+
+def test_planar_target_says_its_size_is_not_used():
+    """A planar interface is extended: a --size given with it is named as unused, not shown as '0.4 m across'."""
+    import subprocess
+    import sys
+
+    r = subprocess.run([sys.executable, "-m", "subsurf", "choose", "--texture", "loam", "--moisture", "15 %",
+                        "--target", "planar", "--depth", "1", "--size", "0.4 m", "--material", "concrete"],
+                       capture_output=True, text=True)
+    assert r.returncode == 0, r.stderr
+    target_line = next(line for line in r.stdout.splitlines() if line.startswith("Target:"))
+    assert "--size 0.4 m not used" in target_line and "m across" not in target_line
