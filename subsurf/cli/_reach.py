@@ -11,7 +11,7 @@ FLAG = "--reach-margin"
 
 def add_reach_margin_argument(parser, *, survey: bool = False) -> None:
     """Add ``--reach-margin DB`` to ``parser`` (``survey``: the help says it overrides the survey file's key)."""
-    from ..detection.verdicts import REACH_MARGIN_RANGE_DB, REACHES_MARGIN_DB
+    from .._reach_threshold import REACH_MARGIN_RANGE_DB, REACHES_MARGIN_DB
 
     low, high = REACH_MARGIN_RANGE_DB
     where = (f" (default: the survey's [target] reach_margin, else {REACHES_MARGIN_DB:g} dB)" if survey
