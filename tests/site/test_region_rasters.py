@@ -122,7 +122,9 @@ def test_geotiff_and_netcdf_give_the_same_map_cell_for_cell(soil, antennas, targ
                                target_depth_m=DEPTH, texture="loam")
     for name in ("max_depth", "margin_db", "velocity"):
         np.testing.assert_array_equal(got_a[name].values, got_b[name].values)
-        np.testing.assert_allclose(got_a[name].values, ref[name], rtol=1e-12, equal_nan=True)
+        # 1e-9: the depth solver's iterations stop near 1e-12 relative and tile-wise evaluation
+        # orders the sums differently (one cell in 9450 differed by 1.3e-12); a unit slip is >= 1e-3
+        np.testing.assert_allclose(got_a[name].values, ref[name], rtol=1e-9, equal_nan=True)
     np.testing.assert_array_equal(got_a["x"].values, _x())  # cell centres from the GeoTIFF geotransform
     np.testing.assert_array_equal(got_a["y"].values, _y())
     assert CRS.from_wkt(a["crs"].attrs["crs_wkt"]).to_epsg() == 32633 == CRS.from_wkt(b["crs"].attrs["crs_wkt"]).to_epsg()
