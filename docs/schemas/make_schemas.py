@@ -588,7 +588,8 @@ def map_schema() -> dict:
         "scenario": text("scenario name"), "antenna": text("antenna name"),
         "centre_frequency_mhz": num("antenna centre frequency (MHz)"),
         "reach_pct": pct("area where the target is reached, margin >= the reach threshold"),
-        "marginal_or_better_pct": pct("area with margin >= 0 dB (reaches or marginal)"),
+        "marginal_or_better_pct": pct("area with margin >= 0 dB below the blind zone (reaches or marginal)"),
+        "too_shallow_pct": pct("area where the target is inside the antenna's blind zone, whatever the margin"),
         "expected_reach_pct": pct("mean probability of reaching over the area"),
         "reach_p90_pct": pct("area where the probability of reaching is >= 0.9"),
         "median_max_depth_m": num("median maximum detectable depth over the area (m)", null=True),
@@ -654,7 +655,8 @@ def region_schema() -> dict:
     row = obj({
         "antenna": text("antenna name"), "centre_frequency_mhz": num("antenna centre frequency (MHz)"),
         "reach_pct": pct("cells with soil data where the target is reached, margin >= the reach threshold"),
-        "marginal_or_better_pct": pct("cells with margin >= 0 dB (reaches or marginal)"),
+        "marginal_or_better_pct": pct("cells with margin >= 0 dB below the blind zone (reaches or marginal)"),
+        "too_shallow_pct": pct("cells where the target is inside the antenna's blind zone, whatever the margin"),
         "mean_max_depth_m": num("mean maximum detectable depth (m)", null=True),
         "recommended_pct": pct("cells where this antenna is the recommended one"),
     }, "one antenna")

@@ -107,7 +107,8 @@ COLUMNS_SPEC = [
     ("antenna", "antenna", "", ""),
     ("centre_frequency_mhz", "f", "MHz", ".4g"),
     ("reach_pct", "reaches", "% of cells", ".1f"),
-    ("marginal_or_better_pct", "margin >= 0 dB", "% of cells", ".1f"),
+    ("marginal_or_better_pct", "margin >= 0 dB below blind zone", "% of cells", ".1f"),
+    ("too_shallow_pct", "too shallow", "% of cells", ".1f"),
     ("mean_max_depth_m", "mean max depth", "m", ".3g"),
     ("recommended_pct", "recommended", "% of cells", ".1f"),
 ]

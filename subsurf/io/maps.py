@@ -35,7 +35,8 @@ def summary_columns(reaches_db: float = REACHES_MARGIN_DB) -> tuple:
         ("scenario", "scenario", "", "s"), ("antenna", "antenna", "", "s"),
         ("centre_frequency_mhz", "f_c", "MHz", ".0f"),
         ("reach_pct", f"reaches (>= {reaches_db:g} dB)", "% area", ".0f"),
-        ("marginal_or_better_pct", "margin >= 0 dB", "% area", ".0f"),
+        ("marginal_or_better_pct", "margin >= 0 dB below blind zone", "% area", ".0f"),
+        ("too_shallow_pct", "too shallow", "% area", ".0f"),
         ("expected_reach_pct", "mean P(reach)", "%", ".0f"), ("reach_p90_pct", "P(reach)>=0.9", "% area", ".0f"),
         ("median_max_depth_m", "median max depth", "m", ".2f"), ("recommended_pct", "recommended", "% area", ".0f"),
     )

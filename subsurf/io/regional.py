@@ -143,7 +143,8 @@ def map_region(soil, antennas, out, *, target, target_depth_m: float, texture: s
         ``target`` (its summary), ``scheduler``, ``tiles``, ``batch``, ``cells_with_data``,
         ``map_duration_s``, ``cells_per_second``, ``thresholds``, ``rows`` (per antenna:
         ``centre_frequency_mhz``, ``reach_pct`` margin ≥ the reach threshold (``reaches``),
-        ``marginal_or_better_pct`` margin ≥ 0 dB, ``mean_max_depth_m``, ``recommended_pct``) and
+        ``marginal_or_better_pct`` margin ≥ 0 dB, ``too_shallow_pct`` target inside the blind zone,
+        ``mean_max_depth_m``, ``recommended_pct``) and
         ``no_antenna_marginal_or_better_pct``, percentages of the cells with soil data (the keys
         ``subsurf map`` uses for the same quantities); ``coverage``: ``cells_with_data_pct`` of all
         cells, and per quantity filled with its default (``fill_gaps``) ``default_used_pct`` of
@@ -173,6 +174,7 @@ def map_region(soil, antennas, out, *, target, target_depth_m: float, texture: s
     rows = [{"antenna": r["antenna"], "centre_frequency_mhz": freqs[r["antenna"]] / 1e6,
              "reach_pct": 100 * r["reach_with_headroom_fraction"],  # the one "reaches" (verdicts)
              "marginal_or_better_pct": 100 * r["reach_fraction"],
+             "too_shallow_pct": 100 * r["too_shallow_fraction"],
              "mean_max_depth_m": r["mean_max_depth_m"],
              "recommended_pct": 100 * r["recommended_fraction"]} for r in summary.rows()]
     none = summary.recommended[0] / max(summary.cells_with_data, 1)

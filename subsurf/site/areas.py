@@ -30,7 +30,8 @@ def area_fractions(margin_db, mask, *, probability=None, reaches_db=None, too_sh
     dict of ndarray, each of shape (n_antennas,)
         ``reach`` (the one "reaches": margin ≥ reaches_db outside the blind zone,
         :func:`subsurf.detection.verdicts.reaches`), ``marginal_or_better`` (margin ≥ 0
-        outside the blind zone) and, when ``probability`` is given, ``expected_reach`` (mean
+        outside the blind zone), ``too_shallow`` (target inside the antenna's blind zone) and,
+        when ``probability`` is given, ``expected_reach`` (mean
         probability over the site) and ``reach_p90`` (probability ≥ 0.9).
     """
     from ..detection.verdicts import REACHES_MARGIN_DB, reaches
@@ -46,6 +47,7 @@ def area_fractions(margin_db, mask, *, probability=None, reaches_db=None, too_sh
         "reach": np.count_nonzero(reaches(m, too_shallow=shallow, reaches_db=threshold) & inside, axis=axes) / n_in,
         "marginal_or_better": np.count_nonzero(reaches(m, too_shallow=shallow, reaches_db=0.0) & inside,
                                                axis=axes) / n_in,
+        "too_shallow": np.count_nonzero(shallow & inside, axis=axes) / n_in,
     }
     if probability is not None:
         p = np.asarray(probability, float)

@@ -241,7 +241,8 @@ def summary_rows(maps: FeasibilityMaps) -> list[dict]:
 
     Keys: ``scenario``, ``antenna``, ``centre_frequency_mhz``, ``reach_pct`` (area where it
     reaches: margin ≥ the survey's reach threshold, :attr:`FeasibilityMaps.reaches_margin_db`,
-    outside the blind zone), ``marginal_or_better_pct`` (margin ≥ 0 dB), ``expected_reach_pct``
+    outside the blind zone), ``marginal_or_better_pct`` (margin ≥ 0 dB outside the blind zone),
+    ``too_shallow_pct`` (target inside the blind zone, whatever the margin), ``expected_reach_pct``
     (mean probability of reaching), ``reach_p90_pct`` (probability ≥ 0.9), ``median_max_depth_m``,
     ``max_depth_min_m`` / ``max_depth_max_m`` (its range over the site),
     ``median_vertical_resolution_m`` (at the target, λ/4 at the received frequency) and ``recommended_pct``
@@ -269,6 +270,7 @@ def area_rows(maps: FeasibilityMaps, inside, fractions) -> list[dict]:
                 "scenario": sc.name, "antenna": a.name, "centre_frequency_mhz": a.centre_freq_hz / 1e6,
                 "reach_pct": 100 * float(fr["reach"][ai]),
                 "marginal_or_better_pct": 100 * float(fr["marginal_or_better"][ai]),
+                "too_shallow_pct": 100 * float(fr["too_shallow"][ai]),
                 "expected_reach_pct": 100 * float(fr["expected_reach"][ai]),
                 "reach_p90_pct": 100 * float(fr["reach_p90"][ai]),
                 "median_max_depth_m": float(np.median(md)),

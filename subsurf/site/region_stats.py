@@ -33,6 +33,7 @@ class RegionSummary:
     cells_with_data: int = 0
     reach: np.ndarray = field(default=None)
     reach_with_headroom: np.ndarray = field(default=None)
+    shallow: np.ndarray = field(default=None)  # cells where the target is inside each antenna's blind zone
     depth_sum: np.ndarray = field(default=None)
     recommended: np.ndarray = field(default=None)  # counts: index 0 = none reaches, i+1 = antenna i
     tiles: int = 0
@@ -43,6 +44,7 @@ class RegionSummary:
         n = len(self.antennas)
         self.reach = np.zeros(n, np.int64)
         self.reach_with_headroom = np.zeros(n, np.int64)
+        self.shallow = np.zeros(n, np.int64)
         self.depth_sum = np.zeros(n)
         self.recommended = np.zeros(n + 1, np.int64)
         self.filled = np.zeros(len(self.filled_names), np.int64)
@@ -57,6 +59,7 @@ class RegionSummary:
         self.reach += np.count_nonzero(reaches(margin, too_shallow=shallow, reaches_db=0.0) & valid, axis=(1, 2))
         self.reach_with_headroom += np.count_nonzero(reaches(margin, too_shallow=shallow, reaches_db=reaches_db)
                                                      & valid, axis=(1, 2))
+        self.shallow += np.count_nonzero(shallow & valid, axis=(1, 2)) if too_shallow is not None else 0
         self.depth_sum += np.where(valid, max_depth, 0.0).sum(axis=(1, 2))
         self.recommended += np.bincount(rec[valid].astype(np.int64) + 1, minlength=self.recommended.size)
         if used is not None:
@@ -75,6 +78,7 @@ class RegionSummary:
         n = max(self.cells_with_data, 1)
         return [{"antenna": a, "reach_fraction": self.reach[i] / n,
                  "reach_with_headroom_fraction": self.reach_with_headroom[i] / n,
+                 "too_shallow_fraction": self.shallow[i] / n,
                  "mean_max_depth_m": self.depth_sum[i] / n if self.cells_with_data else float("nan"),
                  "recommended_fraction": self.recommended[i + 1] / n}
                 for i, a in enumerate(self.antennas)]

@@ -179,3 +179,16 @@ def test_two_zone_report_zone_table_is_choose_per_zone(two_zones):
         verdicts = {r["antenna"]: r["verdict"] for r in c["rows"]}
         for a in z["antennas"]:
             assert a["worst_reach_pct"] == (100.0 if verdicts[a["antenna"]] == "reaches" else 0.0), (name, a)
+
+
+def test_two_zone_too_shallow_area_is_the_zone_share_where_choose_says_too_shallow(two_zones):
+    """Two uniform zones: the map's 'too shallow' area is the hand-counted share of the zones where `choose` says
+    'too shallow' (the target inside the blind zone), and 'margin >= 0 dB' never counts those cells."""
+    chosen, mapped, _ = two_zones
+    shallow = {z: {r["antenna"]: r["verdict"] == "too shallow" for r in c["rows"]} for z, c in chosen.items()}
+    assert any(any(v.values()) for v in shallow.values())  # the blind zone matters somewhere on this site
+    for row in mapped["summary"]:
+        a = row["antenna"]
+        expect = 100 * (DRY_SHARE * shallow["dry"][a] + DAMP_SHARE * shallow["damp"][a])
+        assert row["too_shallow_pct"] == pytest.approx(expect, abs=1e-9), a
+        assert row["marginal_or_better_pct"] <= 100 - row["too_shallow_pct"] + 1e-9, a

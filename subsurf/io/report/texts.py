@@ -86,7 +86,8 @@ def map_columns(reaches_db: float) -> tuple:
     return (
         ("scenario", "scenario", "s"), ("antenna", "antenna", "s"),
         ("reach_pct", f"area reached, margin ≥ {reaches_db:g} dB (%)", ".0f"),
-        ("marginal_or_better_pct", "area with margin ≥ 0 dB (%)", ".0f"),
+        ("marginal_or_better_pct", "area with margin ≥ 0 dB, below the blind zone (%)", ".0f"),
+        ("too_shallow_pct", "area where the target is inside the blind zone (%)", ".0f"),
         ("expected_reach_pct", f"mean probability of reaching (margin ≥ {reaches_db:g} dB) (%)", ".0f"),
         ("median_max_depth_m", "median max depth (m)", ".2f"),
         ("recommended_pct", "area where recommended (%)", ".0f"),
