@@ -316,10 +316,7 @@ def run(args) -> int:
                  f"of {', '.join(near)}; the far-field budget departs from a full-wave solution by more than 2 dB there.")
     pen = [r for r in result["rows"] if r.get("orientation_penalty_db") is not None]
     if pen and t.get("orientation", "parallel") == "parallel":
-        worst = max(pen, key=lambda r: r["orientation_penalty_db"])
-        text += (f"\nOrientation: assumes the antenna dipoles parallel to the pipe; across it the return is up to "
-                 f"{worst['orientation_penalty_db']:.1f} dB weaker ({worst['antenna']}); use --orientation unknown "
-                 "if the pipe direction is not known.")
+        text += _orientation_note(pen)
     if result["contrast"]["low_contrast"]:
         note = result["contrast"]["note"]
         text += f"\n{note[0].upper()}{note[1:]}."
@@ -331,3 +328,21 @@ def run(args) -> int:
     print_result(result, text, as_json=args.json)
     print_notes(notes, quiet=args.quiet or args.json)
     return 0
+
+
+def _orientation_note(rows) -> str:
+    """The line target's orientation note: how much weaker or stronger the return is with the dipoles across the
+    pipe, only where that changes it by at least 0.1 dB (``orientation_penalty_db`` > 0: parallel is stronger)."""
+    worst = max(rows, key=lambda r: r["orientation_penalty_db"])
+    best = min(rows, key=lambda r: r["orientation_penalty_db"])
+    parts = []
+    if worst["orientation_penalty_db"] >= 0.1:
+        parts.append(f"up to {worst['orientation_penalty_db']:.1f} dB weaker ({worst['antenna']})")
+    if best["orientation_penalty_db"] <= -0.1:
+        parts.append(f"up to {-best['orientation_penalty_db']:.1f} dB stronger ({best['antenna']})")
+    if not parts:
+        return ""
+    advice = ("use --orientation unknown if the pipe direction is not known" if worst["orientation_penalty_db"] >= 0.1
+              else "so the parallel assumption is the cautious one")
+    return ("\nOrientation: assumes the antenna dipoles parallel to the pipe; across it the return is "
+            + " and ".join(parts) + f"; {advice}.")
