@@ -92,5 +92,31 @@ def main(argv: list[str] | None = None) -> int:
     return run_guarded(build_parser, sys.argv[1:] if argv is None else list(argv), COMMANDS)
 
 
+def entry() -> None:
+    """The ``subsurf`` console command: :func:`main`, then a quick exit with its code.
+
+    Once the command has finished (every output committed, every file closed), the process ends
+    without tearing the interpreter down module by module: finalising the ~1,500 modules a map run
+    loads (xarray, matplotlib, the GDAL and netCDF bindings, scipy) took 0.6 s of a 4.5 s
+    ``subsurf map``.  The handlers registered with :mod:`atexit` (logging, temporary folders,
+    worker pools, weakref finalisers) still run first, then stdout and stderr are flushed.  Where
+    the interpreter lacks the hook to run them, the exit is the ordinary one.
+    """
+    import atexit
+    import os
+
+    code = main()
+    run_exit_handlers = getattr(atexit, "_run_exitfuncs", None)
+    if run_exit_handlers is None:  # pragma: no cover - CPython and PyPy have it
+        sys.exit(code)
+    run_exit_handlers()
+    for stream in (sys.stdout, sys.stderr):
+        try:
+            stream.flush()
+        except (OSError, ValueError):  # a closed pipe (| head) or a closed stream: nothing left to say
+            pass
+    os._exit(code)
+
+
 if __name__ == "__main__":  # pragma: no cover
-    sys.exit(main())
+    entry()

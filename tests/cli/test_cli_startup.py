@@ -42,3 +42,25 @@ def test_direct_medium_imports_numpy_but_no_heavy_library(args):
     assert "numpy" in names
     heavy = {n for n in names if n in HEAVY or n.split(".")[0] in HEAVY}
     assert not heavy, sorted(heavy)
+
+
+def test_console_entry_runs_exit_handlers_flushes_output_and_keeps_the_exit_code(tmp_path):
+    """The console entry ends the process without interpreter teardown (subsurf.cli.entry), so check from
+    outside, in a subprocess: a handler registered with atexit still runs, a large piped JSON result arrives
+    whole (json.loads of all of it), and the exit codes 0 and 1 reach the shell."""
+    import json
+
+    script = ("import atexit, sys\n"
+              "import subsurf.cli as cli\n"
+              "atexit.register(lambda: print('exit handler ran', file=sys.stderr))\n"
+              "sys.argv = ['subsurf', *sys.argv[1:]]\n"
+              "cli.entry()\n"
+              "raise SystemExit('entry returned')\n")
+    args = ["medium", "--eps", "9", "--sigma", "5 mS/m", "--json"]  # default frequencies: a long result
+    ok = subprocess.run([sys.executable, "-c", script, *args], capture_output=True, text=True, timeout=120)
+    assert ok.returncode == 0, ok.stderr[-2000:]
+    assert "exit handler ran" in ok.stderr and "entry returned" not in ok.stderr
+    assert len(ok.stdout) > 2000 and json.loads(ok.stdout)  # the whole result, flushed
+    bad = subprocess.run([sys.executable, "-m", "subsurf", "medium", "--eps", "900", "--sigma", "0.01"],
+                         capture_output=True, text=True, timeout=120)
+    assert bad.returncode == 1 and bad.stderr.count("\n") == 1 and "--eps" in bad.stderr

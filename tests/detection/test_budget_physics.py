@@ -207,6 +207,20 @@ def test_spectrum_bandwidth_is_half_power_width():
         assert float(D.power_spectrum(1.0, 1.0, frac)) == pytest.approx(1.0)
 
 
+@pytest.mark.parametrize("frac", [0.25, 0.5, 1.0, 1.5, 2.0])
+def test_band_weights_normalised_by_the_whole_spectrum_from_scipy_quad(frac):
+    """The band weights are normalised by ∫S(f)df over (0, ∞), computed in closed form with Γ;
+    scipy's adaptive quad of S agrees to 1e-9, and the weights (with (f/f_c)² taken out) hold the
+    share of the spectrum between the band edges that quad gives, within 0.1 dB (14 nodes)."""
+    c = D.band.spectrum_steepness(frac)
+    total = quad(lambda x: float(D.power_spectrum(x, 1.0, frac)), 0.0, np.inf, limit=400)[0]
+    assert D.band._total_power(c) == pytest.approx(total, rel=1e-9)
+    f, w = D.band_nodes(1.0, frac)
+    lo, hi = D.band._edges(c, D.LOW_EDGE_DB, D.HIGH_EDGE_DB)
+    inside = quad(lambda x: float(D.power_spectrum(x, 1.0, frac)), lo, hi, limit=400)[0]
+    assert 10 * np.log10(float(np.sum(w / f**2)) / (inside / total)) == pytest.approx(0.0, abs=0.1)
+
+
 @pytest.mark.parametrize("texture,moisture", [("sand", 0.05), ("loam", 0.2), ("clay", 0.3), ("loam", 0.35),
                                               ("sand", 0.15), ("clay", 0.15), ("clay_loam", 0.1), ("loamy_sand", 0.3)])
 def test_band_nodes_within_a_tenth_of_a_db_of_fine_quadrature(texture, moisture):
