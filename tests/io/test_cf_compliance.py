@@ -1,6 +1,6 @@
 """The map and region NetCDF files checked by readers we did not write: the CF checker (cfchecker, with
 UDUNITS-2), cf-units (UDUNITS-2), xarray, and GDAL (rasterio's netCDF driver); names selectable after a
-round trip through subsurf.open_map."""
+round trip through subsurf.open_map; GDAL band indices naming the bands through the label variables."""
 
 from __future__ import annotations
 
@@ -116,3 +116,28 @@ def test_gdal_reads_crs_units_and_nodata(files, which):
         assert set(r.units) == {"m"} and np.isnan(r.nodata)
         assert r.count % n_ant == 0
         assert r.tags(1)["long_name"].startswith("maximum detectable depth")
+
+
+@pytest.mark.parametrize("which", ["map", "region"])
+def test_gdal_band_indices_name_each_band(files, which):
+    """GDAL's netCDF driver labels each band with NETCDF_DIM_<dim>, here the 1-based index along the dimension
+    (no coordinate variable; GDAL netCDF driver docs, https://gdal.org/en/stable/drivers/raster/netcdf.html,
+    and tests/cli/test_cli_map_gdal.py for why no CF-valid encoding gives the names per band in GDAL 3.10):
+    the index looked up in the label variable names the band, whose pixels equal that slice read by netCDF4."""
+    rasterio = pytest.importorskip("rasterio")
+    with netCDF4.Dataset(files[which]) as nc:
+        var = nc["max_depth"]
+        extra = [d for d in var.dimensions if d not in ("y", "x")]
+        labels = {d: [str(s) for s in nc[f"{d}_name"][:]] for d in extra}
+        raw = np.ma.filled(var[:].astype(float), np.nan)
+        north_up = nc["y"][0] > nc["y"][-1]
+    assert "antenna" in extra
+    with rasterio.open(f"netcdf:{files[which]}:max_depth") as r:
+        assert r.count == int(np.prod([len(v) for v in labels.values()]))
+        named = set()
+        for b in range(1, r.count + 1):
+            idx = tuple(int(r.tags(b)[f"NETCDF_DIM_{d}"]) - 1 for d in extra)
+            named.add(tuple(labels[d][i] for d, i in zip(extra, idx)))
+            expect = raw[idx] if north_up else raw[idx][::-1]
+            np.testing.assert_array_equal(r.read(b).astype(float), expect)
+    assert len(named) == r.count  # every (scenario, antenna) named by exactly one band
