@@ -56,7 +56,7 @@ def summary_text(result: dict, out_dir) -> str:
         + ("." if th["reaches_margin_source"] == "default" else f" ({th['reaches_margin_source']})."),
         *([f"Depth range: {range_definition(t['depth_top_m'], t['depth_bottom_m'])}."] if "depth_top_m" in t else []),
         f"Reach probability: first-order where accurate, Monte Carlo ({mc['draws']} draws, seed "
-        f"{mc['seed']}) on " + ", ".join(f"{100 * f:.1f} %" for f in mc["sampled_fraction"].values())
+        f"{mc['seed']}) on " + ", ".join(f"{100 * f:.1f} % ({name})" for name, f in mc["sampled_fraction"].items())
         + f" of the cells; estimated error <= {mc['max_estimated_error']:.3f}.",
         f"Antennas: {result['inputs']['catalogue']['text']}.",
         f"Grid: {g['nx']} x {g['ny']} cells of {g['cell_size_m']:g} m in {g['crs_name']} "
