@@ -637,7 +637,9 @@ def map_schema() -> dict:
                                                               "png_scenarios", "png_inputs")},
                             "summary_csvw": text("the summary CSV's W3C CSV-on-the-Web metadata (columns, units, "
                                                  "caution)"),
-                            "summary_csvt": text("the summary CSV's field types for GDAL/OGR (.csvt)")},
+                            "summary_csvt": text("the summary CSV's field types for GDAL/OGR (.csvt)"),
+                            "netcdf_band_names": text("GDAL PAM sidecar (.aux.xml) naming the NetCDF's bands "
+                                                      "'scenario / antenna' for GDAL/QGIS")},
              "patternProperties": {"^png_antennas:.+$": text("the per-antenna depth map of one scenario (PNG)"),
                                    "^tif_(max_depth|margin_db|reach_probability)_.+$": text("a GeoTIFF layer")},
              "additionalProperties": False}

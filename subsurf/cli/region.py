@@ -235,6 +235,10 @@ def run(args) -> int:
         antennas = [get_antenna(n, catalogue) for n in args.antenna] if args.antenna else list(catalogue.values())
     txn = OutputTransaction("region", force=args.force)
     staged_map = txn.file(args.out) if args.out else None
+    if args.out:  # GDAL/QGIS band names beside the map (subsurf.io.gdal_pam); none for a one-antenna map
+        from ..io.gdal_pam import aux_xml_path
+
+        staged_names = txn.file(aux_xml_path(args.out), optional=len(antennas) < 2)
     staged_soil = txn.file(args.write_soil) if args.write_soil else None
     with txn, collect_warnings() as notes:  # both files appear at the end, or neither
         if args.synthetic:
@@ -273,7 +277,8 @@ def run(args) -> int:
                                       texture=args.texture, model=args.model, layers=layers,
                                       scheduler=args.scheduler, workers=args.workers, batch=args.batch,
                                       float64=args.float64, force=True, quiet=args.quiet or args.json,
-                                      expected_seconds=est.seconds, fill_gaps=fill, reaches_db=reaches_db))
+                                      expected_seconds=est.seconds, fill_gaps=fill, reaches_db=reaches_db,
+                                      band_names_path=staged_names))
             payload["outputs"]["map"] = str(args.out)
             payload["catalogue"] = choice.describe([a.name for a in antennas])
     if args.soil is not None:
@@ -348,6 +353,10 @@ def summary_text(payload: dict, args) -> str:
                      f"{payload['reach_definition']}; 'margin >= 0 dB' also counts marginal cells (below the blind "
                      f"zone); no antenna with margin >= 0 dB: {payload['no_antenna_marginal_or_better_pct']:.1f} %.")
         lines.append(f"Antennas: {payload['catalogue']['text']}.")
-        lines.append(f"Wrote {args.out}")
+        from pathlib import Path
+
+        named = Path(f"{args.out}.aux.xml").is_file()
+        lines.append(f"Wrote {args.out}" + (f" (band names for GDAL/QGIS in {Path(args.out).name}.aux.xml)"
+                                             if named else ""))
     lines.append(f"Caution: {CAUTION}")
     return "\n".join(lines)

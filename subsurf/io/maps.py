@@ -84,6 +84,7 @@ def output_paths(out_dir, survey, *, geotiff: bool) -> dict[str, Path]:
     """Output kind -> path of every file ``subsurf map`` writes for ``survey``."""
     out = Path(out_dir)
     paths = {"netcdf": out / NETCDF_NAME,
+             "netcdf_band_names": out / f"{NETCDF_NAME}.aux.xml",  # GDAL/QGIS band names (subsurf.io.gdal_pam)
              "summary_csv": out / f"{SUMMARY_STEM}.csv",
              **{f"summary_{k}": out / n for k, n in sidecar_names(f"{SUMMARY_STEM}.csv", coordinates=False).items()},
              "summary_md": out / f"{SUMMARY_STEM}.md",
@@ -256,6 +257,7 @@ def write_map_outputs(maps, out_dir, *, force: bool = False, geotiff: bool = Tru
     import json
 
     from . import figstyle
+    from .gdal_pam import band_names_xml
     from .netcdf import write_netcdf
     from .outputs import CAUTION, atomic_write_text, check_outputs_free, to_jsonable
 
@@ -267,6 +269,8 @@ def write_map_outputs(maps, out_dir, *, force: bool = False, geotiff: bool = Tru
     written: dict[str, Path] = {}
     write_netcdf(maps.dataset, paths["netcdf"], force=force, attrs=_netcdf_attrs(survey, maps.calibration))
     written["netcdf"] = paths["netcdf"]
+    written["netcdf_band_names"] = atomic_write_text(paths["netcdf_band_names"], band_names_xml(maps.dataset),
+                                                     force=force)
     by_path = {p: k for k, p in paths.items()}
     for path, content in summary_csv_files(rows, paths["summary_csv"], survey, maps.calibration).items():
         written[by_path[path]] = atomic_write_text(path, content, force=force)

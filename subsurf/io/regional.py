@@ -17,7 +17,7 @@ __all__ = ["write_region", "write_soil", "map_region"]
 
 
 def write_region(result, path, *, force: bool = False, batch: int = 4, dtype: str = "float32",
-                 complevel: int = 1, progress=None, caution: str | None = None):
+                 complevel: int = 1, progress=None, caution: str | None = None, band_names_path=None):
     """Compute ``result`` (from :func:`subsurf.site.regional.feasibility_region`) tile by tile and write it.
 
     Parameters
@@ -38,6 +38,9 @@ def write_region(result, path, *, force: bool = False, batch: int = 4, dtype: st
         Called with (tiles done, tiles total) after each batch.
     caution : str, optional
         Safety text stored as a global attribute.
+    band_names_path : path-like, optional
+        Where to write the GDAL band-name sidecar (:mod:`subsurf.io.gdal_pam`); not written when
+        every layer has one band (one antenna).
 
     Returns
     -------
@@ -74,6 +77,13 @@ def write_region(result, path, *, force: bool = False, batch: int = 4, dtype: st
         attrs["caution"] = caution
     write_netcdf(result, path, force=force, attrs=attrs, dtype=dtype, complevel=complevel, batch=batch,
                  progress=progress, on_tile=on_tile)
+    if band_names_path is not None:
+        from .gdal_pam import band_names_xml
+        from .outputs import atomic_write_text
+
+        xml = band_names_xml(result)
+        if xml is not None:
+            atomic_write_text(band_names_path, xml, force=force)
     return summary
 
 
@@ -131,7 +141,7 @@ def map_region(soil, antennas, out, *, target, target_depth_m: float, texture: s
                scheduler: str | None = "threads", workers: int | None = None, batch: int | None = None,
                float64: bool = False, force: bool = False, quiet: bool = False,
                expected_seconds: float = 0.0, fill_gaps: dict | None = None,
-               reaches_db: float | None = None) -> dict:
+               reaches_db: float | None = None, band_names_path=None) -> dict:
     """Evaluate and write the regional map of ``soil`` to ``out``; return what the command reports.
 
     Progress: a bar of tiles on a terminal; without one, a line per tenth of the tiles with
@@ -166,7 +176,8 @@ def map_region(soil, antennas, out, *, target, target_depth_m: float, texture: s
         with regional.scheduler(scheduler, workers=workers) as sched:
             batch = batch or 2 * sched["slots"]
             summary = write_region(result, out, force=force, batch=batch,
-                                   dtype="float64" if float64 else "float32", progress=progress, caution=CAUTION)
+                                   dtype="float64" if float64 else "float32", progress=progress, caution=CAUTION,
+                                   band_names_path=band_names_path)
     finally:
         close()
     seconds = time.perf_counter() - t1

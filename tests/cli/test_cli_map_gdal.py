@@ -15,11 +15,13 @@ cannot be shown per band with a CF-valid encoding (measured with GDAL 3.10.3):
   but every band's ``NETCDF_DIM_antenna`` is the empty string (the index is lost too);
 - an integer coordinate variable with ``flag_values``/``flag_meanings``: the integers only.
 
-Band descriptions stay empty in every case.  So the file keeps its char-array labels and
-GDAL's per-band indices, and these tests check that those indices, looked up in the
-file's own label variables, give the band GDAL reads for each (scenario, antenna) — the
-mapping a GIS user relies on — and that every layer is georeferenced like the GeoTIFFs
-(which carry the names in their file names and dataset tags ``scenario``, ``antenna``).
+Band descriptions stay empty in every case from the NetCDF alone.  So the file keeps its
+char-array labels and GDAL's per-band indices, and the names reach GDAL (and QGIS) through
+GDAL's own PAM sidecar ``feasibility.nc.aux.xml`` (subsurf.io.gdal_pam), read for each
+sub-dataset.  These tests check that GDAL's per-band indices, looked up in the file's own
+label variables, give the band GDAL reads for each (scenario, antenna) and the description
+GDAL shows for it; and that every layer is georeferenced like the GeoTIFFs (which carry the
+names in their file names and dataset tags ``scenario``, ``antenna``).
 """
 
 from __future__ import annotations
@@ -65,6 +67,7 @@ def test_gdal_bands_map_to_names_and_geotiffs(mapped, layer):
             s = scenarios[int(tags["NETCDF_DIM_scenario"]) - 1]
             a = antennas[int(tags["NETCDF_DIM_antenna"]) - 1]
             seen.add((s, a))
+            assert src.descriptions[b - 1] == f"{s} / {a}"  # from the PAM sidecar, as GDAL reads it
             tif = mapped / "geotiff" / f"{layer}__{s}__{a}.tif"
             with rasterio.open(tif) as t:
                 assert t.tags()["scenario"] == s and t.tags()["antenna"] == a
@@ -92,3 +95,25 @@ def test_every_gdal_subdataset_is_georeferenced(mapped):
         with rasterio.open(sub) as src:
             assert src.crs == crs, sub
             assert src.transform.almost_equals(transform), sub
+
+
+def test_region_bands_named_in_gdal_and_one_antenna_writes_no_sidecar(tmp_path):
+    """The region map names its antenna bands through the same sidecar; a one-antenna map has one band per
+    layer and no sidecar."""
+    out = tmp_path / "r.nc"
+    proc = subprocess.run([sys.executable, "-m", "subsurf", "region", "--synthetic", "30x20", "--target", "planar",
+                           "--depth", "1.5", "--out", str(out), "--antenna", "midband-500", "--antenna", "lowband-100"],
+                          capture_output=True, text=True, timeout=300)
+    assert proc.returncode == 0, proc.stderr
+    assert (tmp_path / "r.nc.aux.xml").is_file()
+    antennas = _labels(out, "antenna")
+    with rasterio.open(f"netcdf:{out}:max_depth") as src:
+        assert sorted(antennas) == ["lowband-100", "midband-500"]
+        for b in range(1, src.count + 1):
+            assert src.descriptions[b - 1] == antennas[int(src.tags(b)["NETCDF_DIM_antenna"]) - 1]
+    one = tmp_path / "one.nc"
+    proc = subprocess.run([sys.executable, "-m", "subsurf", "region", "--synthetic", "30x20", "--target", "planar",
+                           "--depth", "1.5", "--out", str(one), "--antenna", "midband-500"],
+                          capture_output=True, text=True, timeout=300)
+    assert proc.returncode == 0, proc.stderr
+    assert one.is_file() and not (tmp_path / "one.nc.aux.xml").exists()
