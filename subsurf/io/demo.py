@@ -22,6 +22,7 @@ DESCRIPTIONS = {
     "time_to_depth.csv": "two-way time to depth table with its 5-95 % band (field reference)",
     "ground_properties.csv": "the site-median ground's radar properties by frequency",
     "maps/feasibility.nc": "feasibility layers as CF NetCDF (GIS-ready)",
+    "maps/feasibility.nc.aux.xml": "band names of that NetCDF for GDAL/QGIS",
     "maps/map_antennas__*.png": "maximum depth map per antenna, one per scenario",
     "maps/map_scenarios.png": "scenario comparison map",
     "maps/map_soil_inputs.png": "soil inputs on the survey grid",

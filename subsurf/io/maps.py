@@ -27,7 +27,7 @@ FIGURES = {"scenarios": "map_scenarios.png", "inputs": "map_soil_inputs.png"}
 ANTENNA_FIGURE = "map_antennas__{tag}.png"
 GEOTIFF_LAYERS = ("max_depth", "margin_db", "reach_probability")
 #: glob patterns of every file a map folder holds (an earlier output is recognised by them)
-OWN_FILES = (NETCDF_NAME, f"{SUMMARY_STEM}.*", "map_*.png", "geotiff/*.tif")
+OWN_FILES = (NETCDF_NAME, f"{NETCDF_NAME}.aux.xml", f"{SUMMARY_STEM}.*", "map_*.png", "geotiff/*.tif")
 
 def summary_columns(reaches_db: float = REACHES_MARGIN_DB) -> tuple:
     """Summary columns for the reach threshold ``reaches_db``: row key, header, unit, number format ("s": text)."""
