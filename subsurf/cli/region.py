@@ -235,10 +235,10 @@ def run(args) -> int:
         antennas = [get_antenna(n, catalogue) for n in args.antenna] if args.antenna else list(catalogue.values())
     txn = OutputTransaction("region", force=args.force)
     staged_map = txn.file(args.out) if args.out else None
-    if args.out:  # GDAL/QGIS band names beside the map (subsurf.io.gdal_pam); none for a one-antenna map
+    if args.out:  # GDAL/QGIS band names beside the map (subsurf.io.gdal_pam)
         from ..io.gdal_pam import aux_xml_path
 
-        staged_names = txn.file(aux_xml_path(args.out), optional=len(antennas) < 2)
+        staged_names = txn.file(aux_xml_path(args.out))
     staged_soil = txn.file(args.write_soil) if args.write_soil else None
     with txn, collect_warnings() as notes:  # both files appear at the end, or neither
         if args.synthetic:

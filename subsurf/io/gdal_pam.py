@@ -34,17 +34,15 @@ def _labels(ds, dim: str) -> list[str]:
 
 
 def band_names_xml(ds) -> str | None:
-    """The PAM XML naming every band of every layer of ``ds`` that ends with (y, x) and has more
-    than one band; None when there is none."""
+    """The PAM XML naming every band of every layer of ``ds`` that has dimensions before (y, x);
+    None when no layer has."""
     sections = []
     for name, var in ds.data_vars.items():
         dims = list(var.dims)
         if dims[-2:] != ["y", "x"] or len(dims) < 3:
             continue
         extra = dims[:-2]
-        combos = list(itertools.product(*(_labels(ds, d) for d in extra)))
-        if len(combos) < 2:
-            continue
+        combos = list(itertools.product(*(_labels(ds, d) for d in extra)))  # one band (one antenna) named too
         bands = "".join(f'      <PAMRasterBand band="{i}">\n        <Description>{escape(" / ".join(c))}'
                         f"</Description>\n      </PAMRasterBand>\n" for i, c in enumerate(combos, start=1))
         sections.append(f'  <Subdataset name="{escape(str(name))}">\n    <PAMDataset>\n{bands}'

@@ -39,8 +39,7 @@ def write_region(result, path, *, force: bool = False, batch: int = 4, dtype: st
     caution : str, optional
         Safety text stored as a global attribute.
     band_names_path : path-like, optional
-        Where to write the GDAL band-name sidecar (:mod:`subsurf.io.gdal_pam`); not written when
-        every layer has one band (one antenna).
+        Where to write the GDAL band-name sidecar (:mod:`subsurf.io.gdal_pam`).
 
     Returns
     -------
@@ -81,9 +80,7 @@ def write_region(result, path, *, force: bool = False, batch: int = 4, dtype: st
         from .gdal_pam import band_names_xml
         from .outputs import atomic_write_text
 
-        xml = band_names_xml(result)
-        if xml is not None:
-            atomic_write_text(band_names_path, xml, force=force)
+        atomic_write_text(band_names_path, band_names_xml(result) or "<PAMDataset>\n</PAMDataset>\n", force=force)
     return summary
 
 
