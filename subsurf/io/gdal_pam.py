@@ -15,7 +15,7 @@ unchanged; xarray and CF readers ignore the sidecar.
 from __future__ import annotations
 
 import itertools
-from xml.sax.saxutils import escape
+from xml.sax.saxutils import escape, quoteattr
 
 __all__ = ["band_names_xml", "aux_xml_path"]
 
@@ -33,9 +33,9 @@ def _labels(ds, dim: str) -> list[str]:
     return [str(v) if dim in ds.coords and ds[dim].dtype.kind in "OUS" else f"{dim} {v}" for v in values]
 
 
-def band_names_xml(ds) -> str | None:
-    """The PAM XML naming every band of every layer of ``ds`` that has dimensions before (y, x);
-    None when no layer has."""
+def band_names_xml(ds) -> str:
+    """The PAM XML naming every band of every layer of ``ds`` that has dimensions before (y, x)
+    (an empty document when no layer has)."""
     sections = []
     for name, var in ds.data_vars.items():
         dims = list(var.dims)
@@ -45,6 +45,6 @@ def band_names_xml(ds) -> str | None:
         combos = list(itertools.product(*(_labels(ds, d) for d in extra)))  # one band (one antenna) named too
         bands = "".join(f'      <PAMRasterBand band="{i}">\n        <Description>{escape(" / ".join(c))}'
                         f"</Description>\n      </PAMRasterBand>\n" for i, c in enumerate(combos, start=1))
-        sections.append(f'  <Subdataset name="{escape(str(name))}">\n    <PAMDataset>\n{bands}'
+        sections.append(f'  <Subdataset name={quoteattr(str(name))}>\n    <PAMDataset>\n{bands}'
                         f"    </PAMDataset>\n  </Subdataset>\n")
-    return f"<PAMDataset>\n{''.join(sections)}</PAMDataset>\n" if sections else None
+    return f"<PAMDataset>\n{''.join(sections)}</PAMDataset>\n"

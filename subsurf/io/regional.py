@@ -80,7 +80,7 @@ def write_region(result, path, *, force: bool = False, batch: int = 4, dtype: st
         from .gdal_pam import band_names_xml
         from .outputs import atomic_write_text
 
-        atomic_write_text(band_names_path, band_names_xml(result) or "<PAMDataset>\n</PAMDataset>\n", force=force)
+        atomic_write_text(band_names_path, band_names_xml(result), force=force)
     return summary
 
 
