@@ -66,12 +66,16 @@ def have_rioxarray() -> bool:
 def scenario_tags(names) -> dict[str, str]:
     """Scenario name -> the part of a file name that names it (letters, digits, '-', '.', '_'; unique).
 
-    Other characters (spaces, slashes ...) become '_'; a tag that two names would share gets the
-    scenario's position appended, so every scenario keeps a file of its own.
+    Accented letters lose their accents ('wét' -> 'wet': Unicode NFKD, combining marks dropped), so
+    file names stay ASCII for every file system, zip tool and GIS; other characters (spaces,
+    slashes, letters without an ASCII base ...) become '_'.  A tag that two names would share gets
+    the scenario's position appended, so every scenario keeps a file of its own.
     """
     import re
+    import unicodedata
 
-    raw = [re.sub(r"[^A-Za-z0-9._-]+", "_", n).strip("._") or "scenario" for n in names]
+    folded = ["".join(c for c in unicodedata.normalize("NFKD", n) if not unicodedata.combining(c)) for n in names]
+    raw = [re.sub(r"[^A-Za-z0-9._-]+", "_", n).strip("._") or "scenario" for n in folded]
     return {n: (t if raw.count(t) == 1 else f"{t}_{i + 1}") for i, (n, t) in enumerate(zip(names, raw))}
 
 

@@ -175,7 +175,6 @@ def limit_read_chunk_cache(path, tile: int) -> dict:
 
 def _define(nc, ds, *, dtype, complevel: int, tile):
     """Create dimensions and variables of ``ds`` in the open netCDF4 Dataset ``nc``; write what is in memory."""
-    import netCDF4
 
     labels = {d: label_name(d) for d in ds.dims if d in ds.coords and _is_text(ds[d].values)}
     for d, n in ds.sizes.items():
@@ -192,7 +191,9 @@ def _define(nc, ds, *, dtype, complevel: int, tile):
             nc.createDimension(strlen, width)
             v = nc.createVariable(labels[c], "S1", (c, strlen))
             v.set_auto_chartostring(False)
-            v[:] = netCDF4.stringtochar(np.array(text, dtype=f"S{width}"))
+            # the UTF-8 bytes, NUL-padded to the longest, one byte per char (CF 1.8 2.2: char holds UTF-8
+            # text); netCDF4.stringtochar decodes its input as ASCII and refuses 'wét'
+            v[:] = np.array(text, dtype=f"S{width}")[:, None].view("S1")
             v.setncatts({**{k: _attr_value(a) for k, a in cda.attrs.items()}, "_Encoding": "utf-8"})
             continue
         v = nc.createVariable(c, _storage_dtype(cda, None), cda.dims, fill_value=False)

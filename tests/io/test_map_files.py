@@ -28,3 +28,11 @@ def test_one_depth_map_per_scenario(tmp_path):
     paths = output_paths(tmp_path, survey, geotiff=False)
     names = [p.name for k, p in paths.items() if k.startswith("png_antennas")]
     assert names == ["map_antennas__spring.png", "map_antennas__summer.png", "map_antennas__winter.png"]
+
+
+def test_tags_fold_accents_to_ascii():
+    """Accented names give ASCII file names ('wét' -> 'wet'); 'wet' beside 'wét' still gets a file of its own."""
+    assert scenario_tags(["dry", "wét"]) == {"dry": "dry", "wét": "wet"}
+    tags = scenario_tags(["wet", "wét", "über/nass"])
+    assert len(set(tags.values())) == 3 and all(t.isascii() for t in tags.values())
+    assert tags["über/nass"] == "uber_nass"
