@@ -3,9 +3,10 @@
     python docs/schemas/make_schemas.py            # rewrite docs/schemas/<command>.schema.json
     python docs/schemas/make_schemas.py --check    # exit 1 if a stored schema differs
 
-One schema per command (``subsurf <command> --json``).  Every key carries its unit in
-its name (``_m``, ``_m_per_ns``, ``_ms_per_m``, ``_db``, ``_pct``, ``_ns`` …) and says it
-again in its description; objects refuse keys they do not declare
+One schema per command (``subsurf <command> --json``), and one per file format that is not a
+command's output (:data:`FILE_SCHEMAS`: the folder manifest ``subsurf-manifest.json``).  Every
+key carries its unit in its name (``_m``, ``_m_per_ns``, ``_ms_per_m``, ``_db``, ``_pct``,
+``_ns`` …) and says it again in its description; objects refuse keys they do not declare
 (``additionalProperties: false``), so an output that drifts from this file fails
 ``tests/cli/test_json_schemas.py``, which validates real runs against these files.
 """
@@ -786,6 +787,28 @@ def calibrate_schema() -> dict:
     }, "subsurf calibrate --json: the site-calibration record (as written by --out)", optional=("written",))
 
 
+def manifest_schema() -> dict:
+    """The manifest of a folder output (subsurf/io/manifest.py), a file rather than a --json output."""
+    entry = obj({"path": text("file, relative to the folder, '/'-separated"),
+                 "bytes": integer("size as subsurf wrote it (bytes)", minimum=0),
+                 "sha256": {**text("SHA-256 of the file as subsurf wrote it (hex)"), "pattern": "^[0-9a-f]{64}$"},
+                 "rewritable": {"const": True, "description": "other software rewrites this file in place "
+                                "(a GDAL PAM sidecar, *.aux.xml, gains statistics): only its presence is checked, "
+                                "not bytes and sha256"}},
+                "one file of the folder", optional=("rewritable",))
+    return obj({"format": {"const": "subsurf-output-manifest", "description": "what this file is"},
+                "version": {"const": 1, "description": "manifest layout version"},
+                "command": text("the subcommand that wrote the folder"),
+                "transaction": text("the run's transaction id"),
+                "subsurf_version": text("subsurf version that wrote the folder"),
+                "created_utc": {**text("when the manifest was written (UTC, ISO 8601)"), "format": "date-time"},
+                "files": array(entry, "every file of the folder but the manifest, sorted by path")},
+               "subsurf-manifest.json: what a complete folder output (map, demo, report --maps-out) holds")
+
+
+#: schemas of files subsurf writes that are not a command's --json output: name -> (builder, title)
+FILE_SCHEMAS = {"manifest": (manifest_schema, "subsurf-manifest.json (folder outputs)")}
+
 BUILDERS = {"medium": medium_schema, "choose": choose_schema, "setup": setup_schema, "depth": depth_schema,
             "velocity": velocity_schema, "calibrate": calibrate_schema, "map": map_schema, "region": region_schema,
             "report": report_schema, "demo": demo_schema}
@@ -798,6 +821,8 @@ def schemas() -> dict[str, dict]:
         s = build()
         out[name] = {"$schema": DRAFT, "$id": f"{BASE_ID}{name}.schema.json",
                      "title": f"subsurf {name} --json", **s}
+    for name, (build, title) in FILE_SCHEMAS.items():
+        out[name] = {"$schema": DRAFT, "$id": f"{BASE_ID}{name}.schema.json", "title": title, **build()}
     return out
 
 

@@ -70,6 +70,8 @@ CASES = {
     "calibrate": ("calibrate", ("calibrate", "{tmp}/cal/fictional_test_line.nc", "--antenna", "midband-250",
                                 "--velocity", "0.1", "--out", "{tmp}/cal/cal.json")),
 }
+#: schemas of files that are not a command's --json output (make_schemas.py FILE_SCHEMAS)
+FILES = {"manifest"}
 NEEDS = {"region": "dask", "calibrate": "segyio", "choose-calibrated": "segyio", "map-calibrated": "segyio",
          "report-calibrated": "segyio"}  # optional extras: the case is skipped without them
 
@@ -121,6 +123,21 @@ def test_output_validates_against_its_schema(case, outputs):
     assert not errors, "\n".join(f"{'/'.join(map(str, e.absolute_path))}: {e.message}" for e in errors[:10])
 
 
+@pytest.mark.parametrize("case", ["map", "demo"])
+def test_folder_manifest_validates_against_its_schema(case, outputs, workdir, request):
+    """The manifest of a real map and demo folder validates; the GDAL PAM sidecar is the one rewritable file."""
+    from subsurf.io.manifest import MANIFEST_NAME
+
+    outputs(case)
+    folder = request.getfixturevalue("demo_json")[1] if case == "demo" else workdir[0] / "maps"
+    doc = json.loads((folder / MANIFEST_NAME).read_text(encoding="utf-8"))
+    validator = jsonschema.Draft202012Validator(schema("manifest"), format_checker=jsonschema.FormatChecker())
+    errors = sorted(validator.iter_errors(doc), key=lambda e: list(e.absolute_path))
+    assert not errors, "\n".join(f"{'/'.join(map(str, e.absolute_path))}: {e.message}" for e in errors[:10])
+    assert [e["path"] for e in doc["files"] if e.get("rewritable")] == [
+        "maps/feasibility.nc.aux.xml" if case == "demo" else "feasibility.nc.aux.xml"]
+
+
 def test_schema_refuses_a_key_it_does_not_declare(outputs):
     """additionalProperties false works: an extra or renamed key in a real output fails validation."""
     out = dict(outputs("medium-soil"))
@@ -129,12 +146,12 @@ def test_schema_refuses_a_key_it_does_not_declare(outputs):
 
 
 def test_every_command_has_a_valid_schema_and_a_case():
-    """One schema per subcommand, each a valid draft 2020-12 schema, each exercised by a case above."""
+    """One schema per subcommand (and per file format), each a valid draft 2020-12 schema, each exercised."""
     from subsurf.cli import COMMANDS
 
-    assert {p.name.removesuffix(".schema.json") for p in SCHEMAS.glob("*.schema.json")} == set(COMMANDS)
+    assert {p.name.removesuffix(".schema.json") for p in SCHEMAS.glob("*.schema.json")} == set(COMMANDS) | FILES
     assert {c for c, _ in CASES.values()} == set(COMMANDS)
-    for name in COMMANDS:
+    for name in [*COMMANDS, *FILES]:
         s = schema(name)
         assert s["$schema"] == "https://json-schema.org/draft/2020-12/schema"
         jsonschema.Draft202012Validator.check_schema(s)
@@ -159,7 +176,8 @@ DIMENSIONLESS = {"eps_real", "eps_imag", "loss_tangent", "permittivity", "stacks
                  "max_estimated_error", "archie_a", "archie_m", "archie_n", "eps_solid", "stone_eps", "interface_n",
                  "interface_chi_per_bound_water", "stone_size_sd_log", "covariance", "ns", "db", "m_per_ns",
                  "se_ns", "se_m", "se_db", "se_m_per_ns", "se_db_per_m", "sampled_fraction", "dropped_traces", "q_star_se",
-                 "reflection_magnitude", "host_eps_real", "target_eps_real", "low_contrast_limit", "lines"}
+                 "reflection_magnitude", "host_eps_real", "target_eps_real", "low_contrast_limit", "lines",
+                 "bytes"}  # the manifest's file size: the unit is the whole name
 
 
 #: the report's calibration comparison: a table of different quantities, each row's unit in its "unit" key
