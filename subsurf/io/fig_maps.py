@@ -35,7 +35,9 @@ def _figure(n_panels: int, *, ncols: int | None = None, panel_w: float = 4.2, pa
     if aspect is not None:  # height/width of the site: size panels to the map
         # the map itself is narrower than the panel (tick labels, axis label take ~1.1 in)
         panel_h = min(max((panel_w - 1.1) * aspect, 1.6), 6.0) + 0.45
-    fig = new_figure(panel_w * ncols + 0.6, panel_h * nrows + extra_h)
+    from .figlayout import PanelGridLayout
+
+    fig = new_figure(panel_w * ncols + 0.6, panel_h * nrows + extra_h, layout=PanelGridLayout())
     axes = fig.subplots(nrows, ncols, squeeze=False, sharex=True, sharey=True)
     for ax in axes.ravel()[n_panels:]:
         ax.set_visible(False)
@@ -350,6 +352,7 @@ def inputs_figure(grid, soil, *, outline, samples, crs_name: str, quantities=("m
                      outline=outline)
         long_name = soil[q].attrs.get("long_name", q.replace("_", " "))
         bar = fig.colorbar(mesh, ax=ax, location="bottom", shrink=0.9, aspect=30, pad=0.02)
+        fig.get_layout_engine().add_colorbar(ax, bar, shrink=0.9)
         bar.set_label(_input_label(q, long_name, unit), fontsize=SIZES["map_label"])
         bar.ax.tick_params(labelsize=SIZES["map_tick"])
         ax.set_title(_wrap_title(long_name, ax), fontsize=SIZES["title"])

@@ -148,11 +148,13 @@ def _settle_layout(fig, *, passes: int = 4, tol: float = 2e-3) -> None:
     import numpy as np
     from matplotlib.layout_engine import PlaceHolderLayoutEngine
 
+    from .figlayout import PanelGridLayout
+
     engine = fig.get_layout_engine()
     if engine is None or isinstance(engine, PlaceHolderLayoutEngine):
         return
     before = None
-    for _ in range(passes):
+    for _ in range(1 if isinstance(engine, PanelGridLayout) else passes):  # decided in one run
         engine.execute(fig)
         now = np.array([ax.get_position().bounds for ax in fig.axes]) if fig.axes else np.zeros((0, 4))
         if before is not None and before.shape == now.shape and np.allclose(before, now, atol=tol):
