@@ -28,6 +28,7 @@ def run(args) -> int:
     from pathlib import Path
 
     from ..io.demo import DESCRIPTIONS, OWN_FILES, run_demo
+    from ..io.gdal_pam import GDAL_SIDECARS
     from ..io.outputs import print_notes, print_result
     from ..io.transaction import OutputTransaction
     from ._reach import reach_margin_from_args
@@ -37,7 +38,7 @@ def run(args) -> int:
     # the folder is staged and moved into place whole, with its manifest; an existing folder holding
     # files the demo does not write is never replaced, not even with --force
     txn = OutputTransaction("demo", force=args.force, expected_bytes=5e6)
-    staged = txn.folder(args.out, own=OWN_FILES, foreign_ok=False)
+    staged = txn.folder(args.out, own=OWN_FILES, foreign_ok=False, sidecars=GDAL_SIDECARS)
     with txn:
         result = run_demo(staged, force=True, quiet=args.quiet or args.json, public_dir=args.out,
                           reach_margin_db=reach_margin)

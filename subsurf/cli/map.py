@@ -67,6 +67,7 @@ def summary_text(result: dict, out_dir) -> str:
 
 
 def run(args) -> int:
+    from ..io.gdal_pam import GDAL_SIDECARS
     from ..io.maps import OWN_FILES, run_map
     from ..io.outputs import CAUTION, collect_warnings, print_notes, print_result
     from ..io.preflight import map_output_bytes
@@ -75,7 +76,7 @@ def run(args) -> int:
 
     reach_margin = reach_margin_from_args(args)
     txn = OutputTransaction("map", force=args.force)
-    staged = txn.folder(args.out, own=OWN_FILES)
+    staged = txn.folder(args.out, own=OWN_FILES, sidecars=GDAL_SIDECARS)  # GDAL's statistics files are ours
 
     def preflight(survey, geotiff):  # free space for the outputs, before any computation
         from ..site.grid import build_grid

@@ -81,6 +81,7 @@ REPORT_BYTES, MAPS_BYTES = 2e6, 3e6
 def run(args) -> int:
     from pathlib import Path
 
+    from ..io.gdal_pam import GDAL_SIDECARS
     from ..io.maps import OWN_FILES
     from ..io.outputs import print_notes, print_result
     from ..io.report import make_report
@@ -92,7 +93,7 @@ def run(args) -> int:
     keep_maps = bool(args.maps_out) and not args.no_maps
     txn = OutputTransaction("report", force=args.force, expected_bytes=REPORT_BYTES + MAPS_BYTES * keep_maps)
     html = txn.file(out)
-    maps_dir = txn.folder(args.maps_out, own=OWN_FILES) if keep_maps else None
+    maps_dir = txn.folder(args.maps_out, own=OWN_FILES, sidecars=GDAL_SIDECARS) if keep_maps else None
     from ..io.outputs import collect_warnings
 
     # model warnings of the map run (e.g. a calibration's band extrapolated) become note: lines

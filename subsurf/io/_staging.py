@@ -10,6 +10,7 @@ import contextlib
 import ctypes
 import errno
 import fcntl
+import fnmatch
 import json
 import os
 import shutil
@@ -159,6 +160,10 @@ def undo(journal: dict, stage: Path) -> int:
                 if not (staged / rel).exists() and os.path.lexists(d):
                     os.replace(b, d) if b.exists() else os.unlink(d)
                     undone += 1
+            for rel in m.get("stale", []):  # sidecars removed beside replaced files: back
+                if os.path.lexists(backup / rel) and not os.path.lexists(dest / rel):
+                    os.replace(backup / rel, dest / rel)
+                    undone += 1
         elif m["kind"] == "file":
             if staged.exists() or not os.path.lexists(dest):
                 continue  # not moved yet
@@ -252,3 +257,39 @@ def merge_one(staged: Path, dest: Path, rel: str, backup: Path, undo: list) -> N
     else:
         os.rename(src, dst)
         undo.append(lambda: os.unlink(dst))
+
+
+def is_own(rel: str, own, sidecars=()) -> bool:
+    """Whether ``rel`` is one of a folder output's own files: it matches an ``own`` glob pattern, or it
+    is what other software writes beside one of them (an own file's name + one of the ``sidecars`` suffixes,
+    e.g. GDAL's ``max_depth__dry__midband-500.tif.aux.xml``)."""
+    if any(fnmatch.fnmatchcase(rel, p) for p in own):
+        return True
+    return any(rel.endswith(s) and any(fnmatch.fnmatchcase(rel[:-len(s)], p) for p in own) for s in sidecars)
+
+
+def stale_sidecars(dest: Path, written, sidecars) -> list[str]:
+    """Sidecars in ``dest`` of the files ``written`` anew (relative paths) that are not written anew
+    themselves: they describe the earlier files (GDAL statistics of old pixels), so they go."""
+    new = set(written)
+    return sorted(f"{rel}{s}" for rel in new for s in sidecars
+                  if f"{rel}{s}" not in new and os.path.lexists(dest / f"{rel}{s}"))
+
+
+def remove_one(dest: Path, rel: str, backup: Path, undo: list) -> None:
+    """Remove ``dest/rel``, kept as a hard link in ``backup`` until the commit ends (undoably)."""
+    d, b = dest / rel, backup / rel
+    b.parent.mkdir(parents=True, exist_ok=True)
+    os.link(d, b, follow_symlinks=False)
+    os.unlink(d)
+    undo.append(lambda: os.replace(b, d))
+
+
+def disk_full(parents) -> bool:
+    """True if one of the folders' file systems is (nearly) full, e.g. after a library's own write error."""
+    for parent in parents:
+        with contextlib.suppress(OSError):
+            st = os.statvfs(parent)
+            if st.f_bavail * st.f_frsize < 256 * 1024:
+                return True
+    return False

@@ -8,6 +8,8 @@ The example is a fictional site with invented data.
 
 from __future__ import annotations
 
+from .maps import OWN_FILES as MAP_FILES
+
 __all__ = ["DEFAULT_OUT", "DESCRIPTIONS", "OWN_FILES", "example_survey_path", "run_demo"]
 
 #: default output folder
@@ -35,8 +37,8 @@ DESCRIPTIONS = {
 }
 
 
-#: glob patterns of every file a demo folder holds
-OWN_FILES = (*DESCRIPTIONS, "maps/geotiff/*.tif")
+#: glob patterns of every file a demo folder holds (the map's GeoTIFFs by their layer names)
+OWN_FILES = (*DESCRIPTIONS, *(f"maps/{pattern}" for pattern in MAP_FILES if pattern.startswith("geotiff/")))
 
 
 def example_survey_path():
@@ -55,9 +57,9 @@ def example_survey_path():
 
 def _foreign_files(folder) -> list[str]:
     """Files and folders under ``folder`` that a demo run does not write (so --force must not delete them)."""
-    import fnmatch
+    from ._staging import is_own
+    from .gdal_pam import GDAL_SIDECARS
 
-    own = set(DESCRIPTIONS) | {"maps/geotiff/*.tif"}
     own_dirs = {"maps", "maps/geotiff"}
     found = []
     for p in sorted(folder.rglob("*")):
@@ -65,7 +67,7 @@ def _foreign_files(folder) -> list[str]:
         if p.is_dir() and not p.is_symlink():
             if rel not in own_dirs:
                 found.append(rel + "/")
-        elif not any(fnmatch.fnmatchcase(rel, pat) for pat in own):
+        elif not is_own(rel, OWN_FILES, GDAL_SIDECARS):
             found.append(rel)
     return found
 

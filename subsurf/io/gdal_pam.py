@@ -17,7 +17,12 @@ from __future__ import annotations
 import itertools
 from xml.sax.saxutils import escape, quoteattr
 
-__all__ = ["band_names_xml", "aux_xml_path"]
+__all__ = ["band_names_xml", "aux_xml_path", "GDAL_SIDECARS"]
+
+#: what GDAL (and QGIS through it) writes beside a raster it has read, derived from its pixels: the PAM
+#: statistics and histograms (``<raster>.aux.xml``, e.g. ``gdalinfo -stats``) and external overviews
+#: (``<raster>.ovr``: ``gdaladdo -ro``, QGIS "Build Pyramids"); stale once the raster is rewritten
+GDAL_SIDECARS = (".aux.xml", ".ovr")
 
 
 def aux_xml_path(netcdf_path):

@@ -26,8 +26,10 @@ SUMMARY_STEM = "summary"
 FIGURES = {"scenarios": "map_scenarios.png", "inputs": "map_soil_inputs.png"}
 ANTENNA_FIGURE = "map_antennas__{tag}.png"
 GEOTIFF_LAYERS = ("max_depth", "margin_db", "reach_probability")
-#: glob patterns of every file a map folder holds (an earlier output is recognised by them)
-OWN_FILES = (NETCDF_NAME, f"{NETCDF_NAME}.aux.xml", f"{SUMMARY_STEM}.*", "map_*.png", "geotiff/*.tif")
+#: glob patterns of every file a map folder holds (an earlier output is recognised by them); the GeoTIFFs by
+#: their layer names, so a GeoTIFF of the user's own in geotiff/ is never taken for ours
+OWN_FILES = (NETCDF_NAME, f"{NETCDF_NAME}.aux.xml", f"{SUMMARY_STEM}.*", "map_*.png",
+             *(f"geotiff/{layer}__*__*.tif" for layer in GEOTIFF_LAYERS))
 
 def summary_columns(reaches_db: float = REACHES_MARGIN_DB) -> tuple:
     """Summary columns for the reach threshold ``reaches_db``: row key, header, unit, number format ("s": text)."""

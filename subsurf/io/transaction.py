@@ -42,7 +42,6 @@ from __future__ import annotations
 import contextlib
 import errno
 import fcntl
-import fnmatch
 import os
 import secrets
 import shutil
@@ -59,12 +58,16 @@ from ._staging import (
     Interrupted,
     clean_stale,
     defer_signal,
+    disk_full,
     exchange,
     files_under,
     fsync_dir,
     hold_signals,
+    is_own,
     merge_one,
     move_file,
+    remove_one,
+    stale_sidecars,
     stale_staging,
     write_journal,
 )
@@ -80,6 +83,8 @@ class _Target:
     kind: Literal["file", "folder"]
     staged: Path                     # inside the staging folder
     own: tuple[str, ...] = ()        # folder: glob patterns of what this command writes
+    sidecars: tuple[str, ...] = ()   # folder: suffixes of files others write beside own ones (ours too)
+    stale: tuple[str, ...] = ()      # folder, merge: such sidecars of files replaced, removed at commit
     foreign_ok: bool = True          # folder: may it hold files of others (merged into)?
     mode: str = "new"                # new | replace (file or whole folder) | merge (files into a folder)
     shown: str = ""                  # the path as the user gave it, for messages
@@ -133,15 +138,17 @@ class OutputTransaction:
         """
         return self._add(path, "file", optional=bool(optional))
 
-    def folder(self, path, *, own=(), foreign_ok: bool = True) -> Path:
+    def folder(self, path, *, own=(), foreign_ok: bool = True, sidecars=()) -> Path:
         """Declare an output folder; returns the staged folder to fill instead.
 
         ``own`` are glob patterns (relative, '/'-separated) of the files this command
         writes there; an existing folder holding only such files (an earlier output) is
         replaced as a whole with ``force``; one holding other files too is merged into
         (only ``own`` files replaced, with ``force``) when ``foreign_ok``, else refused.
+        ``sidecars``: suffixes of files others write beside own files (GDAL's ``.aux.xml``): own too; a
+        merge removes those of the files it replaces.
         """
-        return self._add(path, "folder", own=tuple(own) + (MANIFEST_NAME,), foreign_ok=foreign_ok)
+        return self._add(path, "folder", own=(*own, MANIFEST_NAME), foreign_ok=foreign_ok, sidecars=tuple(sidecars))
 
     def destination_of(self, staged) -> str | None:
         """The destination a staged path stands for, as the user named it (for messages), or None."""
@@ -203,7 +210,7 @@ class OutputTransaction:
         if not dest.is_dir():
             raise OutputError(f"{shown} exists and is not a folder; give a folder for this output")
         files = files_under(dest)
-        own = [f for f in files if any(fnmatch.fnmatchcase(f, p) for p in t.own)]
+        own = [f for f in files if is_own(f, t.own, t.sidecars)]
         foreign = [f for f in files if f not in own]
         if foreign and not t.foreign_ok:
             raise OutputExistsError(f"{shown} holds files subsurf {self.command} did not write (e.g. {foreign[0]}); "
@@ -286,7 +293,7 @@ class OutputTransaction:
                             fn()
                     raise
         except OSError as exc:
-            full = self._disk_full()
+            full = disk_full(self._stages)
             self.rollback()
             where = self.destination_of(exc.filename) if exc.filename else None
             raise OutputError(f"{where or self._targets[0].shown}: could not finish the outputs "
@@ -325,6 +332,7 @@ class OutputTransaction:
              "backup": f"old-{t.staged.name}" if mode not in ("new", "skip") else None}
         if t.mode == "merge":
             m["files"] = files_under(t.staged)
+            t.stale = tuple(m.setdefault("stale", stale_sidecars(t.dest, m["files"], t.sidecars)))
             (stage / m["backup"]).mkdir()
         return m
 
@@ -339,6 +347,8 @@ class OutputTransaction:
             if os.path.lexists(old_manifest):  # the folder reads as incomplete while files are merged in
                 os.replace(old_manifest, backup / MANIFEST_NAME)
                 undo.append(lambda: os.replace(backup / MANIFEST_NAME, old_manifest))
+            for rel in t.stale:  # e.g. GDAL statistics of the GeoTIFFs about to be replaced
+                remove_one(t.dest, rel, backup, undo)
             for rel in [r for r in files_under(t.staged) if r != MANIFEST_NAME] + [MANIFEST_NAME]:
                 merge_one(t.staged, t.dest, rel, backup, undo)  # the manifest last
         elif os.path.isdir(t.dest) and exchange(t.staged, t.dest):  # staged now holds the old folder
@@ -375,7 +385,7 @@ class OutputTransaction:
         if exc_type is None:
             self.commit()
             return False
-        full = self._disk_full()
+        full = disk_full(self._stages)
         self.rollback()
         if isinstance(exc, SubsurfError) or not isinstance(exc, Exception):
             return False
@@ -388,12 +398,3 @@ class OutputTransaction:
         why = os_error_message(exc) if isinstance(exc, OSError) and not full else "no space left on device"
         raise OutputError(f"{where}: {why} while writing the subsurf {self.command} outputs; nothing was "
                           "written") from None
-
-    def _disk_full(self) -> bool:
-        """True if a staging folder's file system is (nearly) full, e.g. after a library's own write error."""
-        for parent in self._stages:
-            with contextlib.suppress(OSError):
-                st = os.statvfs(parent)
-                if st.f_bavail * st.f_frsize < 256 * 1024:
-                    return True
-        return False

@@ -116,6 +116,17 @@ def test_demo_force_keeps_folder_with_other_files(tmp_path):
     assert sorted(p.name for p in tmp_path.iterdir()) == ["d"]
 
 
+def test_demo_counts_gdal_statistics_of_its_geotiffs_as_its_own(tmp_path):
+    """GDAL's statistics beside the demo's GeoTIFFs (<tif>.aux.xml) are the demo's; a user's file is not (named)."""
+    out = tmp_path / "d"
+    (out / "maps" / "geotiff").mkdir(parents=True)
+    (out / "maps" / "geotiff" / "max_depth__dry__midband-500.tif.aux.xml").write_text("<PAMDataset/>")
+    (out / "notes.txt").write_text("user file")
+    res = _run("demo", "--out", str(out), "--force", "--quiet", cwd=tmp_path)
+    assert res.returncode == 3 and "notes.txt" in res.stderr and ".aux.xml" not in res.stderr
+    assert (out / "notes.txt").read_text() == "user file"
+
+
 def test_demo_json_output(demo_json):
     """--json prints the same result as JSON (files list, report path, caution); --quiet leaves stderr empty."""
     res, out = demo_json  # one shared run (tests/cli/conftest.py), also validated against its schema

@@ -6,10 +6,13 @@ computes in Persistent Auxiliary Metadata sidecars, ``<raster>.aux.xml``
 sidecar ``feasibility.nc.aux.xml`` subsurf wrote, and creates ``geotiff/<layer>.tif.aux.xml``.
 Here real GDAL (through rasterio: ``DatasetReader.stats``, what ``gdalinfo -stats`` does,
 GDALComputeRasterStatistics) computes statistics on the outputs of a real ``subsurf map``.
+A later ``subsurf map --force`` must not leave GDAL's statistics of the old pixels beside the
+new GeoTIFFs, and must not delete anything of the user's.
 """
 
 from __future__ import annotations
 
+import shutil
 import subprocess
 import sys
 
@@ -70,3 +73,42 @@ def test_a_changed_netcdf_is_still_caught(survey, tmp_path):
     ok, why = check_output_folder(out)
     assert not ok and "feasibility.nc differs" in why
     assert not any(e.get("rewritable") for e in read_manifest(out)["files"] if e["path"] != "feasibility.nc.aux.xml")
+
+
+def _tif_sidecars(folder):
+    return sorted(p.name for p in (folder / "geotiff").glob("*.tif.aux.xml"))
+
+
+def test_force_leaves_no_stale_geotiff_statistics(survey, tmp_path):
+    """GDAL statistics of the old GeoTIFFs (geotiff/*.tif.aux.xml) go with them on --force; the folder is complete."""
+    out = tmp_path / "maps"
+    _map(survey, out)
+    tifs = sorted((out / "geotiff").glob("max_depth__*.tif"))[:2]
+    for tif in tifs:
+        _gdal_stats(tif)
+    assert _tif_sidecars(out) == sorted(f"{t.name}.aux.xml" for t in tifs)  # GDAL wrote them
+    _map(survey, out, "--force")
+    assert _tif_sidecars(out) == []
+    ok, why = check_output_folder(out)
+    assert ok, why
+    with rasterio.open(tifs[0]) as src:  # GDAL now computes from the new pixels, no stored statistics
+        assert "STATISTICS_MEAN" not in src.tags(1)
+
+
+def test_force_keeps_the_users_files_beside_the_map(survey, tmp_path):
+    """With the user's files in the folder (notes, a GeoTIFF of their own and its statistics), --force
+    removes only the statistics of our GeoTIFFs."""
+    out = tmp_path / "maps"
+    _map(survey, out)
+    ours = sorted((out / "geotiff").glob("margin_db__*.tif"))[0]
+    _gdal_stats(ours)
+    (out / "notes.txt").write_text("site visit 3 May")
+    mine = out / "geotiff" / "drone_orthophoto.tif"
+    shutil.copyfile(ours, mine)
+    _gdal_stats(mine)
+    users = {p: p.read_bytes() for p in (out / "notes.txt", mine, out / "geotiff" / "drone_orthophoto.tif.aux.xml")}
+    _map(survey, out, "--force")
+    assert _tif_sidecars(out) == ["drone_orthophoto.tif.aux.xml"]
+    assert {p: p.read_bytes() for p in users} == users
+    ok, why = check_output_folder(out)
+    assert ok, why

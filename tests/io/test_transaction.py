@@ -224,3 +224,91 @@ def test_optional_file_left_unwritten(tmp_path):
         a.write_text("2")
         b.write_text("crs")
     assert _listing(tmp_path) == ["a.csv", "b.csv", "b.prj"]
+
+
+def _gis_folder(out, *, foreign: bool):
+    """An earlier output with GDAL's files beside its raster (statistics, overviews) and, if ``foreign``,
+    files of the user's own: notes, and a PAM sidecar of a raster that is not ours."""
+    out.mkdir()
+    (out / "a.tif").write_bytes(b"old pixels")
+    (out / "a.tif.aux.xml").write_text("<PAMDataset>old statistics</PAMDataset>")
+    (out / "a.tif.ovr").write_bytes(b"old overviews")
+    if foreign:
+        (out / "notes.docx").write_bytes(b"mine")
+        (out / "mine.dat.aux.xml").write_text("<PAMDataset>mine</PAMDataset>")
+
+
+def test_gis_sidecars_of_own_files_are_own(tmp_path):
+    """A folder of own files plus GDAL's sidecars of them is an earlier output: replaced whole, sidecars gone."""
+    out = tmp_path / "maps"
+    _gis_folder(out, foreign=False)
+    txn = OutputTransaction("demo", force=True)
+    txn.folder(out, own=["*.tif"], foreign_ok=False)
+    with pytest.raises(OutputExistsError, match="a.tif.aux.xml"):  # without sidecars: not ours
+        txn.begin()
+    txn = OutputTransaction("demo", force=True)
+    staged = txn.folder(out, own=["*.tif"], foreign_ok=False, sidecars=(".aux.xml", ".ovr"))
+    with txn:
+        (staged / "a.tif").write_bytes(b"new pixels")
+    assert _listing(out) == ["a.tif", MANIFEST_NAME]
+
+
+def test_merge_removes_sidecars_of_replaced_files_and_keeps_the_users(tmp_path):
+    """Merged into a folder holding the user's files: the replaced raster's sidecars go, the user's stay."""
+    out = tmp_path / "maps"
+    _gis_folder(out, foreign=True)
+    txn = OutputTransaction("map", force=True)
+    staged = txn.folder(out, own=["*.tif"], sidecars=(".aux.xml", ".ovr"))
+    with txn:
+        (staged / "a.tif").write_bytes(b"new pixels")
+    assert _listing(out) == ["a.tif", "mine.dat.aux.xml", "notes.docx", MANIFEST_NAME]
+    assert (out / "a.tif").read_bytes() == b"new pixels" and (out / "notes.docx").read_bytes() == b"mine"
+    assert check_output_folder(out)[0]
+
+
+def test_failed_merge_puts_removed_sidecars_back(tmp_path, monkeypatch):
+    """A commit failing after the sidecars were removed undoes everything: old raster and its sidecars back."""
+    import errno
+
+    import subsurf.io.transaction as T
+
+    out = tmp_path / "maps"
+    _gis_folder(out, foreign=True)
+    before = {p: (out / p).read_bytes() for p in _listing(out)}
+
+    def full(*args):
+        raise OSError(errno.EIO, "I/O error", str(out / "a.tif"))
+
+    monkeypatch.setattr(T, "merge_one", full)
+    txn = OutputTransaction("map", force=True)
+    staged = txn.folder(out, own=["*.tif"], sidecars=(".aux.xml", ".ovr"))
+    with pytest.raises(OutputError, match="nothing was changed"), txn:
+        (staged / "a.tif").write_bytes(b"new pixels")
+    assert {p: (out / p).read_bytes() for p in _listing(out)} == before
+
+
+_KILLED_MERGE = textwrap.dedent("""
+    import os, sys
+    import subsurf.io.transaction as T
+    txn = T.OutputTransaction("map", force=True)
+    st = txn.folder(sys.argv[1], own=["*.tif"], sidecars=(".aux.xml", ".ovr"))
+    txn.begin()
+    (st / "a.tif").write_bytes(b"new pixels")
+    T.merge_one = lambda *a: os._exit(9)  # die after the stale sidecars were removed, before the raster moves
+    txn.commit()
+""")
+
+
+def test_killed_merge_has_its_sidecars_restored_by_the_next_run(tmp_path):
+    """Killed after removing the sidecars: the next run beside it rolls the journal back, sidecars included."""
+    out = tmp_path / "maps"
+    _gis_folder(out, foreign=True)
+    before = {p: (out / p).read_bytes() for p in _listing(out)}
+    subprocess.run([sys.executable, "-c", _KILLED_MERGE, str(out)], check=False)
+    assert not (out / "a.tif.aux.xml").exists()  # the kill came after the removal
+    txn = OutputTransaction("depth")
+    txn.file(tmp_path / "other.csv")
+    with txn as t:
+        t._targets[0].staged.write_text("1")
+    assert any("rolled back" in n for n in txn.notes)
+    assert {p: (out / p).read_bytes() for p in _listing(out)} == before
