@@ -70,15 +70,27 @@ def scenario_tags(names) -> dict[str, str]:
 
     Accented letters lose their accents ('wét' -> 'wet': Unicode NFKD, combining marks dropped), so
     file names stay ASCII for every file system, zip tool and GIS; other characters (spaces,
-    slashes, letters without an ASCII base ...) become '_'.  A tag that two names would share gets
-    the scenario's position appended, so every scenario keeps a file of its own.
+    slashes, letters without an ASCII base ...) become '_'.  A tag that two names would share (letter
+    case ignored, as on case-insensitive file systems) gets the scenario's position appended, and more
+    if that is taken too, so every scenario keeps a file of its own.
     """
     import re
     import unicodedata
 
     folded = ["".join(c for c in unicodedata.normalize("NFKD", n) if not unicodedata.combining(c)) for n in names]
     raw = [re.sub(r"[^A-Za-z0-9._-]+", "_", n).strip("._") or "scenario" for n in folded]
-    return {n: (t if raw.count(t) == 1 else f"{t}_{i + 1}") for i, (n, t) in enumerate(zip(names, raw))}
+    keys = [t.lower() for t in raw]
+    used = {k for k in keys if keys.count(k) == 1}
+    tags = {}
+    for i, (n, t) in enumerate(zip(names, raw)):
+        if keys.count(t.lower()) > 1:
+            t, j = f"{t}_{i + 1}", 1
+            while t.lower() in used:
+                j += 1
+                t = f"{raw[i]}_{i + 1}_{j}"
+            used.add(t.lower())
+        tags[n] = t
+    return tags
 
 
 def antenna_figure_key(scenario: str) -> str:

@@ -36,3 +36,12 @@ def test_tags_fold_accents_to_ascii():
     tags = scenario_tags(["wet", "wét", "über/nass"])
     assert len(set(tags.values())) == 3 and all(t.isascii() for t in tags.values())
     assert tags["über/nass"] == "uber_nass"
+
+
+def test_tags_stay_unique_when_an_appended_tag_is_taken():
+    """'wet' and 'wét' share 'wet'; the position appended ('wet_2') is another scenario's name: still unique.
+    Tags differing only in letter case count as shared (one file on case-insensitive file systems)."""
+    tags = scenario_tags(["wet_2", "wet", "wét"])
+    assert tags["wet_2"] == "wet_2" and len({t.lower() for t in tags.values()}) == 3
+    tags = scenario_tags(["Wet", "wet"])
+    assert len({t.lower() for t in tags.values()}) == 2
