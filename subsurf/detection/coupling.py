@@ -75,8 +75,15 @@ def _pattern_air(n, theta):
     return (2.0 * c * c2 / (n * c + c2)) ** 2, (2.0 * c / (c + n * c2)) ** 2
 
 
+@lru_cache(maxsize=4)
+def _legendre(m: int):
+    """Gauss–Legendre nodes and weights on [−1, 1] (numpy), computed once per order: the table needs three
+    integrals of the same order and ``leggauss`` solves an m × m eigenproblem each time."""
+    return np.polynomial.legendre.leggauss(m)
+
+
 def _gauss(a, b, m):
-    x, w = np.polynomial.legendre.leggauss(m)
+    x, w = _legendre(m)
     return 0.5 * (b - a)[..., None] * x + 0.5 * (b + a)[..., None], 0.5 * (b - a)[..., None] * w
 
 

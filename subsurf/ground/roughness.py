@@ -110,7 +110,10 @@ def roughness_transmission_factor(freq_hz, rms_height_m, *, eps_incident=1.0, ep
     th = check_range("incidence_angle_rad", incidence_angle_rad, 0.0, 0.5 * np.pi)
     k1 = _k(f, eps_incident)
     k2 = _k(f, eps_transmitted)
-    sin2 = np.clip(k1 * np.sin(th) / k2, 0.0, 1.0)
-    dq = k1 * np.cos(th) - k2 * np.sqrt(1.0 - sin2**2)
+    if np.ndim(th) == 0 and th == 0.0:  # normal incidence (the budget's): cos θ₂ = 1, the same dq without Snell
+        dq = k1 - k2
+    else:
+        sin2 = np.clip(k1 * np.sin(th) / k2, 0.0, 1.0)
+        dq = k1 * np.cos(th) - k2 * np.sqrt(1.0 - sin2**2)
     g = (dq * s) ** 2
     return _out(np.exp(-g) if power else np.exp(-0.5 * g))

@@ -315,14 +315,28 @@ def evaluate(values: dict, antennas, *, target, target_depth_m, texture=None, mo
     dict of ndarray
         Layers of :func:`feasibility_chain` with a leading antenna axis.
     """
-    ndim = np.ndim(next(iter(values.values())))
     values = _clip_moisture(values, texture=texture)
+    arrays = {k: np.asarray(v, dtype=float) for k, v in values.items()}
+    shape = np.broadcast_shapes(*(a.shape for a in arrays.values()))
+    valid = np.logical_and.reduce([np.isfinite(np.broadcast_to(a, shape)) for a in arrays.values()])
+    # only the cells with data go through the chain (a site's outline leaves a fifth of its grid outside):
+    # the chain is elementwise per cell, so their values are the same as over the whole grid
+    some = bool(np.any(valid)) and not bool(np.all(valid))
+    if some:
+        arrays = {k: np.broadcast_to(a, shape)[valid] for k, a in arrays.items()}
     try:
         # the band-integrated budget of `choose` (fixed band frequencies per antenna, no per-cell loop)
-        return feasibility_chain(target=target, target_depth_m=target_depth_m, texture=texture, model=model,
-                                 calibration=calibration, **_antenna_chain_kwargs(antennas, ndim), **_chain_kwargs(values))
+        out = feasibility_chain(target=target, target_depth_m=target_depth_m, texture=texture, model=model,
+                                calibration=calibration, **_antenna_chain_kwargs(antennas, 1 if some else len(shape)),
+                                **_chain_kwargs(arrays))
     except SubsurfError as exc:
         raise InputError(f"soil inputs on the grid are not physically possible: {exc}") from None
+    if not some:
+        return out
+    for k, v in out.items():  # back onto the grid: NaN (too_shallow False) where there are no data
+        out[k] = np.zeros(v.shape[:-1] + shape, bool) if v.dtype == bool else np.full(v.shape[:-1] + shape, np.nan)
+        out[k][..., valid] = v
+    return out
 
 
 def recommend_antenna(margin_db, freq_hz, *, reaches_db=None, too_shallow=None):

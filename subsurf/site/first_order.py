@@ -105,23 +105,30 @@ def _clip_bound(prob, q: str, cells, m0, g, var1):
         for bound, sign in ((prob.low[q], -1.0), (prob.high[q][cells], 1.0)):
             a = np.where(sd > 0, sign * (bound - mu) / sd, np.inf)  # distance to the bound in sd, ≥ 0 inside
             tail = _normal_cdf(-a)
-            at_bound = m0 + g * sign * a
-            # the margin's variable w = sign·Z: beyond the bound means w > a; slope of Y in w is sign·g
-            gw = sign * g
-            clipped = tail * np.where(rest > 0, _normal_cdf(at_bound / rest), (at_bound >= 0).astype(float))
-            # P(w > a, Y ≥ 0) = P(−w < −a, −Y' < M₀/s₁), Y' standardised, corr(−w, −Y') = gw/s₁
-            rho = np.clip(np.where(s1 > 0, gw / s1, 0.0), -1.0, 1.0)
-            joint = np.where(
-                rest > 1e-12 * np.maximum(s1, 1e-300),
-                _bivariate_normal_cdf(-a, np.where(s1 > 0, m0 / s1, np.inf), np.clip(rho, -0.999999, 0.999999)),
-                # one-dimensional: Y = M₀ + gw·w ≥ 0 with w > a
-                np.where(gw > 0, _normal_cdf(-np.maximum(a, -m0 / np.where(gw != 0, gw, 1.0))),
-                         np.where(gw < 0, np.maximum(_normal_cdf(-a) - _normal_cdf(-(-m0 / np.where(gw != 0, gw, 1.0))),
-                                                     0.0),
-                                  tail * (m0 >= 0))))
-            delta = np.where(tail > 0, np.abs(clipped - joint), 0.0)
-            total = total + delta
+            # Δ is 0 where the tail is (a bound beyond ~38 sd, or no spread): evaluated only on the other cells
+            live = np.flatnonzero(tail > 0)
+            if live.size:
+                total[..., live] += _bound_change(a[live], tail[live], m0[..., live], g[..., live], s1[..., live],
+                                                  rest[..., live], sign)
     return np.nan_to_num(total, nan=1.0)
+
+
+def _bound_change(a, tail, m0, g, s1, rest, sign):
+    """|Δ| of :func:`_clip_bound` for one bound (``sign`` −1 lower, +1 upper) at cells where its tail is > 0."""
+    at_bound = m0 + g * sign * a
+    # the margin's variable w = sign·Z: beyond the bound means w > a; slope of Y in w is sign·g
+    gw = sign * g
+    clipped = tail * np.where(rest > 0, _normal_cdf(at_bound / rest), (at_bound >= 0).astype(float))
+    # P(w > a, Y ≥ 0) = P(−w < −a, −Y' < M₀/s₁), Y' standardised, corr(−w, −Y') = gw/s₁
+    rho = np.clip(np.where(s1 > 0, gw / s1, 0.0), -1.0, 1.0)
+    joint = np.where(
+        rest > 1e-12 * np.maximum(s1, 1e-300),
+        _bivariate_normal_cdf(-a, np.where(s1 > 0, m0 / s1, np.inf), np.clip(rho, -0.999999, 0.999999)),
+        # one-dimensional: Y = M₀ + gw·w ≥ 0 with w > a
+        np.where(gw > 0, _normal_cdf(-np.maximum(a, -m0 / np.where(gw != 0, gw, 1.0))),
+                 np.where(gw < 0, np.maximum(_normal_cdf(-a) - _normal_cdf(-(-m0 / np.where(gw != 0, gw, 1.0))), 0.0),
+                          tail * (m0 >= 0))))
+    return np.abs(clipped - joint)
 
 
 def _moments(v, h):

@@ -174,17 +174,16 @@ def compute_maps(survey, *, quiet: bool = True, calibration=None) -> Feasibility
                                             reaches_db=reaches_db) if z.count else None)
             bar.advance()
     dims = ("scenario", "antenna", "y", "x")
-    ds = xr.Dataset(coords=grid.coords)
-    ds["crs"] = grid["crs"]
-    ds["mask"] = grid["mask"]
+    # the variables are collected first and added in one merge (not one per variable), in the same order
+    ds = xr.Dataset(coords=grid.coords).assign(crs=grid["crs"], mask=grid["mask"])
     ds = ds.assign_coords(scenario=("scenario", [s.name for s in survey.scenarios], {"long_name": "scenario"}),
                           antenna=("antenna", [a.name for a in antennas], {"long_name": "antenna"}))
-    ds["centre_frequency"] = ("antenna", np.array(freqs), {"long_name": "antenna centre frequency", "units": "Hz"})
-    ds["system_performance"] = ("antenna", np.array([a.effective_performance_db for a in antennas]),
-                                {"long_name": "system performance including stacking", "units": "dB"})
+    data = {"centre_frequency": ("antenna", np.array(freqs), {"long_name": "antenna centre frequency", "units": "Hz"}),
+            "system_performance": ("antenna", np.array([a.effective_performance_db for a in antennas]),
+                                   {"long_name": "system performance including stacking", "units": "dB"})}
     for k, arrs in layers.items():
-        ds[k] = (dims, np.stack(arrs).astype(np.float32), dict(fz.LAYER_ATTRS[k], grid_mapping="crs"))
-    ds["too_shallow"] = (dims, np.stack(shallow_all).astype(np.int8), {
+        data[k] = (dims, np.stack(arrs).astype(np.float32), dict(fz.LAYER_ATTRS[k], grid_mapping="crs"))
+    data["too_shallow"] = (dims, np.stack(shallow_all).astype(np.int8), {
         "long_name": "target inside the antenna's blind zone (its echo arrives within the direct wave; not "
                      "reached whatever the margin)" + (f"; for the depth range {survey.target.depth_text()}: its "
                                                        f"top, {survey.target.depth_top_m:g} m"
@@ -192,12 +191,13 @@ def compute_maps(survey, *, quiet: bool = True, calibration=None) -> Feasibility
         "flag_values": np.array([0, 1], np.int8),
         "flag_meanings": "below_blind_zone in_blind_zone", "grid_mapping": "crs"})
     names = " ".join(["outside_site", "none_even_marginal"] + [a.name.replace(" ", "_") for a in antennas])
-    ds["recommended_antenna"] = (("scenario", "y", "x"), np.stack(rec_all), {
+    data["recommended_antenna"] = (("scenario", "y", "x"), np.stack(rec_all), {
         "long_name": f"recommended antenna (highest frequency with >= {reaches_db:g} dB margin, else largest "
                      "margin >= 0)",
         "flag_values": np.arange(-2, n_ant, dtype=np.int16), "flag_meanings": names, "grid_mapping": "crs"})
     for q in soil.data_vars:
-        ds["soil_" + q if q not in ("distance_to_sample", "extrapolated") else q] = soil[q]
+        data["soil_" + q if q not in ("distance_to_sample", "extrapolated") else q] = soil[q]
+    ds = ds.assign(data)
     ds["reach_probability"].attrs["long_name"] = (
         f"probability that the target is reached (margin >= {reaches_db:g} dB outside the blind zone)")
     ds["reach_probability"].attrs["comment"] = (

@@ -147,6 +147,28 @@ def test_chain_equals_choose_budget_per_antenna():
     np.testing.assert_allclose(got["margin_db"], want["margin_db"], rtol=1e-10, atol=1e-9)
 
 
+def test_chain_with_gaps_equals_choose_budget_at_the_cells_with_data():
+    """evaluate() over a grid with gaps (NaN in either quantity) equals `choose`'s budget at the cells with data,
+    with NaN layers and too_shallow False elsewhere, on the grid's shape (only the cells with data are run)."""
+    rng = np.random.default_rng(17)
+    shape = (9, 11)
+    m, ec = rng.uniform(0.05, 0.35, shape), 10 ** rng.uniform(-3, -1, shape)
+    gap_m, gap_ec = rng.random(shape) < 0.2, rng.random(shape) < 0.1
+    ants = list(load_catalogue().values())[:3]
+    target = make_target("line", depth_m=0.3, size_m=0.1, material="metal")
+    got = evaluate({"moisture": np.where(gap_m, np.nan, m), "pore_water_ec": np.where(gap_ec, np.nan, ec)}, ants,
+                   target=target, target_depth_m=0.3, texture="loam")
+    want = _per_antenna({"moisture": m, "pore_water_ec25": ec}, ants, target, 0.3)
+    have = ~(gap_m | gap_ec)
+    for key in ("max_depth", "min_depth", "vertical_resolution", "received_freq"):
+        assert got[key].shape == (len(ants),) + shape
+        np.testing.assert_allclose(got[key][:, have], want[key][:, have], rtol=1e-12, err_msg=key)
+        assert np.all(np.isnan(got[key][:, ~have])), key
+    np.testing.assert_allclose(got["margin_db"][:, have], want["margin_db"][:, have], rtol=1e-12, atol=1e-10)
+    assert got["too_shallow"].dtype == bool and not np.any(got["too_shallow"][:, ~have])
+    assert np.any(got["too_shallow"][:, have])  # a shallow target: the blind zone matters in some cells
+
+
 @pytest.mark.parametrize("target", [make_target("point", depth_m=1.0, size_m=0.3, material="air"),
                                     make_target("line", depth_m=1.0, size_m=0.1, material="metal"),
                                     make_target("planar", depth_m=1.0, reflection=0.3)])

@@ -295,6 +295,33 @@ def test_clipping_term_equals_quadrature_of_the_linear_model():
     np.testing.assert_allclose(pr._bivariate_normal_cdf(h, k, rho), want, atol=1e-12)
 
 
+def test_clipping_term_over_many_cells_with_far_bounds_equals_quadrature():
+    """Cells and antennas at once, some bounds 40-60 sd away (a tail of exactly 0 in double precision, the term
+    skipped there): each cell's term still equals scipy.integrate.quad of the change clipping makes."""
+    from types import SimpleNamespace
+
+    from scipy.integrate import quad
+
+    rng = np.random.default_rng(5)
+    n = 10
+    mu, sd = rng.uniform(0.5, 3, n), rng.uniform(0.3, 1.5, n)
+    far = np.arange(n) % 3 == 0
+    lo = 0.0
+    hi = np.where(far, mu + rng.uniform(40, 60, n) * sd, mu + rng.uniform(0.5, 3, n) * sd)
+    m0, g, r = rng.normal(size=(2, n)) * 2, rng.normal(size=(2, n)) * 2, np.abs(rng.normal(size=(2, n)))
+    prob = SimpleNamespace(sd={"q": sd}, flat={"q": mu}, low={"q": lo}, high={"q": hi})
+    got = pr._clip_bound(prob, "q", np.arange(n), m0, g, g * g + r * r)
+    for i in range(2):
+        for j in range(n):
+            def cond(z, i=i, j=j):
+                return norm.cdf((m0[i, j] + g[i, j] * z) / r[i, j])
+
+            a_lo, a_hi = (mu[j] - lo) / sd[j], (hi[j] - mu[j]) / sd[j]
+            d_lo = quad(lambda z, a=a_lo: norm.pdf(z) * (cond(-a) - cond(z)), -np.inf, -a_lo, limit=200)[0]
+            d_hi = quad(lambda z, a=a_hi: norm.pdf(z) * (cond(a) - cond(z)), a_hi, np.inf, limit=200)[0]
+            assert got[i, j] == pytest.approx(abs(d_lo) + abs(d_hi), abs=1e-6)
+
+
 def test_blind_zone_counts_as_not_reached_and_is_sampled():
     """A target far inside the blind zone of an antenna is not reached, whatever the margin (as the map's
     recommendation), without warnings."""
