@@ -59,8 +59,8 @@ def antenna_budget(eps, sigma, freqs_hz, weights, target, *, depth_m, performanc
     dict of ndarray (leading shape)
         ``margin_db`` (at ``depth_m``), ``too_shallow`` (bool: the shallowest depth of interest
         lies inside the blind zone), ``partly_blind`` (bool: a range whose top lies inside the
-        blind zone but whose bottom lies below it; always False for one depth) and, unless
-        ``margin_only``: ``max_depth``,
+        blind zone but whose bottom lies below it; always False for one depth), ``blind_zone_slack_m``
+        and, unless ``margin_only``: ``max_depth``,
         ``min_depth``, ``near_field`` (bool: target closer than the near-field limit),
         ``received_freq_hz``, ``wavelength_m`` (received), ``vertical_resolution``,
         ``fresnel_radius``, ``footprint_radius``, ``velocity`` (transmitted-energy mean, m/s),
@@ -111,7 +111,8 @@ def antenna_budget(eps, sigma, freqs_hz, weights, target, *, depth_m, performanc
     out = {
         "margin_db": margin, "too_shallow": np.broadcast_to(too_shallow, np.shape(margin)),
         "partly_blind": np.broadcast_to(partly_blind, np.shape(margin)),
-        "max_depth": dmax, "min_depth": d_min, "near_field": top < near_field_depth(lam),
+        "max_depth": dmax, "min_depth": d_min, "blind_zone_slack_m": np.broadcast_to(top - d_min, np.shape(margin)),
+        "near_field": top < near_field_depth(lam),
         "received_freq_hz": fr, "wavelength_m": lam, "vertical_resolution": vertical_resolution(lam),
         "fresnel_radius": fresnel_radius(lam, top), "footprint_radius": footprint_radius(lam, top, eps_real),
         "velocity": velocity, "eps_real": eps_real, "terms": terms,

@@ -132,10 +132,10 @@ def feasibility_chain(moisture, *, freq_hz, performance_db, target, target_depth
     dict of ndarray
         ``eps_real``, ``eps_imag``, ``sigma`` (S/m), ``velocity`` (m/s),
         ``attenuation_db_per_m`` (at the centre frequency), ``max_depth`` (m), ``margin_db``,
-        ``min_depth`` (m, blind zone), ``too_shallow`` (bool), ``received_freq`` (Hz) and
-        ``vertical_resolution`` (m, λ/4 at the received frequency), broadcast over all inputs.
-        ``margin_only``: ``margin_db``, ``too_shallow`` and ``blind_zone_slack_m`` (target depth
-        minus the blind-zone depth, m).
+        ``min_depth`` (m, blind zone), ``too_shallow`` (bool), ``received_freq`` (Hz),
+        ``vertical_resolution`` (m, λ/4 at the received frequency) and ``blind_zone_slack_m`` (target
+        depth, or the top of a range, minus the blind-zone depth, m), broadcast over all inputs.
+        ``margin_only``: ``margin_db``, ``too_shallow`` and ``blind_zone_slack_m``.
 
     Notes
     -----
@@ -197,7 +197,8 @@ def feasibility_chain(moisture, *, freq_hz, performance_db, target, target_depth
     out = {
         "eps_real": eps_arr.real, "eps_imag": -eps_arr.imag, "sigma": sigma, "velocity": omega / beta,
         "attenuation_db_per_m": alpha * NP_TO_DB, "max_depth": res["max_depth"], "margin_db": res["margin_db"],
-        "min_depth": res["min_depth"], "received_freq": res["received_freq_hz"],
+        "min_depth": res["min_depth"], "blind_zone_slack_m": res["blind_zone_slack_m"],
+        "received_freq": res["received_freq_hz"],
         "vertical_resolution": res["vertical_resolution"],
     }
     too_shallow = res["too_shallow"]

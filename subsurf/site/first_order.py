@@ -148,18 +148,22 @@ def linearised(prob, cells: np.ndarray, h: float, blocks):
     p1 = np.empty((prob.n_ant, cells.size))
     err = np.empty_like(p1)
     done = 0
-    for blk in blocks(cells, prob.n_ant * (2 * k + 1)):
+    given = 0 if getattr(prob, "centre", None) is None else 1  # the centre given: not evaluated again
+    for blk in blocks(cells, prob.n_ant * (2 * k + 1 - given)):
         # evaluation points on the first axis: centre, then +h, -h for each uncertain quantity
         fields = {}
         for q, v in prob.flat.items():
-            pts = np.repeat(v[blk][None, :], 2 * k + 1, axis=0)
+            pts = np.repeat(v[blk][None, :], 2 * k + 1 - given, axis=0)
             if q in prob.uncertain:
                 i = prob.uncertain.index(q)
                 step = h * prob.sd[q][blk]
-                pts[1 + 2 * i] += step
-                pts[2 + 2 * i] -= step
+                pts[1 + 2 * i - given] += step
+                pts[2 + 2 * i - given] -= step
             fields[q] = pts
         m, s = prob.margin_and_slack(fields)  # (n_ant, 2k + 1, cells) each; the margin as if no blind zone
+        if given:
+            m0, s0 = prob.centre_margin_and_slack(blk)
+            m, s = np.concatenate([m0, m], axis=1), np.concatenate([s0, s], axis=1)
         bad = ~(np.all(np.isfinite(m), axis=1) & np.all(np.isfinite(s), axis=1))
         centre = ((m[:, 0] >= 0) & (s[:, 0] >= 0)).astype(float)
         m, s = np.where(np.isfinite(m), m, 0.0), np.where(np.isfinite(s), s, 0.0)

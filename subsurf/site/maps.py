@@ -157,7 +157,7 @@ def compute_maps(survey, *, quiet: bool = True, calibration=None) -> Feasibility
                       "model": survey.soil_model, "calibration": cal}
             out = fz.evaluate(vals, antennas, **common)
             r = reach_probability(vals, base_sd, antennas, draws=survey.draws, seed=survey.seed,
-                                  reaches_db=reaches_db, **common)
+                                  reaches_db=reaches_db, centre=out, **common)
             p, se = r.probability, r.error
             sampled.append(r.sampled_fraction)
             out["reach_probability"], out["reach_probability_se"] = p, se

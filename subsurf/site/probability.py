@@ -110,7 +110,7 @@ class _Problem:
     """The flattened inputs and the margin function M(x) of a reach-probability call."""
 
     def __init__(self, values, sds, antennas, *, target, target_depth_m, texture, model, reaches_db,
-                 calibration=None):
+                 calibration=None, centre=None):
         from .feasibility import _antenna_chain_kwargs, _soil_porosity_limit
         from .survey import QUANTITIES
 
@@ -140,6 +140,10 @@ class _Problem:
         self.kw = {"target": target, "target_depth_m": target_depth_m, "texture": texture, "model": model,
                    "calibration": calibration}
         self.reaches_db = float(reaches_db)
+        # the chain at the values themselves (the map's own layers): the stencil's centre is not evaluated again.
+        # Not with a calibration, where the stencil keeps the centre frequency (above) and the map does not
+        self.centre = None if centre is None or calibration is not None else {
+            k: np.asarray(centre[k], float).reshape(self.n_ant, -1) for k in ("margin_db", "blind_zone_slack_m")}
 
     def draw(self, q: str, cells, z):
         """Values of uncertain quantity ``q`` at ``cells`` for standard normals ``z`` (broadcast against
@@ -175,7 +179,13 @@ class _Problem:
         d − d_min ≥ 0, but proportional to the slowness 1/v, which the soil quantities move almost
         linearly (√ε' is linear in moisture under CRIM), where d_min itself is convex in them.
         """
-        out = self._chain(fields)
+        return self._limit_states(self._chain(fields))
+
+    def centre_margin_and_slack(self, cells):
+        """:meth:`margin_and_slack` at the values themselves, shape (n_antennas, 1, c), from ``centre``."""
+        return self._limit_states({k: v[:, None, cells] for k, v in self.centre.items()})
+
+    def _limit_states(self, out):
         x = np.asarray(self.antenna_kw["separation_m"], float).reshape((-1, 1, 1))
         d = float(self.kw["target_depth_m"])
         top = getattr(self.kw["target"], "depth_top_m", None)  # a range: the blind zone is judged at its top
@@ -223,7 +233,7 @@ def _sampled(prob: _Problem, cells: np.ndarray, draws: int, seed: int):
 def reach_probability(values: dict, sds: dict, antennas, *, target, target_depth_m: float, draws: int,
                       seed: int, texture: str | None = None, model: str = "crim", method: Method = "auto",
                       tolerance: float = DEFAULT_TOLERANCE, calibration=None,
-                      reaches_db: float | None = None) -> ReachProbability:
+                      reaches_db: float | None = None, centre: dict | None = None) -> ReachProbability:
     """Per-cell probability that each antenna reaches the target depth (margin ≥ the reach threshold).
 
     Parameters
@@ -248,6 +258,11 @@ def reach_probability(values: dict, sds: dict, antennas, *, target, target_depth
     reaches_db : float, optional
         Margin (dB) at which the target counts as reached; default
         :data:`subsurf.detection.verdicts.REACHES_MARGIN_DB`, the threshold every output states.
+    centre : dict, optional
+        The chain already evaluated at ``values`` with these antennas and options
+        (:func:`subsurf.site.feasibility.evaluate`'s ``margin_db`` and ``blind_zone_slack_m``, shape
+        (n_antennas, *cells)): the first-order stencil reuses it instead of evaluating its centre again
+        (the same numbers; ignored with a ``calibration``).
 
     Returns
     -------
@@ -265,7 +280,7 @@ def reach_probability(values: dict, sds: dict, antennas, *, target, target_depth
     from ..detection.verdicts import REACHES_MARGIN_DB
 
     prob = _Problem(values, sds, antennas, target=target, target_depth_m=target_depth_m, texture=texture,
-                    model=model, calibration=calibration,
+                    model=model, calibration=calibration, centre=centre,
                     reaches_db=REACHES_MARGIN_DB if reaches_db is None else reaches_db)
     n = prob.valid.size
     p = np.full((prob.n_ant, n), np.nan)
@@ -281,7 +296,7 @@ def reach_probability(values: dict, sds: dict, antennas, *, target, target_depth
         to_sample = cells
         if method != "sampling":
             p1, e1 = linearised(prob, cells, STEP_SD, _blocks)
-            cost += cells.size * (2 * len(prob.uncertain) + 1)
+            cost += cells.size * (2 * len(prob.uncertain) + (prob.centre is None))
             p[:, cells], err[:, cells] = p1, e1
             # sampled where the first-order error estimate exceeds the tolerance and the standard error the
             # sampled estimate would have (floored at p(1 - p) = 1/N): never replaced by a noisier estimate

@@ -137,6 +137,32 @@ def test_reported_error_covers_the_difference_from_reference(example_cells, exam
     assert np.mean(inside) >= 0.95
 
 
+@pytest.mark.parametrize("top", [None, 0.3])
+def test_map_layers_as_the_stencil_centre_change_nothing(example_cells, example_reference, top):
+    """The map passes its own chain (evaluate's margin and blind-zone slack) as the first-order stencil's
+    centre instead of evaluating it again: probability, error and sampled cells are bit-identical, one
+    chain evaluation per cell cheaper, still within the reported error of 3200 plain seeded draws (the
+    independent loop above); also for a depth range, whose blind zone is judged at its top."""
+    from dataclasses import replace
+
+    from subsurf.site.feasibility import evaluate
+
+    vals, sds, ants, target, depth, texture, seed = example_cells
+    if top is not None:
+        target = replace(target, depth_top_m=top)
+    kw = dict(target=target, target_depth_m=depth, draws=200, seed=seed, texture=texture)
+    plain = pr.reach_probability(vals, sds, ants, **kw)
+    layers = evaluate(vals, ants, target=target, target_depth_m=depth, texture=texture)
+    reused = pr.reach_probability(vals, sds, ants, centre=layers, **kw)
+    np.testing.assert_array_equal(reused.probability, plain.probability)
+    np.testing.assert_array_equal(reused.error, plain.error)
+    np.testing.assert_array_equal(reused.sampled, plain.sampled)
+    assert reused.chain_cells == plain.chain_cells - vals["moisture"].size
+    if top is None:
+        ref_se = np.sqrt(np.maximum(reused.probability * (1 - reused.probability), 1 / 3200) / 3200)
+        assert np.mean(np.abs(reused.probability - example_reference) <= 2 * reused.error + 3 * ref_se) >= 0.95
+
+
 def test_blind_zone_edge_is_estimated_without_sampling_against_3200_draw_reference():
     """Dry scenario of the example: the 100 MHz antenna's blind zone (it moves with the drawn velocity) lies
     within a few centimetres of the 1.2 m pipe, so P(reach) = P(margin >= 6 dB and depth below the blind
