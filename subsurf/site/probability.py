@@ -63,10 +63,12 @@ DEFAULT_TOLERANCE = 0.01
 STEP_SD = 1.0
 #: Antenna × evaluation × cell elements per chain call: bounds the chain's temporaries whatever the grid
 #: or draws.  Each carries the band's frequency nodes (14 for the catalogue's antennas), so one float64
-#: temporary is 2^15 × 14 × 8 B = 3.5 MiB and the chain's few tens of them stay near 100 MiB.  Measured
-#: on the example map: 2^18 peaked at 440 MiB, 2^15 at 317 MiB and 2^14 at 312 MiB, with 2^15 the
-#: least CPU (smaller blocks stay in cache; below it the per-call overhead grows).
-BLOCK_ELEMENTS = 1 << 15
+#: temporary is 2^14 × 14 × 8 B = 1.75 MiB and the chain's few tens of them stay near 50 MiB.  Measured
+#: on the example map (compute_maps in fresh processes, alternating, 2 cores): 2^14 takes 0.92× the wall
+#: time of 2^15 (0.86× on a variant where a quarter of the cells are sampled) and peaks 33-40 MiB lower;
+#: 2^13 is no faster than 2^14 (smaller blocks stay in cache; below that the per-call overhead grows).
+#: The results do not depend on it (tests: draws keyed per tile, the linearised estimate per cell).
+BLOCK_ELEMENTS = 1 << 14
 
 Method = Literal["auto", "linearised", "sampling"]
 
