@@ -105,6 +105,9 @@ def entry() -> None:
     import atexit
     import os
 
+    from . import _numpy_only
+
+    _numpy_only.enable()  # one command, then the process ends: map/demo/report may spare xarray's probes
     code = main()
     run_exit_handlers = getattr(atexit, "_run_exitfuncs", None)
     if run_exit_handlers is None:  # pragma: no cover - CPython and PyPy have it

@@ -31,9 +31,11 @@ def run(args) -> int:
     from ..io.gdal_pam import GDAL_SIDECARS
     from ..io.outputs import print_notes, print_result
     from ..io.transaction import OutputTransaction
+    from ._numpy_only import declare_numpy_only
     from ._reach import reach_margin_from_args
     from .report import summary_text
 
+    declare_numpy_only()  # numpy arrays only: xarray need not import dask and pint to check (console only)
     reach_margin = reach_margin_from_args(args)
     # the folder is staged and moved into place whole, with its manifest; an existing folder holding
     # files the demo does not write is never replaced, not even with --force

@@ -72,8 +72,10 @@ def run(args) -> int:
     from ..io.outputs import CAUTION, collect_warnings, print_notes, print_result
     from ..io.preflight import map_output_bytes
     from ..io.transaction import OutputTransaction
+    from ._numpy_only import declare_numpy_only
     from ._reach import reach_margin_from_args
 
+    declare_numpy_only()  # numpy arrays only: xarray need not import dask and pint to check (console only)
     reach_margin = reach_margin_from_args(args)
     txn = OutputTransaction("map", force=args.force)
     staged = txn.folder(args.out, own=OWN_FILES, sidecars=GDAL_SIDECARS)  # GDAL's statistics files are ours

@@ -86,8 +86,10 @@ def run(args) -> int:
     from ..io.outputs import print_notes, print_result
     from ..io.report import make_report
     from ..io.transaction import OutputTransaction
+    from ._numpy_only import declare_numpy_only
     from ._reach import reach_margin_from_args
 
+    declare_numpy_only()  # numpy arrays only: xarray need not import dask and pint to check (console only)
     reach_margin = reach_margin_from_args(args)
     out = Path(args.out) if args.out else Path(default_report_name(args.survey))
     keep_maps = bool(args.maps_out) and not args.no_maps

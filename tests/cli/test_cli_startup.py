@@ -64,3 +64,42 @@ def test_console_entry_runs_exit_handlers_flushes_output_and_keeps_the_exit_code
     bad = subprocess.run([sys.executable, "-m", "subsurf", "medium", "--eps", "900", "--sigma", "0.01"],
                          capture_output=True, text=True, timeout=120)
     assert bad.returncode == 1 and bad.stderr.count("\n") == 1 and "--eps" in bad.stderr
+
+
+def test_map_console_spares_xarray_probes_and_changes_no_value(tmp_path):
+    """The console `subsurf map` (one command per process) holds numpy arrays only, so xarray is told not
+    to import dask.array and pint to check for theirs (subsurf.cli._numpy_only): neither is imported, and
+    every layer of the NetCDF equals the same map computed in this process, where xarray probes as usual
+    (read back with netCDF4, not with subsurf's reader)."""
+    import netCDF4
+    import numpy as np
+    from example_site import coarse_copy
+
+    from subsurf.io.maps import run_map
+
+    survey = coarse_copy(tmp_path)
+    out = tmp_path / "console"
+    proc = subprocess.run([sys.executable, "-X", "importtime", "-m", "subsurf", "map", str(survey), "--out",
+                           str(out), "--quiet", "--no-geotiff"], capture_output=True, text=True, timeout=300)
+    assert proc.returncode == 0, proc.stderr[-2000:]
+    names = {m.group(1) for line in proc.stderr.splitlines()
+             if (m := re.match(r"import time:\s+\d+ \|\s+\d+ \|\s*(\S+)$", line))}
+    assert "xarray" in names and "netCDF4" in names  # the report was read, and the map used xarray
+    assert not {"pint", "dask.array", "uncertainties"} & names
+    run_map(survey, tmp_path / "inproc", quiet=True, geotiff=False)
+    with netCDF4.Dataset(out / "feasibility.nc") as a, netCDF4.Dataset(tmp_path / "inproc" / "feasibility.nc") as b:
+        layers = [v for v in a.variables if a[v].ndim >= 2]
+        assert "max_depth" in layers and set(layers) == {v for v in b.variables if b[v].ndim >= 2}
+        for v in layers:
+            np.testing.assert_array_equal(np.ma.filled(a[v][:], np.nan), np.ma.filled(b[v][:], np.nan), err_msg=v)
+
+
+def test_numpy_only_declaration_needs_the_console_entry():
+    """Called from Python (here: the test process, which goes on to use dask), the declaration changes nothing."""
+    from xarray.namedarray import pycompat
+
+    from subsurf.cli._numpy_only import declare_numpy_only
+
+    before = dict(pycompat._cached_duck_array_modules)
+    assert declare_numpy_only() == ()
+    assert pycompat._cached_duck_array_modules == before
