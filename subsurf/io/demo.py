@@ -8,9 +8,7 @@ The example is a fictional site with invented data.
 
 from __future__ import annotations
 
-from .maps import OWN_FILES as MAP_FILES
-
-__all__ = ["DEFAULT_OUT", "DESCRIPTIONS", "OWN_FILES", "example_survey_path", "run_demo"]
+__all__ = ["DEFAULT_OUT", "DESCRIPTIONS", "OWN_FILES", "example_survey_path", "run_demo"]  # noqa: F822 (OWN_FILES: module __getattr__)
 
 #: default output folder
 DEFAULT_OUT = "subsurf-demo"
@@ -37,8 +35,17 @@ DESCRIPTIONS = {
 }
 
 
-#: glob patterns of every file a demo folder holds (the map's GeoTIFFs by their layer names)
-OWN_FILES = (*DESCRIPTIONS, *(f"maps/{pattern}" for pattern in MAP_FILES if pattern.startswith("geotiff/")))
+def __getattr__(name):
+    """``OWN_FILES``: glob patterns of every file a demo folder holds (the map's GeoTIFFs by their layer names).
+
+    Built on first use, because the map's patterns live in :mod:`subsurf.io.maps`, which imports numpy and
+    the physics: ``subsurf --help`` reads this module's ``DEFAULT_OUT`` and must stay light.
+    """
+    if name == "OWN_FILES":
+        from .maps import OWN_FILES as map_files
+
+        return (*DESCRIPTIONS, *(f"maps/{pattern}" for pattern in map_files if pattern.startswith("geotiff/")))
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
 
 
 def example_survey_path():
@@ -67,7 +74,7 @@ def _foreign_files(folder) -> list[str]:
         if p.is_dir() and not p.is_symlink():
             if rel not in own_dirs:
                 found.append(rel + "/")
-        elif not is_own(rel, OWN_FILES, GDAL_SIDECARS):
+        elif not is_own(rel, __getattr__("OWN_FILES"), GDAL_SIDECARS):
             found.append(rel)
     return found
 
