@@ -9,7 +9,9 @@ figures, every pass re-measuring every tick label: 60 % of the time to render a 
 The map figures are regular: a grid of panels sharing their axes (so every panel has the
 same data aspect and the same tick labels), each perhaps with a colour bar below it, a
 title over the whole figure, a legend and a caption below.  On such a figure what each
-panel's text needs around the panel does not depend on where the panel is, so
+panel's text needs around the panel hardly depends on where the panel is or how large it is
+(the one dependence: an end tick label overhangs the frame by an amount that scales with the
+panel's width, ~1 px between the first measurement and the final size on the example), so
 :class:`PanelGridLayout` measures it once and solves the rest by arithmetic:
 
 1. each panel's decoration margins (title, tick labels, axis labels; and its colour bar
