@@ -32,6 +32,7 @@ __all__ = [
     "styled",
     "new_figure",
     "style_axes",
+    "preload",
     "png_bytes",
     "save_png",
 ]
@@ -115,6 +116,16 @@ def new_figure(width_in: float, height_in: float, *, layout: str | None = "const
         fig = Figure(figsize=(width_in, height_in), dpi=DPI, layout=layout)
         FigureCanvasAgg(fig)
     return fig
+
+
+def preload() -> None:
+    """Import what drawing a map figure needs, so a forked figure process shares it (:mod:`.png_split`)."""
+    import importlib
+
+    for name in ("matplotlib.figure", "matplotlib.backends.backend_agg", "matplotlib.colors", "matplotlib.contour",
+                 "matplotlib.patches", "matplotlib.patheffects", "matplotlib.textpath", "matplotlib.ticker",
+                 "scipy.ndimage", "subsurf.io.figlayout", "subsurf.io.fig_maps"):
+        importlib.import_module(name)
 
 
 def style_axes(ax, *, minor_grid: bool = True) -> None:

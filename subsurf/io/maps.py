@@ -272,19 +272,41 @@ def _write_geotiffs(maps, paths, *, force: bool, written: dict) -> None:
 
 def write_map_outputs(maps, out_dir, *, force: bool = False, geotiff: bool = True) -> dict[str, Path]:
     """Write every output of ``subsurf map`` for computed ``maps``; return output kind -> path written."""
-    import json
-
     from . import figstyle
-    from .gdal_pam import band_names_xml
-    from .netcdf import write_netcdf
-    from .outputs import CAUTION, atomic_write_text, check_outputs_free, to_jsonable
+    from .outputs import atomic_path, check_outputs_free
+    from .png_split import SplitRenderer
 
     survey = maps.survey
     geotiff = geotiff and have_rioxarray()
     paths = output_paths(out_dir, survey, geotiff=geotiff)
     check_outputs_free(paths.values(), force=force)
-    rows = maps.rows
     written: dict[str, Path] = {}
+    figstyle.preload()  # before the figure process forks: both share the imported code
+    with SplitRenderer(_figure_jobs(maps), figstyle.png_bytes, head_start=4.0 if geotiff else 3.0) as figures:
+        _write_data_outputs(maps, paths, written, force=force, geotiff=geotiff)
+        for key, png in figures.pngs():
+            with atomic_path(paths[key], force=force) as tmp:
+                Path(tmp).write_bytes(png)
+            written[key] = paths[key]
+    return written
+
+
+def _figure_jobs(maps) -> list:
+    """(key, make, cost) of every figure; the cost is the panels drawn (:class:`.png_split.SplitRenderer`)."""
+    n_antennas, n_scenarios = len(maps.antennas), len(maps.survey.scenarios)
+    cost = {"png_scenarios": n_scenarios, "png_inputs": 3}
+    return [(key, make, cost.get(key, n_antennas)) for key, make in _figures(maps).items()]
+
+
+def _write_data_outputs(maps, paths, written, *, force: bool, geotiff: bool) -> None:
+    """The NetCDF, its band names, the summaries and the GeoTIFFs."""
+    import json
+
+    from .gdal_pam import band_names_xml
+    from .netcdf import write_netcdf
+    from .outputs import CAUTION, atomic_write_text, to_jsonable
+
+    survey, rows = maps.survey, maps.rows
     write_netcdf(maps.dataset, paths["netcdf"], force=force, attrs=_netcdf_attrs(survey, maps.calibration))
     written["netcdf"] = paths["netcdf"]
     written["netcdf_band_names"] = atomic_write_text(paths["netcdf_band_names"], band_names_xml(maps.dataset),
@@ -303,11 +325,8 @@ def write_map_outputs(maps, out_dir, *, force: bool = False, geotiff: bool = Tru
                     "calibration": None if maps.calibration is None else maps.calibration.describe()}
     written["summary_json"] = atomic_write_text(
         paths["summary_json"], json.dumps(to_jsonable(summary_json), indent=2, allow_nan=False), force=force)
-    for key, make in _figures(maps).items():
-        written[key] = figstyle.save_png(make(), paths[key], force=force)
     if geotiff:
         _write_geotiffs(maps, paths, force=force, written=written)
-    return written
 
 
 def run_map(survey_path, out_dir, *, force: bool = False, quiet: bool = False, geotiff: bool = True,

@@ -1,0 +1,177 @@
+"""The figures drawn in a forked child (subsurf.io.png_split): the same bytes as drawn in one process,
+failures and warnings reaching the parent, no child left behind.
+
+Forking happens only in a process that runs one command and ends, so every check here runs in a
+subprocess (the test process has other threads and must never fork)."""
+
+from __future__ import annotations
+
+import json
+import os
+import subprocess
+import sys
+import textwrap
+from pathlib import Path
+
+import pytest
+
+ROOT = Path(__file__).resolve().parents[2]
+
+pytestmark = pytest.mark.skipif(not hasattr(os, "fork"), reason="figures are drawn in a forked child only where "
+                                                                "os.fork exists")
+
+
+def _cpus() -> int:
+    try:
+        return len(os.sched_getaffinity(0))
+    except (AttributeError, OSError):
+        return os.cpu_count() or 1
+
+
+def _run(script: str, *args: str, env: dict | None = None) -> subprocess.CompletedProcess:
+    full_env = {k: v for k, v in os.environ.items() if k != "SUBSURF_RENDER_PROCESSES"}
+    full_env.update({"PYTHONPATH": str(ROOT), **(env or {})})
+    return subprocess.run([sys.executable, "-c", textwrap.dedent(script), *args], capture_output=True, text=True,
+                          timeout=300, env=full_env, cwd=ROOT)
+
+
+MECHANISM = """
+    import json, os, sys, warnings
+    from subsurf.io import png_split
+    from subsurf.errors import InputError
+
+    png_split.enable()
+    case = sys.argv[1]
+
+    class Opaque(Exception):
+        def __init__(self, a, b):  # an exception that cannot be rebuilt from its pickle
+            super().__init__(f"{a}-{b}")
+
+    def make(key):
+        def run():
+            if os.getpid() != PARENT and case == "error":
+                raise InputError(f"survey.toml, row 3, field 'moisture': {key} out of range 0-0.6")
+            if os.getpid() != PARENT and case == "opaque":
+                raise Opaque(1, 2)
+            if os.getpid() != PARENT and case == "warn":
+                warnings.warn(f"{key}: outside the published validity range", UserWarning)
+            return f"{key}:{os.getpid()}"
+        return run
+
+    PARENT = os.getpid()
+    jobs = [(f"fig{i}", make(f"fig{i}"), c) for i, c in enumerate((4, 4, 2, 3))]
+    out = {"allowed": png_split.fork_allowed()}
+    try:
+        with warnings.catch_warnings(record=True) as caught:
+            warnings.simplefilter("always")
+            with png_split.SplitRenderer(jobs, lambda fig: fig.encode(), head_start=4.0) as r:
+                if case == "leave":
+                    out["child"] = r.pid
+                    raise KeyError("left early")
+                got = list(r.pngs())
+        out["keys"] = [k for k, _ in got]
+        out["pids"] = {k: int(v.decode().split(":")[1]) for k, v in got}
+        out["warnings"] = [str(w.message) for w in caught]
+    except Exception as exc:
+        out["error"] = [type(exc).__name__, str(exc)]
+    try:
+        os.waitpid(-1, os.WNOHANG)
+        out["children_left"] = True
+    except ChildProcessError:
+        out["children_left"] = False
+    out["parent"] = PARENT
+    print(json.dumps(out))
+"""
+
+
+def _mechanism(case: str, env: dict | None = None) -> dict:
+    proc = _run(MECHANISM, case, env=env)
+    assert proc.returncode == 0, proc.stderr[-2000:]
+    return json.loads(proc.stdout.strip().splitlines()[-1])
+
+
+@pytest.mark.skipif(_cpus() < 2, reason="the figure process is used only with two or more CPUs")
+def test_jobs_are_shared_and_come_back_in_order():
+    out = _mechanism("ok")
+    assert out["allowed"] is True
+    assert out["keys"] == ["fig0", "fig1", "fig2", "fig3"]
+    pids = out["pids"]
+    child = {k for k, p in pids.items() if p != out["parent"]}
+    # largest first to the less loaded, the parent starting 4 units ahead: both 4-panel figures go to the child
+    assert child == {"fig0", "fig1"}
+    assert len({pids["fig0"], pids["fig1"]}) == 1
+    assert out["children_left"] is False
+
+
+@pytest.mark.skipif(_cpus() < 2, reason="the figure process is used only with two or more CPUs")
+def test_a_failure_in_the_child_is_raised_here_with_its_message():
+    out = _mechanism("error")
+    assert out["error"][0] == "InputError"
+    assert "field 'moisture'" in out["error"][1] and "0-0.6" in out["error"][1]
+    assert out["children_left"] is False
+    opaque = _mechanism("opaque")
+    assert opaque["error"][0] == "RuntimeError"
+    assert "Opaque" in opaque["error"][1] and "1-2" in opaque["error"][1]  # the child's traceback, as text
+    assert opaque["children_left"] is False
+
+
+@pytest.mark.skipif(_cpus() < 2, reason="the figure process is used only with two or more CPUs")
+def test_warnings_of_the_child_are_issued_here():
+    out = _mechanism("warn")
+    assert sorted(out["warnings"]) == ["fig0: outside the published validity range",
+                                       "fig1: outside the published validity range"]
+
+
+@pytest.mark.skipif(_cpus() < 2, reason="the figure process is used only with two or more CPUs")
+def test_leaving_the_block_early_stops_the_child():
+    out = _mechanism("leave")
+    assert out["error"] == ["KeyError", "'left early'"]
+    assert out["child"] and out["children_left"] is False
+
+
+def test_no_fork_when_switched_off_or_not_a_one_command_process():
+    off = _mechanism("ok", env={"SUBSURF_RENDER_PROCESSES": "1"})
+    assert off["allowed"] is False and set(off["pids"].values()) == {off["parent"]}
+    proc = _run("""
+        import threading, time
+        from subsurf.io import png_split
+        print(png_split.fork_allowed())           # not enabled: never
+        png_split.enable()
+        stop = threading.Event()
+        t = threading.Thread(target=stop.wait); t.start()
+        print(png_split.fork_allowed())           # another thread runs: never
+        stop.set(); t.join()
+    """)
+    assert proc.returncode == 0, proc.stderr[-2000:]
+    assert proc.stdout.split() == ["False", "False"]
+
+
+@pytest.mark.skipif(_cpus() < 2, reason="the figure process is used only with two or more CPUs")
+def test_console_map_draws_in_two_processes_the_same_pngs_as_one(tmp_path):
+    """The console command (figures shared with a child) against run_map in one process: byte-identical PNGs."""
+    from example_site import coarse_copy
+
+    from subsurf.io.maps import run_map
+
+    survey = coarse_copy(tmp_path)
+    record = tmp_path / "forked.json"
+    proc = _run(f"""
+        import json, sys
+        from subsurf.io import png_split
+        start = png_split.SplitRenderer._start
+        def recorded(self, jobs):
+            with open({str(record)!r}, "w") as f:
+                json.dump([k for k, _, _ in jobs], f)
+            return start(self, jobs)
+        png_split.SplitRenderer._start = recorded
+        sys.argv = ["subsurf", *sys.argv[1:]]
+        from subsurf.cli import entry
+        entry()
+    """, "map", str(survey), "--out", str(tmp_path / "console"), "--quiet", "--no-geotiff")
+    assert proc.returncode == 0, proc.stderr[-2000:]
+    assert json.loads(record.read_text())  # the child drew at least one figure
+    run_map(survey, tmp_path / "inproc", quiet=True, geotiff=False)
+    pngs = sorted(p.name for p in (tmp_path / "console").glob("*.png"))
+    assert len(pngs) == 4 and pngs == sorted(p.name for p in (tmp_path / "inproc").glob("*.png"))
+    for name in pngs:
+        assert (tmp_path / "console" / name).read_bytes() == (tmp_path / "inproc" / name).read_bytes(), name
