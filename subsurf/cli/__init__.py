@@ -109,7 +109,7 @@ def entry() -> None:
     from . import _numpy_only
 
     _numpy_only.enable()  # one command, then the process ends: map/demo/report may spare xarray's probes
-    png_split.enable()  # ... and may draw figures in a forked child
+    png_split.enable()  # ... and may draw figures in forked figure processes
     code = main()
     run_exit_handlers = getattr(atexit, "_run_exitfuncs", None)
     if run_exit_handlers is None:  # pragma: no cover - CPython and PyPy have it

@@ -119,7 +119,7 @@ def new_figure(width_in: float, height_in: float, *, layout: str | None = "const
 
 
 def preload() -> None:
-    """Import what drawing a map figure needs, so a forked figure process shares it (:mod:`.png_split`)."""
+    """Import what drawing a map figure needs (a figure process does it while the maps are computed, :mod:`.png_split`)."""
     import importlib
 
     for name in ("matplotlib.figure", "matplotlib.backends.backend_agg", "matplotlib.colors", "matplotlib.contour",

@@ -12,6 +12,7 @@ renamed when complete; the command writes the folder as one transaction
 
 from __future__ import annotations
 
+import contextlib
 from pathlib import Path
 
 from ..detection.verdicts import REACHES_MARGIN_DB, reach_definition
@@ -193,38 +194,40 @@ def calibration_caption(calibration) -> str:
     return textwrap.fill(calibration.note() + ".", width=150)
 
 
-def _figures(maps):
+def draw_map_figure(kind: str, caption: str | None = None, **kwargs):
+    """One figure of ``subsurf map``: ``kind`` names the :mod:`.fig_maps` function; ``caption`` goes below.
+
+    Module level, so a figure process receives the job by name (:mod:`.png_split`).
+    """
+    from . import fig_maps
+    from .figstyle import SIZES
+
+    fig = getattr(fig_maps, kind)(**kwargs)
+    if caption:
+        fig.supxlabel(caption, fontsize=SIZES["note"])
+    return fig
+
+
+def _figure_jobs(maps) -> list:
+    """(key, draw_map_figure, kwargs, cost) of every figure of the map; the cost is the panels drawn."""
     import shapely
 
     from ..site.maps import sample_points
-    from . import fig_maps
 
     survey, ds, grid = maps.survey, maps.dataset, maps.grid
     outline = shapely.from_wkt(grid.attrs["site_outline_wkt"])
-    common = {"outline": outline, "samples": sample_points(survey), "crs_name": survey.grid_crs.name}
-    depth, top = survey.target.depth_m, survey.target.depth_top_m
-
-    def antennas(sc):
-        return lambda: fig_maps.antenna_figure(grid, ds, scenario=sc.name, description=sc.description,
-                                               target_depth_m=depth, depth_top_m=top, **common)
-
-    figs = {antenna_figure_key(sc.name): antennas(sc) for sc in survey.scenarios}
-    figs["png_scenarios"] = lambda: fig_maps.scenario_figure(grid, ds, target_depth_m=depth, depth_top_m=top,
-                                                             **common)
-    figs["png_inputs"] = lambda: fig_maps.inputs_figure(grid, maps.soil, **common)
-    if maps.calibration is None:
-        return figs
-    from .figstyle import SIZES
-
-    def captioned(make):
-        def run():
-            fig = make()
-            fig.supxlabel(calibration_caption(maps.calibration), fontsize=SIZES["note"])
-            return fig
-        return run
-
+    common = {"grid": grid, "outline": outline, "samples": sample_points(survey), "crs_name": survey.grid_crs.name}
+    target = {"target_depth_m": survey.target.depth_m, "depth_top_m": survey.target.depth_top_m}
     # the soil inputs are the survey's own: no calibration caption there
-    return {k: (captioned(m) if k != "png_inputs" else m) for k, m in figs.items()}
+    caption = None if maps.calibration is None else calibration_caption(maps.calibration)
+    jobs = [(antenna_figure_key(sc.name),
+             {"kind": "antenna_figure", "caption": caption, "result": ds, "scenario": sc.name,
+              "description": sc.description, **target, **common}, len(maps.antennas))
+            for sc in survey.scenarios]
+    jobs.append(("png_scenarios", {"kind": "scenario_figure", "caption": caption, "result": ds, **target, **common},
+                 len(survey.scenarios)))
+    jobs.append(("png_inputs", {"kind": "inputs_figure", "soil": maps.soil, **common}, 3))
+    return [(key, draw_map_figure, kwargs, cost) for key, kwargs, cost in jobs]
 
 
 def _geotiff_transform(x, y, cell_m: float):
@@ -270,32 +273,32 @@ def _write_geotiffs(maps, paths, *, force: bool, written: dict) -> None:
                 written[key] = paths[key]
 
 
-def write_map_outputs(maps, out_dir, *, force: bool = False, geotiff: bool = True) -> dict[str, Path]:
-    """Write every output of ``subsurf map`` for computed ``maps``; return output kind -> path written."""
+def write_map_outputs(maps, out_dir, *, force: bool = False, geotiff: bool = True, figures=None) -> dict[str, Path]:
+    """Write every output of ``subsurf map`` for computed ``maps``; return output kind -> path written.
+
+    ``figures``: the :class:`.png_split.FigureProcesses` started before the computation (by
+    :func:`run_map`); without it every figure is drawn in this process.
+    """
     from . import figstyle
     from .outputs import atomic_path, check_outputs_free
-    from .png_split import SplitRenderer
+    from .png_split import FigureProcesses
 
     survey = maps.survey
     geotiff = geotiff and have_rioxarray()
     paths = output_paths(out_dir, survey, geotiff=geotiff)
     check_outputs_free(paths.values(), force=force)
     written: dict[str, Path] = {}
-    figstyle.preload()  # before the figure process forks: both share the imported code
-    with SplitRenderer(_figure_jobs(maps), figstyle.png_bytes, head_start=4.0 if geotiff else 3.0) as figures:
+    with contextlib.ExitStack() as stack:
+        if figures is None:
+            figures = stack.enter_context(FigureProcesses(preload=figstyle.preload, render=figstyle.png_bytes,
+                                                          fork=False))
+        figures.submit(_figure_jobs(maps))
         _write_data_outputs(maps, paths, written, force=force, geotiff=geotiff)
         for key, png in figures.pngs():
             with atomic_path(paths[key], force=force) as tmp:
                 Path(tmp).write_bytes(png)
             written[key] = paths[key]
     return written
-
-
-def _figure_jobs(maps) -> list:
-    """(key, make, cost) of every figure; the cost is the panels drawn (:class:`.png_split.SplitRenderer`)."""
-    n_antennas, n_scenarios = len(maps.antennas), len(maps.survey.scenarios)
-    cost = {"png_scenarios": n_scenarios, "png_inputs": 3}
-    return [(key, make, cost.get(key, n_antennas)) for key, make in _figures(maps).items()]
 
 
 def _write_data_outputs(maps, paths, written, *, force: bool, geotiff: bool) -> None:
@@ -376,8 +379,13 @@ def run_map(survey_path, out_dir, *, force: bool = False, quiet: bool = False, g
     check_outputs_free(output_paths(out_dir, survey, geotiff=geotiff).values(), force=force)
     if preflight is not None:
         preflight(survey, geotiff)
-    maps = compute_maps(survey, quiet=quiet, calibration=calibration)
-    written = write_map_outputs(maps, out_dir, force=force, geotiff=geotiff)
+    from . import figstyle
+    from .png_split import FigureProcesses
+
+    # the figure processes start now and import matplotlib while the maps are computed
+    with FigureProcesses(preload=figstyle.preload, render=figstyle.png_bytes) as figures:
+        maps = compute_maps(survey, quiet=quiet, calibration=calibration)
+        written = write_map_outputs(maps, out_dir, force=force, geotiff=geotiff, figures=figures)
     grid = maps.grid
     return {"paths": {k: str(v) for k, v in written.items()},
             **thresholds(maps.reaches_margin_db, survey.reach_margin_source), "summary": maps.rows,

@@ -1,20 +1,25 @@
-"""Render a command's PNG figures on two CPU cores: some in a forked child, the rest here.
+"""Draw a command's PNG figures in two forked figure processes while this process computes and writes.
 
-Drawing the figures is most of what `subsurf map` does after the computation (four PNGs of the
-bundled example: about 1.3 s of CPU against 0.35 s for the NetCDF, GeoTIFF and summaries), and it
-runs on one core of a machine that has two or more.  :class:`SplitRenderer` forks the process once
-the maps are computed and the figure code is imported; the child renders its share of the figures
-to PNG bytes, sends them back through a pipe and ends, while this process writes the other outputs
-and renders the rest.  The figures are the same whichever process draws them: the child is a copy
-of this process (same data, same fonts, same matplotlib state), and a test compares the bytes of
-both ways.
+Drawing the four figures of the bundled example takes about 1.3 s of CPU and importing matplotlib
+another 0.4 s, against 0.35 s for the NetCDF, GeoTIFFs and summaries, and all of it ran on one core
+of a machine that has two or more.  :class:`FigureProcesses` is entered before the maps are
+computed: it forks a figure process, which imports the figure code while this process computes.
+The figure jobs are then sent over (a module-level function and its pickled data, through an
+unlinked temporary file, so this process never waits on a pipe); the figure process forks a
+second one with matplotlib already imported, both draw their share of the figures (largest first
+to the less loaded) to PNG bytes and send them back through a pipe each, while this process writes
+the other outputs.  This process never imports matplotlib.  The figures are the same whichever
+process draws them (same code, same data, same fonts); a test compares the bytes both ways.
 
-Files are written only by this process, inside the command's output transaction: the child never
-opens an output, so a failure anywhere still leaves no half-written output, and an error in the
-child reaches this process as the same exception (or, if it cannot be sent, as a RuntimeError
-with the child's traceback).  Warnings the child raises are re-issued here.
+Files are written only by this process, inside the command's output transaction: a figure
+process never opens an output, so a failure anywhere still leaves no half-written output.  An
+error in a figure process reaches this process as the same exception (or, if it cannot be sent,
+as a RuntimeError with its traceback); its warnings are re-issued here.  Leaving the block early
+(an error in the computation, Ctrl-C) kills both figure processes, which form one process group.
+Jobs that cannot be pickled are drawn here instead.
 
-Forking is done only where it is safe and useful, otherwise everything is drawn here as before:
+Figure processes are forked only where it is safe and useful; otherwise every figure is drawn
+here, one after the other:
 
 * only in a process that runs one command and ends (the console command, :func:`enable`); never in
   a notebook, the tests' own process, or a user's script that calls `subsurf.cli.main`;
@@ -23,8 +28,8 @@ Forking is done only where it is safe and useful, otherwise everything is drawn 
   held in the child);
 * not when ``SUBSURF_RENDER_PROCESSES=1`` is set.
 
-The child's memory is the parent's pages, shared until written (copy-on-write); what it adds is
-the figures' own (measured in benchmarks/README.md).
+Memory: a figure process starts as this process's pages, shared until written; each adds its own
+(matplotlib and the figures, about 35 MiB private on the example; figures in benchmarks/README.md).
 """
 
 from __future__ import annotations
@@ -37,7 +42,7 @@ import traceback
 import warnings
 from collections.abc import Callable
 
-__all__ = ["enable", "fork_allowed", "SplitRenderer", "ENV_PROCESSES"]
+__all__ = ["enable", "fork_allowed", "FigureProcesses", "ENV_PROCESSES"]
 
 #: Environment variable: ``1`` draws every figure in this process (no fork).
 ENV_PROCESSES = "SUBSURF_RENDER_PROCESSES"
@@ -46,7 +51,7 @@ _ENABLED = False
 
 
 def enable() -> None:
-    """This process runs one command and ends: figures may be drawn in a forked child."""
+    """This process runs one command and ends: figures may be drawn by forked figure processes."""
     global _ENABLED
     _ENABLED = True
 
@@ -59,27 +64,27 @@ def _cpus() -> int:
 
 
 def fork_allowed() -> bool:
-    """Whether :class:`SplitRenderer` will fork (see the module docstring for the conditions)."""
+    """Whether :class:`FigureProcesses` will fork (see the module docstring for the conditions)."""
     return (_ENABLED and hasattr(os, "fork") and os.environ.get(ENV_PROCESSES, "").strip() != "1"
             and _cpus() >= 2 and threading.active_count() == 1)
 
 
-def _split(jobs: list[tuple[str, Callable, float]], head_start: float) -> tuple[list, list]:
-    """Share jobs (key, make, cost) between the child and this process, largest first, to the less loaded.
+def _split(jobs: list, head_start: float) -> tuple[list, list]:
+    """Share jobs (key, ..., cost) between two processes, largest first to the less loaded; keep their order.
 
-    This process also writes the other outputs: ``head_start`` is that work in the same units.
+    ``head_start``: work the second process has already, in the units of ``cost``.
     """
-    child, here = [], []
-    load_child, load_here = 0.0, head_start
-    for job in sorted(jobs, key=lambda j: -j[2]):
-        if load_child <= load_here:
-            child.append(job)
-            load_child += job[2]
+    first, second = [], []
+    load_first, load_second = 0.0, head_start
+    for job in sorted(jobs, key=lambda j: -j[-1]):
+        if load_first <= load_second:
+            first.append(job)
+            load_first += job[-1]
         else:
-            here.append(job)
-            load_here += job[2]
-    order = {key: i for i, (key, _, _) in enumerate(jobs)}
-    return sorted(child, key=lambda j: order[j[0]]), sorted(here, key=lambda j: order[j[0]])
+            second.append(job)
+            load_second += job[-1]
+    order = {job[0]: i for i, job in enumerate(jobs)}
+    return sorted(first, key=lambda j: order[j[0]]), sorted(second, key=lambda j: order[j[0]])
 
 
 def _read_all(fd: int) -> bytes:
@@ -91,113 +96,255 @@ def _read_all(fd: int) -> bytes:
         chunks.append(chunk)
 
 
-class SplitRenderer:
-    """Figures to render as PNG bytes, some in a forked child (see the module docstring).
+def _send(fd: int, payload: bytes) -> None:
+    view = memoryview(payload)
+    while view:
+        view = view[os.write(fd, view):]
+
+
+def _render_and_send(jobs, render: Callable, fd: int) -> int:
+    """In a figure process: render ``jobs``, send the PNG bytes (or the failure) down ``fd``; the exit code."""
+    code = 0
+    try:
+        with warnings.catch_warnings(record=True) as caught:
+            warnings.simplefilter("always")
+            out = {key: render(func(**kwargs)) for key, func, kwargs, _ in jobs}
+        payload = pickle.dumps(("ok", out, [(str(w_.message), w_.category) for w_ in caught]))
+    except BaseException as exc:  # noqa: BLE001 - every failure goes back to the parent
+        code = 1
+        payload = _failure(exc)
+    try:
+        _send(fd, payload)
+    except OSError:  # the parent has gone
+        code = 1
+    finally:
+        os.close(fd)  # the parent reads to the end of this pipe before the next
+    return code
+
+
+def _failure(exc: BaseException) -> bytes:
+    text = "".join(traceback.format_exception(exc))
+    try:
+        payload = pickle.dumps(("error", exc, text))
+        pickle.loads(payload)
+        return payload
+    except Exception:  # noqa: BLE001 - an exception that does not travel: send its text
+        return pickle.dumps(("error", None, text))
+
+
+def _read_exact(fd: int, n: int) -> bytes:
+    chunks, got = [], 0
+    while got < n:
+        chunk = os.read(fd, n - got)
+        if not chunk:
+            break
+        chunks.append(chunk)
+        got += len(chunk)
+    return b"".join(chunks)
+
+
+def _pread_all(fd: int, n: int) -> bytes:
+    chunks, got = [], 0
+    while got < n:
+        chunk = os.pread(fd, min(n - got, 1 << 24), got)
+        if not chunk:
+            raise OSError(f"the figure inputs were cut short ({got} of {n} bytes)")
+        chunks.append(chunk)
+        got += len(chunk)
+    return b"".join(chunks)
+
+
+class FigureProcesses:
+    """Figures rendered as PNG bytes by two forked processes while this one computes and writes.
 
     Parameters
     ----------
-    jobs : list of (key, make, cost)
-        ``make()`` returns a Figure; ``cost`` is its relative drawing cost (e.g. its panels).
+    preload : callable
+        Imports the figure code; the first child runs it as soon as it starts (while this process
+        computes the maps).
     render : callable
         Figure -> PNG bytes (:func:`subsurf.io.figstyle.png_bytes`).
-    head_start : float
-        The other work this process does meanwhile, in units of ``cost``.
+    fork : bool
+        False: everything is drawn in this process (as when :func:`fork_allowed` is false).
 
-    Use as a context manager: on entry the child is started (when :func:`fork_allowed`); write the
-    other outputs; then :meth:`pngs` yields ``(key, bytes)`` of every job in the order given, this
-    process's share drawn as it goes.  Leaving the block early stops the child.
+    Use as a context manager, entered before the computation: the first child is forked on entry
+    and imports the figure code.  Once the data are ready, :meth:`submit` the jobs ``(key, func,
+    kwargs, cost)``: ``func`` is a module-level function (sent by name) that returns a Figure from
+    ``kwargs`` (sent pickled, through an unlinked temporary file); ``cost`` its relative drawing
+    cost.  The child shares the jobs with a second child, forked from it with the figure code
+    imported, and both render.  Meanwhile this process writes the other outputs; then
+    :meth:`pngs` yields ``(key, bytes)`` in the order submitted.  Leaving the block early, or
+    submitting nothing, stops the children.  Without a fork :meth:`pngs` draws each figure here.
     """
 
-    def __init__(self, jobs, render: Callable, *, head_start: float = 0.0):
-        self.jobs = list(jobs)
-        self.render = render
-        self.head_start = head_start
+    def __init__(self, *, preload: Callable, render: Callable, fork: bool = True):
+        self.preload, self.render = preload, render
+        self.fork = fork
         self.pid = None
-        self.fd = None
         self.forked = False
+        self.jobs: list = []
+        self._fds: list[int] = []
+        self._job_w = None
+        self._data = None
 
     def __enter__(self):
-        if len(self.jobs) >= 2 and fork_allowed():
-            child, _ = _split(self.jobs, self.head_start)
-            self._start(child)
+        if self.fork and fork_allowed():
+            self._start()
         return self
 
-    def _start(self, child_jobs) -> None:
-        r, w = os.pipe()
+    def _start(self) -> None:
+        import tempfile
+
+        self._data = tempfile.TemporaryFile(prefix="subsurf-figures-")  # unlinked: nothing is left behind
+        job_r, job_w = os.pipe()
+        r1, w1 = os.pipe()
+        r2, w2 = os.pipe()
         sys.stdout.flush()
         sys.stderr.flush()
         pid = os.fork()
-        if pid == 0:  # the child: render, send, end without running this process's exit handlers
-            code = 0
+        if pid == 0:
+            code = 1
             try:
-                os.close(r)
-                with warnings.catch_warnings(record=True) as caught:
-                    warnings.simplefilter("always")
-                    out = {key: self.render(make()) for key, make, _ in child_jobs}
-                payload = pickle.dumps(("ok", out, [(str(w_.message), w_.category) for w_ in caught]))
-            except BaseException as exc:  # noqa: BLE001 - every failure goes back to the parent
-                code = 1
-                text = "".join(traceback.format_exception(exc))
-                try:
-                    payload = pickle.dumps(("error", exc, text))
-                    pickle.loads(payload)
-                except Exception:  # noqa: BLE001 - an exception that does not travel: send its text
-                    payload = pickle.dumps(("error", None, text))
-            try:
-                view = memoryview(payload)
-                while view:
-                    view = view[os.write(w, view):]
+                os.setpgid(0, 0)  # its own group: stopping it stops the second child too
+                for fd in (job_w, r1, r2):
+                    os.close(fd)
+                code = self._child(job_r, w1, w2)
             finally:
                 os._exit(code)
-        os.close(w)
-        self.pid, self.fd, self.forked = pid, r, True
-        self.child_keys = {key for key, _, _ in child_jobs}
+        try:
+            os.setpgid(pid, pid)  # as the child does: whichever runs first, the group exists before a stop
+        except OSError:
+            pass
+        for fd in (job_r, w1, w2):
+            os.close(fd)
+        self.pid, self.forked, self._job_w, self._fds = pid, True, job_w, [r1, r2]
+
+    def _child(self, job_r: int, w1: int, w2: int) -> int:
+        """The first child: import, wait for the jobs, share them with a second child, render, send."""
+        try:
+            self.preload()
+            header = _read_exact(job_r, 8)
+            if len(header) < 8:  # nothing submitted: the parent stopped
+                return 0
+            jobs = pickle.loads(_pread_all(self._data.fileno(), int.from_bytes(header, "little")))
+        except BaseException as exc:  # noqa: BLE001 - every failure goes back to the parent
+            try:
+                _send(w1, _failure(exc))
+            except OSError:
+                pass
+            return 1
+        finally:
+            os.close(job_r)
+        mine, theirs = _split(jobs, 0.0)
+        if theirs and threading.active_count() == 1:
+            gpid = os.fork()
+            if gpid == 0:
+                code = 1
+                try:
+                    os.close(w1)
+                    code = _render_and_send(theirs, self.render, w2)
+                finally:
+                    os._exit(code)
+            os.close(w2)
+            code = _render_and_send(mine, self.render, w1)
+            _, status = os.waitpid(gpid, 0)
+            return code or (0 if status == 0 else 1)
+        os.close(w2)
+        return _render_and_send(jobs, self.render, w1)
+
+    def submit(self, jobs) -> None:
+        """Hand over the jobs ``(key, func, kwargs, cost)`` (see the class docstring)."""
+        self.jobs = list(jobs)
+        if not self.forked:
+            return
+        try:
+            payload = pickle.dumps([(k, f, kw, c) for k, f, kw, c in self.jobs], protocol=pickle.HIGHEST_PROTOCOL)
+            self._data.write(payload)
+            self._data.flush()
+            _send(self._job_w, len(payload).to_bytes(8, "little"))
+        except (OSError, pickle.PicklingError, TypeError, AttributeError):  # drawn here instead
+            self._stop()
+        finally:
+            if self._job_w is not None:
+                os.close(self._job_w)
+                self._job_w = None
 
     def _collect(self) -> dict[str, bytes]:
-        data = _read_all(self.fd)
-        os.close(self.fd)
-        self.fd = None
+        out: dict[str, bytes] = {}
+        caught: list = []
+        failure = None
+        for fd in self._fds:
+            data = _read_all(fd)
+            if not data:
+                continue
+            try:
+                message = pickle.loads(data)
+            except Exception:  # noqa: BLE001 - nothing readable came back
+                continue
+            if message[0] == "error" and failure is None:
+                failure = message
+            elif message[0] == "ok":
+                out.update(message[1])
+                caught.extend(message[2])
+        self._close_fds()
         _, status = os.waitpid(self.pid, 0)
         self.pid = None
-        try:
-            message = pickle.loads(data)
-        except Exception:  # noqa: BLE001 - nothing readable came back
-            raise RuntimeError(f"the figure process ended without its figures (status {status})") from None
-        if message[0] == "error":
-            _, exc, text = message
+        if failure is not None:
+            _, exc, text = failure
             if exc is not None:
                 raise exc
             raise RuntimeError(f"drawing a figure failed in the figure process:\n{text}")
-        _, out, caught = message
+        missing = [key for key, _, _, _ in self.jobs if key not in out]
+        if missing:
+            raise RuntimeError(f"the figure process ended without the figures {', '.join(missing)} "
+                               f"(exit status {status})")
         for text, category in caught:
-            warnings.warn(text, category, stacklevel=2)
+            warnings.warn(text, category, stacklevel=3)
         return out
 
     def pngs(self):
-        """Yield (key, PNG bytes) of every job in the order given."""
+        """Yield (key, PNG bytes) of every submitted job, in the order submitted."""
         if not self.forked:
-            for key, make, _ in self.jobs:
-                yield key, self.render(make())
+            for key, func, kwargs, _ in self.jobs:
+                yield key, self.render(func(**kwargs))
             return
-        mine = {}
-        for key, make, _ in self.jobs:
-            if key not in self.child_keys:
-                mine[key] = self.render(make())
         theirs = self._collect()
-        for key, _, _ in self.jobs:
-            yield key, (theirs[key] if key in self.child_keys else mine[key])
+        for key, _, _, _ in self.jobs:
+            yield key, theirs[key]
 
-    def __exit__(self, *exc):
-        if self.pid is not None:  # left early: stop the child
-            import signal
+    def _close_fds(self) -> None:
+        for fd in self._fds:
+            os.close(fd)
+        self._fds = []
 
+    def _stop(self) -> None:
+        """Stop the children (both: they form one process group) and draw here instead."""
+        import signal
+
+        if self.pid is not None:
             try:
-                os.kill(self.pid, signal.SIGKILL)
-                os.waitpid(self.pid, 0)
+                os.killpg(self.pid, signal.SIGKILL)
             except OSError:
+                try:
+                    os.kill(self.pid, signal.SIGKILL)
+                except OSError:
+                    pass
+            try:
+                os.waitpid(self.pid, 0)
+            except ChildProcessError:
                 pass
             self.pid = None
-        if self.fd is not None:
-            os.close(self.fd)
-            self.fd = None
+        self._close_fds()
+        self.forked = False
+
+    def __exit__(self, *exc):
+        if self._job_w is not None:
+            os.close(self._job_w)
+            self._job_w = None
+        if self.pid is not None:  # left early: stop the children
+            self._stop()
+        self._close_fds()
+        if self._data is not None:
+            self._data.close()
+            self._data = None
         return False

@@ -1,5 +1,5 @@
-"""The figures drawn in a forked child (subsurf.io.png_split): the same bytes as drawn in one process,
-failures and warnings reaching the parent, no child left behind.
+"""The figures drawn by forked figure processes (subsurf.io.png_split): the same bytes as drawn in one
+process, failures and warnings reaching the parent, no process left behind.
 
 Forking happens only in a process that runs one command and ends, so every check here runs in a
 subprocess (the test process has other threads and must never fork)."""
@@ -36,42 +36,50 @@ def _run(script: str, *args: str, env: dict | None = None) -> subprocess.Complet
 
 
 MECHANISM = """
-    import json, os, sys, warnings
+    import json, os, sys, time, warnings
     from subsurf.io import png_split
     from subsurf.errors import InputError
 
     png_split.enable()
     case = sys.argv[1]
+    PARENT = os.getpid()
 
     class Opaque(Exception):
         def __init__(self, a, b):  # an exception that cannot be rebuilt from its pickle
             super().__init__(f"{a}-{b}")
 
-    def make(key):
-        def run():
-            if os.getpid() != PARENT and case == "error":
-                raise InputError(f"survey.toml, row 3, field 'moisture': {key} out of range 0-0.6")
-            if os.getpid() != PARENT and case == "opaque":
-                raise Opaque(1, 2)
-            if os.getpid() != PARENT and case == "warn":
-                warnings.warn(f"{key}: outside the published validity range", UserWarning)
-            return f"{key}:{os.getpid()}"
-        return run
+    def preload():
+        if case == "preload":
+            raise ImportError("no figure library in this test")
 
-    PARENT = os.getpid()
-    jobs = [(f"fig{i}", make(f"fig{i}"), c) for i, c in enumerate((4, 4, 2, 3))]
-    out = {"allowed": png_split.fork_allowed()}
+    def draw(key, fn=None):
+        if case == "error":
+            raise InputError(f"survey.toml, row 3, field 'moisture': {key} out of range 0-0.6")
+        if case == "opaque":
+            raise Opaque(1, 2)
+        if case == "warn":
+            warnings.warn(f"{key}: outside the published validity range", UserWarning)
+        return f"{key}:{os.getpid()}"
+
+    extra = {"fn": (lambda: None)} if case == "unpicklable" else {}
+    jobs = [(f"fig{i}", draw, {"key": f"fig{i}", **extra}, c) for i, c in enumerate((4, 4, 2, 3))]
+    out = {"allowed": png_split.fork_allowed(), "parent": PARENT}
     try:
         with warnings.catch_warnings(record=True) as caught:
             warnings.simplefilter("always")
-            with png_split.SplitRenderer(jobs, lambda fig: fig.encode(), head_start=4.0) as r:
-                if case == "leave":
-                    out["child"] = r.pid
-                    raise KeyError("left early")
-                got = list(r.pngs())
-        out["keys"] = [k for k, _ in got]
-        out["pids"] = {k: int(v.decode().split(":")[1]) for k, v in got}
-        out["warnings"] = [str(w.message) for w in caught]
+            with png_split.FigureProcesses(preload=preload, render=lambda fig: fig.encode()) as figs:
+                out["child"] = figs.pid
+                if case in ("leave", "nothing"):
+                    time.sleep(0.3)  # the children are running
+                    if case == "leave":
+                        raise KeyError("left early")
+                else:
+                    figs.submit(jobs)
+                    got = list(figs.pngs())
+        if case != "nothing":
+            out["keys"] = [k for k, _ in got]
+            out["pids"] = {k: int(v.decode().split(":")[1]) for k, v in got}
+            out["warnings"] = [str(w.message) for w in caught]
     except Exception as exc:
         out["error"] = [type(exc).__name__, str(exc)]
     try:
@@ -79,7 +87,12 @@ MECHANISM = """
         out["children_left"] = True
     except ChildProcessError:
         out["children_left"] = False
-    out["parent"] = PARENT
+    if out.get("child"):
+        try:
+            os.killpg(out["child"], 0)
+            out["group_left"] = True
+        except ProcessLookupError:
+            out["group_left"] = False
     print(json.dumps(out))
 """
 
@@ -90,48 +103,60 @@ def _mechanism(case: str, env: dict | None = None) -> dict:
     return json.loads(proc.stdout.strip().splitlines()[-1])
 
 
-@pytest.mark.skipif(_cpus() < 2, reason="the figure process is used only with two or more CPUs")
-def test_jobs_are_shared_and_come_back_in_order():
+TWO_CPUS = pytest.mark.skipif(_cpus() < 2, reason="the figure processes are used only with two or more CPUs")
+
+
+@TWO_CPUS
+def test_jobs_are_shared_by_two_figure_processes_and_come_back_in_order():
     out = _mechanism("ok")
-    assert out["allowed"] is True
+    assert out["allowed"] is True and out["child"]
     assert out["keys"] == ["fig0", "fig1", "fig2", "fig3"]
     pids = out["pids"]
-    child = {k for k, p in pids.items() if p != out["parent"]}
-    # largest first to the less loaded, the parent starting 4 units ahead: both 4-panel figures go to the child
-    assert child == {"fig0", "fig1"}
-    assert len({pids["fig0"], pids["fig1"]}) == 1
-    assert out["children_left"] is False
+    assert out["parent"] not in pids.values()
+    # largest first to the less loaded (costs 4, 4, 2, 3): 4 + 3 in one process, 4 + 2 in the other
+    assert pids["fig0"] == pids["fig3"] != pids["fig1"] == pids["fig2"]
+    assert out["children_left"] is False and out["group_left"] is False
 
 
-@pytest.mark.skipif(_cpus() < 2, reason="the figure process is used only with two or more CPUs")
-def test_a_failure_in_the_child_is_raised_here_with_its_message():
+@TWO_CPUS
+def test_a_failure_in_a_figure_process_is_raised_here_with_its_message():
     out = _mechanism("error")
     assert out["error"][0] == "InputError"
     assert "field 'moisture'" in out["error"][1] and "0-0.6" in out["error"][1]
-    assert out["children_left"] is False
+    assert out["children_left"] is False and out["group_left"] is False
     opaque = _mechanism("opaque")
     assert opaque["error"][0] == "RuntimeError"
     assert "Opaque" in opaque["error"][1] and "1-2" in opaque["error"][1]  # the child's traceback, as text
-    assert opaque["children_left"] is False
+    failed_import = _mechanism("preload")
+    assert failed_import["error"] == ["ImportError", "no figure library in this test"]
 
 
-@pytest.mark.skipif(_cpus() < 2, reason="the figure process is used only with two or more CPUs")
-def test_warnings_of_the_child_are_issued_here():
+@TWO_CPUS
+def test_warnings_of_the_figure_processes_are_issued_here():
     out = _mechanism("warn")
-    assert sorted(out["warnings"]) == ["fig0: outside the published validity range",
-                                       "fig1: outside the published validity range"]
+    assert sorted(out["warnings"]) == [f"fig{i}: outside the published validity range" for i in range(4)]
 
 
-@pytest.mark.skipif(_cpus() < 2, reason="the figure process is used only with two or more CPUs")
-def test_leaving_the_block_early_stops_the_child():
-    out = _mechanism("leave")
-    assert out["error"] == ["KeyError", "'left early'"]
-    assert out["child"] and out["children_left"] is False
+@TWO_CPUS
+def test_leaving_early_or_submitting_nothing_stops_both_figure_processes():
+    for case in ("leave", "nothing"):
+        out = _mechanism(case)
+        assert out["child"], case
+        assert out.get("error") == (["KeyError", "'left early'"] if case == "leave" else None), case
+        assert out["children_left"] is False and out["group_left"] is False, case
+
+
+@TWO_CPUS
+def test_jobs_that_cannot_be_sent_are_drawn_here():
+    out = _mechanism("unpicklable")
+    assert out["child"] and "error" not in out
+    assert set(out["pids"].values()) == {out["parent"]}
+    assert out["children_left"] is False and out["group_left"] is False
 
 
 def test_no_fork_when_switched_off_or_not_a_one_command_process():
     off = _mechanism("ok", env={"SUBSURF_RENDER_PROCESSES": "1"})
-    assert off["allowed"] is False and set(off["pids"].values()) == {off["parent"]}
+    assert off["allowed"] is False and off["child"] is None and set(off["pids"].values()) == {off["parent"]}
     proc = _run("""
         import threading, time
         from subsurf.io import png_split
@@ -146,7 +171,7 @@ def test_no_fork_when_switched_off_or_not_a_one_command_process():
     assert proc.stdout.split() == ["False", "False"]
 
 
-@pytest.mark.skipif(_cpus() < 2, reason="the figure process is used only with two or more CPUs")
+@TWO_CPUS
 def test_console_map_draws_in_two_processes_the_same_pngs_as_one(tmp_path):
     """The console command (figures shared with a child) against run_map in one process: byte-identical PNGs."""
     from example_site import coarse_copy
@@ -158,18 +183,19 @@ def test_console_map_draws_in_two_processes_the_same_pngs_as_one(tmp_path):
     proc = _run(f"""
         import json, sys
         from subsurf.io import png_split
-        start = png_split.SplitRenderer._start
+        submit = png_split.FigureProcesses.submit
         def recorded(self, jobs):
+            submit(self, jobs)
             with open({str(record)!r}, "w") as f:
-                json.dump([k for k, _, _ in jobs], f)
-            return start(self, jobs)
-        png_split.SplitRenderer._start = recorded
+                json.dump({{"forked": self.forked, "jobs": [k for k, _, _, _ in self.jobs]}}, f)
+        png_split.FigureProcesses.submit = recorded
         sys.argv = ["subsurf", *sys.argv[1:]]
         from subsurf.cli import entry
         entry()
     """, "map", str(survey), "--out", str(tmp_path / "console"), "--quiet", "--no-geotiff")
     assert proc.returncode == 0, proc.stderr[-2000:]
-    assert json.loads(record.read_text())  # the child drew at least one figure
+    sent = json.loads(record.read_text())
+    assert sent["forked"] and len(sent["jobs"]) == 4  # every figure was sent to the figure processes
     run_map(survey, tmp_path / "inproc", quiet=True, geotiff=False)
     pngs = sorted(p.name for p in (tmp_path / "console").glob("*.png"))
     assert len(pngs) == 4 and pngs == sorted(p.name for p in (tmp_path / "inproc").glob("*.png"))
