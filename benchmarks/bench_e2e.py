@@ -2,13 +2,16 @@
 previous commit, side by side in one run.
 
     git worktree add /tmp/base bd22c8f          # the release before the speed work
-    python benchmarks/bench_e2e.py --base /tmp/base [--runs 5]
+    python benchmarks/bench_e2e.py --base /tmp/base [--runs 5] [--tree-memory]
 
 Each command runs as a whole process, alternately from this tree and from the base tree
 (A B A B ..., after one warm-up of each), with ``PYTHONPATH`` pointing at the tree's
 package, the same Python and the same installed libraries.  Per run the operating system's
-accounting of that one finished process is read with ``os.wait4``: user + system CPU,
-wall time and peak resident memory (ru_maxrss).  Printed: medians and the median of the
+accounting of that one finished process is read with ``os.wait4``: user + system CPU (its
+own and that of the child processes it waited for, e.g. the figure processes of
+:mod:`subsurf.io.png_split`), wall time and peak resident memory (ru_maxrss: the largest of the
+process and its waited-for children, not their sum).  ``--tree-memory`` adds, in extra untimed
+runs, the peak of the summed PSS of the whole process tree.  Printed: medians and the median of the
 pairwise ratios A/B (pairs taken in turn, so a drift of the shared machine's speed
 cancels).  Outputs go to temporary folders.  Not part of the test suite.
 """
@@ -42,6 +45,66 @@ def run_once(tree: Path, args: list[str], cwd: str) -> dict:
     return {"cpu": ru.ru_utime + ru.ru_stime, "wall": wall, "rss": ru.ru_maxrss / 1024}
 
 
+def _tree(pid: int) -> list[int]:
+    """pid and every descendant (Linux /proc)."""
+    out, todo = [], [pid]
+    while todo:
+        p = todo.pop()
+        out.append(p)
+        try:
+            for task in os.listdir(f"/proc/{p}/task"):
+                with open(f"/proc/{p}/task/{task}/children") as f:
+                    todo.extend(int(c) for c in f.read().split())
+        except OSError:
+            pass
+    return out
+
+
+def _pss_mib(pid: int) -> float:
+    try:
+        with open(f"/proc/{pid}/smaps_rollup") as f:
+            for line in f:
+                if line.startswith("Pss:"):
+                    return int(line.split()[1]) / 1024
+    except OSError:
+        pass
+    return 0.0
+
+
+def tree_memory_once(tree: Path, args: list[str], cwd: str, every_s: float = 0.02) -> tuple[float, int]:
+    """Peak over time of the summed proportional set size (PSS) of the command and its descendants.
+
+    PSS shares each page among the processes that map it, so pages a forked process still shares
+    with its parent count once in the sum.  Sampled every ``every_s`` (not in the timed runs: reading
+    the page tables costs CPU); returns (peak MiB, most processes seen at once).
+    """
+    env = dict(os.environ, PYTHONPATH=str(tree), MPLBACKEND="Agg")
+    proc = subprocess.Popen([sys.executable, *args], cwd=cwd, env=env, stdout=subprocess.DEVNULL,
+                            stderr=subprocess.DEVNULL)
+    peak, most = 0.0, 1
+    while proc.poll() is None:
+        pids = _tree(proc.pid)
+        peak = max(peak, sum(_pss_mib(p) for p in pids))
+        most = max(most, len(pids))
+        time.sleep(every_s)
+    if proc.returncode != 0:
+        raise SystemExit(f"{tree}: {' '.join(args)} failed ({proc.returncode})")
+    return peak, most
+
+
+def compare_tree_memory(name: str, a_tree: Path, b_tree: Path, make_args, runs: int) -> None:
+    res = {"A": [], "B": []}
+    with tempfile.TemporaryDirectory() as tmp:
+        for i in range(runs):
+            for key, tree in (("A", a_tree), ("B", b_tree)):
+                res[key].append(tree_memory_once(tree, make_args(tree, Path(tmp) / f"m{key}{i}"), tmp))
+    a = statistics.median(r[0] for r in res["A"])
+    b = statistics.median(r[0] for r in res["B"])
+    print(f"{name}: peak summed PSS of the process tree (sampled every 20 ms, {runs} runs each)")
+    print(f"   this {a:8.2f} MiB ({max(r[1] for r in res['A'])} processes at most)   base {b:8.2f} MiB "
+          f"({max(r[1] for r in res['B'])} at most)   this/base {a / b:.2f}")
+
+
 def compare(name: str, a_tree: Path, b_tree: Path, make_args, runs: int) -> dict:
     with tempfile.TemporaryDirectory() as tmp:
         res = {"A": [], "B": []}
@@ -71,6 +134,9 @@ def main() -> int:
     ap.add_argument("--runs", type=int, default=5, help="counted runs of each command (default 5)")
     ap.add_argument("--only", choices=["startup", "map", "demo"], action="append",
                     help="run only these comparisons (repeatable)")
+    ap.add_argument("--tree-memory", action="store_true",
+                    help="also measure the peak summed PSS of each command's process tree, in extra untimed "
+                         "runs (Linux)")
     args = ap.parse_args()
     base = args.base.resolve()
     only = set(args.only or ["startup", "map", "demo"])
@@ -97,13 +163,14 @@ def main() -> int:
             out = compare(name, HERE, base, lambda tree, out, cmd=cmd: cmd, args.runs)
             print(f"   CPU / import numpy: this {out['cpu'][0] / ref:.2f}, base {out['cpu'][1] / ref:.2f} "
                   "(target <= 2)")
-    if "map" in only:
-        compare("subsurf map (bundled example, 4 antennas x 2 scenarios, 200 draws)", HERE, base,
-                lambda tree, out: ["-m", "subsurf", "map", survey(tree), "--out", str(out), "--quiet"],
-                args.runs)
-    if "demo" in only:
-        compare("subsurf demo", HERE, base,
-                lambda tree, out: ["-m", "subsurf", "demo", "--out", str(out), "--quiet"], args.runs)
+    commands = {"map": ("subsurf map (bundled example, 4 antennas x 2 scenarios, 200 draws)",
+                        lambda tree, out: ["-m", "subsurf", "map", survey(tree), "--out", str(out), "--quiet"]),
+                "demo": ("subsurf demo", lambda tree, out: ["-m", "subsurf", "demo", "--out", str(out), "--quiet"])}
+    for key, (name, make_args) in commands.items():
+        if key in only:
+            compare(name, HERE, base, make_args, args.runs)
+            if args.tree_memory:
+                compare_tree_memory(name, HERE, base, make_args, args.runs)
     return 0
 
 

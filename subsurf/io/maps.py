@@ -208,6 +208,13 @@ def draw_map_figure(kind: str, caption: str | None = None, **kwargs):
     return fig
 
 
+def _figures(maps) -> dict:
+    """Output kind -> a callable that draws that figure of the map here (the jobs of :func:`_figure_jobs`)."""
+    import functools
+
+    return {key: functools.partial(func, **kwargs) for key, func, kwargs, _ in _figure_jobs(maps)}
+
+
 def _figure_jobs(maps) -> list:
     """(key, draw_map_figure, kwargs, cost) of every figure of the map; the cost is the panels drawn."""
     import shapely
