@@ -31,8 +31,20 @@ from pathlib import Path
 HERE = Path(__file__).resolve().parent.parent
 
 
-def run_once(tree: Path, args: list[str], cwd: str) -> dict:
+#: extra environment of the base tree's runs (``--base-env``), e.g. the same tree with its figures in one process
+BASE_ENV: dict[str, str] = {}
+#: the base tree, whose runs get BASE_ENV
+BASE_TREE: list[Path] = []
+
+
+def _env(tree: Path) -> dict:
     env = dict(os.environ, PYTHONPATH=str(tree), MPLBACKEND="Agg")
+    env.pop("SUBSURF_RENDER_PROCESSES", None)
+    return {**env, **BASE_ENV} if BASE_TREE and tree == BASE_TREE[0] else env
+
+
+def run_once(tree: Path, args: list[str], cwd: str) -> dict:
+    env = _env(tree)
     t = time.perf_counter()
     proc = subprocess.Popen([sys.executable, *args], cwd=cwd, env=env, stdout=subprocess.DEVNULL,
                             stderr=subprocess.PIPE)
@@ -78,8 +90,7 @@ def tree_memory_once(tree: Path, args: list[str], cwd: str, every_s: float = 0.0
     with its parent count once in the sum.  Sampled every ``every_s`` (not in the timed runs: reading
     the page tables costs CPU); returns (peak MiB, most processes seen at once).
     """
-    env = dict(os.environ, PYTHONPATH=str(tree), MPLBACKEND="Agg")
-    proc = subprocess.Popen([sys.executable, *args], cwd=cwd, env=env, stdout=subprocess.DEVNULL,
+    proc = subprocess.Popen([sys.executable, *args], cwd=cwd, env=_env(tree), stdout=subprocess.DEVNULL,
                             stderr=subprocess.DEVNULL)
     peak, most = 0.0, 1
     while proc.poll() is None:
@@ -137,13 +148,34 @@ def main() -> int:
     ap.add_argument("--tree-memory", action="store_true",
                     help="also measure the peak summed PSS of each command's process tree, in extra untimed "
                          "runs (Linux)")
+    ap.add_argument("--base-env", action="append", default=[], metavar="KEY=VALUE",
+                    help="environment of the base runs only (repeatable); with --base . it compares two settings "
+                         "of this tree, e.g. SUBSURF_RENDER_PROCESSES=1 (figures drawn in one process)")
+    ap.add_argument("--busy", type=int, default=0, metavar="N",
+                    help="keep N other processes spinning on the CPU during the runs (another user's job)")
     args = ap.parse_args()
     base = args.base.resolve()
+    BASE_TREE.append(base)
+    for item in args.base_env:
+        key, _, value = item.partition("=")
+        BASE_ENV[key] = value
+    busy = [subprocess.Popen([sys.executable, "-c", "while True: pass"]) for _ in range(args.busy)]
+    try:
+        return _measure(args, base)
+    finally:
+        for p in busy:
+            p.kill()
+            p.wait()
+
+
+def _measure(args, base: Path) -> int:
     only = set(args.only or ["startup", "map", "demo"])
     print(f"machine: {platform.machine()}, {os.cpu_count()} cores, load average "
           f"{os.getloadavg()[0]:.1f}; Python {platform.python_version()}")
-    print(f"this tree: {HERE} (git {_rev(HERE)}); base: {base} (git {_rev(base)}); "
-          f"{args.runs} counted runs each, alternating, after one warm-up")
+    print(f"this tree: {HERE} (git {_rev(HERE)}); base: {base} (git {_rev(base)})"
+          + (f" with {' '.join(args.base_env)}" if args.base_env else "")
+          + f"; {args.runs} counted runs each, alternating, after one warm-up"
+          + (f"; {args.busy} busy process(es) beside them" if args.busy else ""))
 
     def survey(tree):
         return str(tree / "surveys" / "example-site" / "survey.toml")

@@ -194,54 +194,6 @@ def calibration_caption(calibration) -> str:
     return textwrap.fill(calibration.note() + ".", width=150)
 
 
-def draw_map_figure(kind: str, caption: str | None = None, **kwargs):
-    """One figure of ``subsurf map``: ``kind`` names the :mod:`.fig_maps` function; ``caption`` goes below.
-
-    Module level, so a figure process receives the job by name (:mod:`.png_split`).
-    """
-    from . import fig_maps
-    from .figstyle import SIZES
-
-    fig = getattr(fig_maps, kind)(**kwargs)
-    if caption:
-        fig.supxlabel(caption, fontsize=SIZES["note"])
-    return fig
-
-
-def _figures(maps) -> dict:
-    """Output kind -> a callable that draws that figure of the map here (the jobs of :func:`_figure_jobs`)."""
-    import functools
-
-    return {key: functools.partial(func, **kwargs) for key, func, kwargs, _ in _figure_jobs(maps)}
-
-
-def _figure_jobs(maps) -> list:
-    """(key, draw_map_figure, kwargs, cost) of every figure of the map.
-
-    The cost is the drawing time relative to one antenna panel, measured on the example (one process,
-    after the imports): 0.055 s per antenna panel, 0.072 s per scenario panel and 0.107 s per
-    soil-input panel (each has its own colour bar), so the two figure processes get equal shares.
-    """
-    import shapely
-
-    from ..site.maps import sample_points
-
-    survey, ds, grid = maps.survey, maps.dataset, maps.grid
-    outline = shapely.from_wkt(grid.attrs["site_outline_wkt"])
-    common = {"grid": grid, "outline": outline, "samples": sample_points(survey), "crs_name": survey.grid_crs.name}
-    target = {"target_depth_m": survey.target.depth_m, "depth_top_m": survey.target.depth_top_m}
-    # the soil inputs are the survey's own: no calibration caption there
-    caption = None if maps.calibration is None else calibration_caption(maps.calibration)
-    jobs = [(antenna_figure_key(sc.name),
-             {"kind": "antenna_figure", "caption": caption, "result": ds, "scenario": sc.name,
-              "description": sc.description, **target, **common}, 1.0 * len(maps.antennas))
-            for sc in survey.scenarios]
-    jobs.append(("png_scenarios", {"kind": "scenario_figure", "caption": caption, "result": ds, **target, **common},
-                 1.3 * len(survey.scenarios)))
-    jobs.append(("png_inputs", {"kind": "inputs_figure", "soil": maps.soil, **common}, 2.0 * 3))
-    return [(key, draw_map_figure, kwargs, cost) for key, kwargs, cost in jobs]
-
-
 def _geotiff_transform(x, y, cell_m: float):
     """Affine geotransform (upper-left corner, cell size; rows in the order of ``y``) of cell centres x, y."""
     from affine import Affine
@@ -292,6 +244,7 @@ def write_map_outputs(maps, out_dir, *, force: bool = False, geotiff: bool = Tru
     :func:`run_map`); without it every figure is drawn in this process.
     """
     from . import figstyle
+    from .map_figures import figure_jobs
     from .outputs import atomic_path, check_outputs_free
     from .png_split import FigureProcesses
 
@@ -304,7 +257,7 @@ def write_map_outputs(maps, out_dir, *, force: bool = False, geotiff: bool = Tru
         if figures is None:
             figures = stack.enter_context(FigureProcesses(preload=figstyle.preload, render=figstyle.png_bytes,
                                                           fork=False))
-        figures.submit(_figure_jobs(maps))
+        figures.submit(figure_jobs(maps))
         _write_data_outputs(maps, paths, written, force=force, geotiff=geotiff)
         for key, png in figures.pngs():
             with atomic_path(paths[key], force=force) as tmp:

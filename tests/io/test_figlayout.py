@@ -26,7 +26,7 @@ def maps(tmp_path_factory):
 
 
 def _figures(maps):
-    from subsurf.io.maps import _figures as figures
+    from subsurf.io.map_figures import figures
 
     return {name: make() for name, make in figures(maps).items()}
 

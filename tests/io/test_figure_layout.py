@@ -24,7 +24,7 @@ def survey_path(tmp_path_factory):
 
 @pytest.fixture(scope="module")
 def map_figures(survey_path):
-    from subsurf.io.maps import _figures
+    from subsurf.io.map_figures import figures as _figures
     from subsurf.site.maps import compute_maps
     from subsurf.site.survey import load_survey
 
@@ -66,7 +66,7 @@ def test_single_scenario_map_figures_layout(tmp_path):
     """A one-scenario, three-antenna survey (narrow scenario figure, long class legend) lays out cleanly too."""
     from report_support import write_test_survey
 
-    from subsurf.io.maps import _figures
+    from subsurf.io.map_figures import figures as _figures
     from subsurf.site.maps import compute_maps
     from subsurf.site.survey import load_survey
 
