@@ -31,20 +31,18 @@ from pathlib import Path
 HERE = Path(__file__).resolve().parent.parent
 
 
-#: extra environment of the base tree's runs (``--base-env``), e.g. the same tree with its figures in one process
+#: extra environment of the base runs (``--base-env``), e.g. this same tree with its figures in one process
 BASE_ENV: dict[str, str] = {}
-#: the base tree, whose runs get BASE_ENV
-BASE_TREE: list[Path] = []
 
 
-def _env(tree: Path) -> dict:
+def _env(tree: Path, base: bool) -> dict:
     env = dict(os.environ, PYTHONPATH=str(tree), MPLBACKEND="Agg")
     env.pop("SUBSURF_RENDER_PROCESSES", None)
-    return {**env, **BASE_ENV} if BASE_TREE and tree == BASE_TREE[0] else env
+    return {**env, **BASE_ENV} if base else env
 
 
-def run_once(tree: Path, args: list[str], cwd: str) -> dict:
-    env = _env(tree)
+def run_once(tree: Path, args: list[str], cwd: str, *, base: bool = False) -> dict:
+    env = _env(tree, base)
     t = time.perf_counter()
     proc = subprocess.Popen([sys.executable, *args], cwd=cwd, env=env, stdout=subprocess.DEVNULL,
                             stderr=subprocess.PIPE)
@@ -83,14 +81,15 @@ def _pss_mib(pid: int) -> float:
     return 0.0
 
 
-def tree_memory_once(tree: Path, args: list[str], cwd: str, every_s: float = 0.02) -> tuple[float, int]:
+def tree_memory_once(tree: Path, args: list[str], cwd: str, every_s: float = 0.02, *,
+                     base: bool = False) -> tuple[float, int]:
     """Peak over time of the summed proportional set size (PSS) of the command and its descendants.
 
     PSS shares each page among the processes that map it, so pages a forked process still shares
     with its parent count once in the sum.  Sampled every ``every_s`` (not in the timed runs: reading
     the page tables costs CPU); returns (peak MiB, most processes seen at once).
     """
-    proc = subprocess.Popen([sys.executable, *args], cwd=cwd, env=_env(tree), stdout=subprocess.DEVNULL,
+    proc = subprocess.Popen([sys.executable, *args], cwd=cwd, env=_env(tree, base), stdout=subprocess.DEVNULL,
                             stderr=subprocess.DEVNULL)
     peak, most = 0.0, 1
     while proc.poll() is None:
@@ -108,7 +107,7 @@ def compare_tree_memory(name: str, a_tree: Path, b_tree: Path, make_args, runs: 
     with tempfile.TemporaryDirectory() as tmp:
         for i in range(runs):
             for key, tree in (("A", a_tree), ("B", b_tree)):
-                res[key].append(tree_memory_once(tree, make_args(tree, Path(tmp) / f"m{key}{i}"), tmp))
+                res[key].append(tree_memory_once(tree, make_args(tree, Path(tmp) / f"m{key}{i}"), tmp, base=key == "B"))
     a = statistics.median(r[0] for r in res["A"])
     b = statistics.median(r[0] for r in res["B"])
     print(f"{name}: peak summed PSS of the process tree (sampled every 20 ms, {runs} runs each)")
@@ -121,7 +120,7 @@ def compare(name: str, a_tree: Path, b_tree: Path, make_args, runs: int) -> dict
         res = {"A": [], "B": []}
         for i in range(runs + 1):
             for key, tree in (("A", a_tree), ("B", b_tree)):
-                r = run_once(tree, make_args(tree, Path(tmp) / f"{key}{i}"), tmp)
+                r = run_once(tree, make_args(tree, Path(tmp) / f"{key}{i}"), tmp, base=key == "B")
                 if i:  # the first round is the warm-up
                     res[key].append(r)
     out = {}
@@ -155,7 +154,6 @@ def main() -> int:
                     help="keep N other processes spinning on the CPU during the runs (another user's job)")
     args = ap.parse_args()
     base = args.base.resolve()
-    BASE_TREE.append(base)
     for item in args.base_env:
         key, _, value = item.partition("=")
         BASE_ENV[key] = value
