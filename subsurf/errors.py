@@ -60,6 +60,16 @@ class FileInputError(SubsurfError):
         self.row = row
         self.field = field
 
+    def __reduce__(self):  # pickled (e.g. from a figure process) with its message as composed
+        return (_rebuild_file_input_error, (type(self), str(self), self.path, self.row, self.field))
+
+
+def _rebuild_file_input_error(cls, text: str, path: str, row, field):
+    exc = cls.__new__(cls)
+    SubsurfError.__init__(exc, text)
+    exc.path, exc.row, exc.field = path, row, field
+    return exc
+
 
 class OutputExistsError(SubsurfError):
     """An output exists and overwriting it was not asked for."""

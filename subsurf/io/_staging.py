@@ -293,3 +293,20 @@ def disk_full(parents) -> bool:
             if st.f_bavail * st.f_frsize < 256 * 1024:
                 return True
     return False
+
+
+#: Lock descriptors this process holds for its output transactions.  A forked child (a figure
+#: process, :mod:`.png_split`) closes its copies at once: a child that outlived this process would
+#: otherwise keep the output folder locked.
+HELD_LOCKS: set[int] = set()
+
+
+def _drop_locks_in_child() -> None:
+    for fd in HELD_LOCKS:
+        with contextlib.suppress(OSError):
+            os.close(fd)  # this copy only: the lock stays with the parent's descriptor
+    HELD_LOCKS.clear()
+
+
+if hasattr(os, "register_at_fork"):
+    os.register_at_fork(after_in_child=_drop_locks_in_child)

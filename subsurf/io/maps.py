@@ -263,7 +263,9 @@ def write_map_outputs(maps, out_dir, *, force: bool = False, geotiff: bool = Tru
             with atomic_path(paths[key], force=force) as tmp:
                 Path(tmp).write_bytes(png)
             written[key] = paths[key]
-    return written
+    # listed as before the figures were drawn beside the other outputs: the PNGs before the GeoTIFFs
+    return {**{k: p for k, p in written.items() if not k.startswith("tif_")},
+            **{k: p for k, p in written.items() if k.startswith("tif_")}}
 
 
 def _write_data_outputs(maps, paths, written, *, force: bool, geotiff: bool) -> None:

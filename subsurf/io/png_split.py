@@ -38,9 +38,18 @@ import os
 import pickle
 import sys
 import threading
-import traceback
 import warnings
 from collections.abc import Callable
+
+from ._png_child import (
+    die_with_parent,
+    read_all,
+    read_exact,
+    remove_matplotlib_temp_config,
+    render_and_send,
+    send,
+    warnings_of,
+)
 
 __all__ = ["enable", "fork_allowed", "FigureProcesses", "ENV_PROCESSES"]
 
@@ -87,71 +96,9 @@ def _split(jobs: list, head_start: float) -> tuple[list, list]:
     return sorted(first, key=lambda j: order[j[0]]), sorted(second, key=lambda j: order[j[0]])
 
 
-def _read_all(fd: int) -> bytes:
-    chunks = []
-    while True:
-        chunk = os.read(fd, 1 << 20)
-        if not chunk:
-            return b"".join(chunks)
-        chunks.append(chunk)
-
-
-def _send(fd: int, payload: bytes) -> None:
-    view = memoryview(payload)
-    while view:
-        view = view[os.write(fd, view):]
-
-
-def _render_and_send(jobs, render: Callable, fd: int) -> int:
-    """In a figure process: render ``jobs``, send the PNG bytes (or the failure) down ``fd``; the exit code."""
-    code = 0
-    try:
-        with warnings.catch_warnings(record=True) as caught:
-            warnings.simplefilter("always")
-            out = {key: render(func(**kwargs)) for key, func, kwargs, _ in jobs}
-        payload = pickle.dumps(("ok", out, [(str(w_.message), w_.category) for w_ in caught]))
-    except BaseException as exc:  # noqa: BLE001 - every failure goes back to the parent
-        code = 1
-        payload = _failure(exc)
-    try:
-        _send(fd, payload)
-    except OSError:  # the parent has gone
-        code = 1
-    finally:
-        os.close(fd)  # the parent reads to the end of this pipe before the next
-    return code
-
-
-def _failure(exc: BaseException) -> bytes:
-    text = "".join(traceback.format_exception(exc))
-    try:
-        payload = pickle.dumps(("error", exc, text))
-        pickle.loads(payload)
-        return payload
-    except Exception:  # noqa: BLE001 - an exception that does not travel: send its text
-        return pickle.dumps(("error", None, text))
-
-
-def _read_exact(fd: int, n: int) -> bytes:
-    chunks, got = [], 0
-    while got < n:
-        chunk = os.read(fd, n - got)
-        if not chunk:
-            break
-        chunks.append(chunk)
-        got += len(chunk)
-    return b"".join(chunks)
-
-
-def _pread_all(fd: int, n: int) -> bytes:
-    chunks, got = [], 0
-    while got < n:
-        chunk = os.pread(fd, min(n - got, 1 << 24), got)
-        if not chunk:
-            raise OSError(f"the figure inputs were cut short ({got} of {n} bytes)")
-        chunks.append(chunk)
-        got += len(chunk)
-    return b"".join(chunks)
+#: Jobs whose pickled data exceed this many bytes are drawn here: a figure process would hold a
+#: second copy of the data (a regional-size grid), which costs more memory than the core saves time.
+MAX_JOB_BYTES = 256 * 2**20
 
 
 class FigureProcesses:
@@ -160,21 +107,23 @@ class FigureProcesses:
     Parameters
     ----------
     preload : callable
-        Imports the figure code; the first child runs it as soon as it starts (while this process
-        computes the maps).
+        Imports the figure code; the first figure process runs it as soon as it starts (while this
+        process computes the maps).
     render : callable
         Figure -> PNG bytes (:func:`subsurf.io.figstyle.png_bytes`).
     fork : bool
         False: everything is drawn in this process (as when :func:`fork_allowed` is false).
 
-    Use as a context manager, entered before the computation: the first child is forked on entry
-    and imports the figure code.  Once the data are ready, :meth:`submit` the jobs ``(key, func,
-    kwargs, cost)``: ``func`` is a module-level function (sent by name) that returns a Figure from
-    ``kwargs`` (sent pickled, through an unlinked temporary file); ``cost`` its relative drawing
-    cost.  The child shares the jobs with a second child, forked from it with the figure code
-    imported, and both render.  Meanwhile this process writes the other outputs; then
-    :meth:`pngs` yields ``(key, bytes)`` in the order submitted.  Leaving the block early, or
-    submitting nothing, stops the children.  Without a fork :meth:`pngs` draws each figure here.
+    Use as a context manager, entered before the computation: the first figure process is forked on
+    entry and imports the figure code.  Once the data are ready, :meth:`submit` the jobs ``(key,
+    func, kwargs, cost)``: ``func`` is a module-level function (sent by name) that returns a Figure
+    from ``kwargs`` (pickled into an unlinked temporary file); ``cost`` its relative drawing cost.
+    The figure process shares the jobs with a second one, forked from it with the figure code
+    imported, and both render.  Meanwhile this process writes the other outputs; then :meth:`pngs`
+    yields ``(key, bytes)`` in the order submitted.  Whatever cannot go to the figure processes (a
+    fork or a pipe refused, jobs that do not pickle or exceed :data:`MAX_JOB_BYTES`, a figure process
+    that cannot import the figure code) is drawn here, as without them.  Leaving the block early, or
+    submitting nothing, stops both figure processes.
     """
 
     def __init__(self, *, preload: Callable, render: Callable, fork: bool = True):
@@ -189,23 +138,40 @@ class FigureProcesses:
 
     def __enter__(self):
         if self.fork and fork_allowed():
-            self._start()
+            try:
+                self._start()
+            except OSError:  # no fork or no pipe here (a process limit, no descriptors): draw here
+                self._stop()
         return self
 
     def _start(self) -> None:
         import tempfile
 
         self._data = tempfile.TemporaryFile(prefix="subsurf-figures-")  # unlinked: nothing is left behind
-        job_r, job_w = os.pipe()
-        r1, w1 = os.pipe()
-        r2, w2 = os.pipe()
+        fds = []
+        try:
+            for _ in range(3):
+                fds.extend(os.pipe())
+        except OSError:
+            for fd in fds:
+                os.close(fd)
+            raise
+        job_r, job_w, r1, w1, r2, w2 = fds
+        self._fds, self._job_w = [r1, r2], job_w
         sys.stdout.flush()
         sys.stderr.flush()
-        pid = os.fork()
+        parent = os.getpid()
+        try:
+            pid = os.fork()
+        except OSError:
+            for fd in (job_r, w1, w2):
+                os.close(fd)
+            raise
         if pid == 0:
             code = 1
             try:
-                os.setpgid(0, 0)  # its own group: stopping it stops the second child too
+                os.setpgid(0, 0)  # its own group: stopping it stops the second figure process too
+                die_with_parent(parent)
                 for fd in (job_w, r1, r2):
                     os.close(fd)
                 code = self._child(job_r, w1, w2)
@@ -217,40 +183,52 @@ class FigureProcesses:
             pass
         for fd in (job_r, w1, w2):
             os.close(fd)
-        self.pid, self.forked, self._job_w, self._fds = pid, True, job_w, [r1, r2]
+        self.pid, self.forked = pid, True
 
     def _child(self, job_r: int, w1: int, w2: int) -> int:
-        """The first child: import, wait for the jobs, share them with a second child, render, send."""
-        try:
-            self.preload()
-            header = _read_exact(job_r, 8)
-            if len(header) < 8:  # nothing submitted: the parent stopped
-                return 0
-            jobs = pickle.loads(_pread_all(self._data.fileno(), int.from_bytes(header, "little")))
-        except BaseException as exc:  # noqa: BLE001 - every failure goes back to the parent
+        """The first figure process: import, wait for the jobs, share them with a second one, render, send."""
+        mpl_before = "matplotlib" in sys.modules
+        with warnings.catch_warnings(record=True) as caught:
+            warnings.simplefilter("always")
             try:
-                _send(w1, _failure(exc))
-            except OSError:
-                pass
-            return 1
-        finally:
-            os.close(job_r)
-        mine, theirs = _split(jobs, 0.0)
-        if theirs and threading.active_count() == 1:
-            gpid = os.fork()
-            if gpid == 0:
-                code = 1
+                self.preload()
+                header = read_exact(job_r, 8)
+                if len(header) < 8:  # nothing submitted: the parent stopped
+                    return 0
+                with open(os.dup(self._data.fileno()), "rb") as f:  # a file object of this process's own
+                    f.seek(0)
+                    jobs = pickle.load(f)
+            except BaseException as exc:  # noqa: BLE001 - the parent draws everything instead
                 try:
-                    os.close(w1)
-                    code = _render_and_send(theirs, self.render, w2)
-                finally:
-                    os._exit(code)
-            os.close(w2)
-            code = _render_and_send(mine, self.render, w1)
-            _, status = os.waitpid(gpid, 0)
-            return code or (0 if status == 0 else 1)
+                    send(w1, pickle.dumps(("decline", type(exc).__name__, warnings_of(caught))))
+                except OSError:
+                    pass
+                return 1
+            finally:
+                os.close(job_r)
+        early = warnings_of(caught)
+        me = os.getpid()
+        try:
+            mine, theirs = _split(jobs, 0.0)
+            gpid = os.fork() if theirs and threading.active_count() == 1 else None
+        except OSError:  # no second process: this one draws everything
+            gpid = None
+        if gpid == 0:
+            code = 1
+            try:
+                die_with_parent(me)
+                os.close(w1)
+                code = render_and_send(theirs, self.render, w2, [])
+            finally:
+                os._exit(code)
         os.close(w2)
-        return _render_and_send(jobs, self.render, w1)
+        code = render_and_send(mine if gpid else jobs, self.render, w1, early)
+        if gpid:
+            _, status = os.waitpid(gpid, 0)
+            code = code or (0 if status == 0 else 1)
+        if not mpl_before:
+            remove_matplotlib_temp_config()
+        return code
 
     def submit(self, jobs) -> None:
         """Hand over the jobs ``(key, func, kwargs, cost)`` (see the class docstring)."""
@@ -258,23 +236,25 @@ class FigureProcesses:
         if not self.forked:
             return
         try:
-            payload = pickle.dumps([(k, f, kw, c) for k, f, kw, c in self.jobs], protocol=pickle.HIGHEST_PROTOCOL)
-            self._data.write(payload)
+            pickle.dump(self.jobs, self._data, protocol=pickle.HIGHEST_PROTOCOL)
             self._data.flush()
-            _send(self._job_w, len(payload).to_bytes(8, "little"))
-        except (OSError, pickle.PicklingError, TypeError, AttributeError):  # drawn here instead
+            if self._data.tell() > MAX_JOB_BYTES:
+                raise OverflowError("the figure data are too large to copy to a figure process")
+            send(self._job_w, self._data.tell().to_bytes(8, "little"))
+        except (OSError, OverflowError, pickle.PicklingError, TypeError, AttributeError):  # drawn here instead
             self._stop()
         finally:
             if self._job_w is not None:
                 os.close(self._job_w)
                 self._job_w = None
 
-    def _collect(self) -> dict[str, bytes]:
+    def _collect(self) -> dict[str, bytes] | None:
+        """The figure processes' PNGs; None when they declined the jobs (then they are drawn here)."""
         out: dict[str, bytes] = {}
         caught: list = []
-        failure = None
+        failure = declined = None
         for fd in self._fds:
-            data = _read_all(fd)
+            data = read_all(fd)
             if not data:
                 continue
             try:
@@ -283,34 +263,38 @@ class FigureProcesses:
                 continue
             if message[0] == "error" and failure is None:
                 failure = message
+            elif message[0] == "decline":
+                declined = message
             elif message[0] == "ok":
                 out.update(message[1])
                 caught.extend(message[2])
         self._close_fds()
         _, status = os.waitpid(self.pid, 0)
         self.pid = None
+        if declined is not None:
+            for text, category in declined[2]:
+                warnings.warn(text, category, stacklevel=3)
+            return None
         if failure is not None:
             _, exc, text = failure
-            if exc is not None:
-                raise exc
-            raise RuntimeError(f"drawing a figure failed in the figure process:\n{text}")
+            if exc is None:
+                raise RuntimeError(f"drawing a figure failed in a figure process:\n{text}")
+            exc.add_note(f"(raised in a figure process)\n{text}")
+            raise exc
         missing = [key for key, _, _, _ in self.jobs if key not in out]
         if missing:
-            raise RuntimeError(f"the figure process ended without the figures {', '.join(missing)} "
-                               f"(exit status {status})")
+            raise RuntimeError(f"the figure processes ended without the figures {', '.join(missing)} "
+                               f"(exit code {os.waitstatus_to_exitcode(status)})")
         for text, category in caught:
             warnings.warn(text, category, stacklevel=3)
         return out
 
     def pngs(self):
         """Yield (key, PNG bytes) of every submitted job, in the order submitted."""
-        if not self.forked:
-            for key, func, kwargs, _ in self.jobs:
-                yield key, self.render(func(**kwargs))
-            return
-        theirs = self._collect()
-        for key, _, _, _ in self.jobs:
-            yield key, theirs[key]
+        theirs = self._collect() if self.forked else None
+        self.forked = self.forked and theirs is not None
+        for key, func, kwargs, _ in self.jobs:
+            yield key, (theirs[key] if theirs is not None else self.render(func(**kwargs)))
 
     def _close_fds(self) -> None:
         for fd in self._fds:
@@ -318,7 +302,7 @@ class FigureProcesses:
         self._fds = []
 
     def _stop(self) -> None:
-        """Stop the children (both: they form one process group) and draw here instead."""
+        """Stop both figure processes (one process group) and draw here instead."""
         import signal
 
         if self.pid is not None:
@@ -335,15 +319,13 @@ class FigureProcesses:
                 pass
             self.pid = None
         self._close_fds()
-        self.forked = False
-
-    def __exit__(self, *exc):
         if self._job_w is not None:
             os.close(self._job_w)
             self._job_w = None
-        if self.pid is not None:  # left early: stop the children
-            self._stop()
-        self._close_fds()
+        self.forked = False
+
+    def __exit__(self, *exc):
+        self._stop()
         if self._data is not None:
             self._data.close()
             self._data = None

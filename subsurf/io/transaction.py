@@ -53,6 +53,7 @@ from typing import Literal
 
 from ..errors import InputError, OutputError, OutputExistsError, SubsurfError
 from ._staging import (
+    HELD_LOCKS,
     LOCK,
     STAGING_PREFIX,
     Interrupted,
@@ -258,6 +259,7 @@ class OutputTransaction:
                 raise OutputError(f"cannot write in the folder {parent}: {os_error_message(exc)}") from None
             fcntl.flock(fd, fcntl.LOCK_EX)
             self._lock_fds.append(fd)
+            HELD_LOCKS.add(fd)
             for t in self._targets:
                 if t.dest.parent == parent and t.kind == "folder":
                     t.staged.mkdir()
@@ -374,6 +376,7 @@ class OutputTransaction:
             with contextlib.suppress(FileNotFoundError):
                 shutil.rmtree(stage)
         for fd in self._lock_fds:
+            HELD_LOCKS.discard(fd)
             with contextlib.suppress(OSError):
                 os.close(fd)
         self._lock_fds.clear()

@@ -38,7 +38,7 @@ def _run(script: str, *args: str, env: dict | None = None) -> subprocess.Complet
 MECHANISM = """
     import json, os, sys, time, warnings
     from subsurf.io import png_split
-    from subsurf.errors import InputError
+    from subsurf.errors import FileInputError
 
     png_split.enable()
     case = sys.argv[1]
@@ -51,10 +51,12 @@ MECHANISM = """
     def preload():
         if case == "preload":
             raise ImportError("no figure library in this test")
+        if case == "mpl":
+            import matplotlib.figure  # noqa: F401 - with an unwritable config folder: a temporary one
 
     def draw(key, fn=None):
         if case == "error":
-            raise InputError(f"survey.toml, row 3, field 'moisture': {key} out of range 0-0.6")
+            raise FileInputError("survey.toml", f"{key} out of range 0-0.6", row=3, field="moisture")
         if case == "opaque":
             raise Opaque(1, 2)
         if case == "warn":
@@ -121,14 +123,76 @@ def test_jobs_are_shared_by_two_figure_processes_and_come_back_in_order():
 @TWO_CPUS
 def test_a_failure_in_a_figure_process_is_raised_here_with_its_message():
     out = _mechanism("error")
-    assert out["error"][0] == "InputError"
-    assert "field 'moisture'" in out["error"][1] and "0-0.6" in out["error"][1]
+    # the same class and one-line message as in one process (FileInputError pickles with its message)
+    assert out["error"] == ["FileInputError", "survey.toml, row 3, field 'moisture': fig0 out of range 0-0.6"] or \
+        out["error"] == ["FileInputError", "survey.toml, row 3, field 'moisture': fig1 out of range 0-0.6"]
     assert out["children_left"] is False and out["group_left"] is False
     opaque = _mechanism("opaque")
     assert opaque["error"][0] == "RuntimeError"
     assert "Opaque" in opaque["error"][1] and "1-2" in opaque["error"][1]  # the child's traceback, as text
-    failed_import = _mechanism("preload")
-    assert failed_import["error"] == ["ImportError", "no figure library in this test"]
+
+
+
+@TWO_CPUS
+def test_a_figure_process_that_cannot_import_the_figure_code_leaves_the_figures_to_this_process():
+    out = _mechanism("preload")
+    assert "error" not in out and out["child"]
+    assert set(out["pids"].values()) == {out["parent"]}
+    assert out["children_left"] is False and out["group_left"] is False
+
+
+@TWO_CPUS
+def test_no_temporary_matplotlib_folder_is_left_behind(tmp_path):
+    tmp = tmp_path / "tmp"
+    tmp.mkdir()
+    out = _mechanism("mpl", env={"TMPDIR": str(tmp), "MPLCONFIGDIR": "/proc/no-such-folder"})
+    assert "error" not in out and out["parent"] not in out["pids"].values()
+    assert list(tmp.iterdir()) == []  # matplotlib's temporary config folder went with the figure process
+
+
+@TWO_CPUS
+def test_figure_processes_end_with_a_killed_parent_and_do_not_hold_its_output_lock(tmp_path):
+    """SIGKILL of the command while the figures are drawn: they stop, and the next run is not refused."""
+    out_dir = tmp_path / "out"
+    proc = _run(f"""
+        import os, signal, sys, time
+        from subsurf.io import png_split
+        from subsurf.io.transaction import OutputTransaction
+
+        def slow(key):
+            time.sleep(30)
+            return key
+
+        png_split.enable()
+        txn = OutputTransaction("map")
+        txn.folder({str(out_dir)!r})
+        with txn, png_split.FigureProcesses(preload=lambda: None, render=lambda fig: fig.encode()) as figs:
+            figs.submit([(f"fig{{i}}", slow, {{"key": f"fig{{i}}"}}, 1.0) for i in range(2)])
+            print(figs.pid, flush=True)
+            time.sleep(0.5)  # both are drawing
+            os.kill(os.getpid(), signal.SIGKILL)
+    """)
+    assert proc.returncode == -9, proc.stderr[-2000:]
+    group = int(proc.stdout.split()[0])
+    import time
+
+    for _ in range(50):  # they end with their parent (not after their 30 s of drawing)
+        try:
+            os.killpg(group, 0)
+        except ProcessLookupError:
+            break
+        time.sleep(0.1)
+    else:
+        pytest.fail("the figure processes outlived the killed command")
+    again = _run(f"""
+        from subsurf.io.transaction import OutputTransaction
+        txn = OutputTransaction("map")
+        txn.folder({str(out_dir)!r})
+        with txn:
+            pass
+        print("ok")
+    """)
+    assert again.returncode == 0 and again.stdout.strip() == "ok", again.stderr[-2000:]
 
 
 @TWO_CPUS
@@ -201,3 +265,35 @@ def test_console_map_draws_in_two_processes_the_same_pngs_as_one(tmp_path):
     assert len(pngs) == 4 and pngs == sorted(p.name for p in (tmp_path / "inproc").glob("*.png"))
     for name in pngs:
         assert (tmp_path / "console" / name).read_bytes() == (tmp_path / "inproc" / name).read_bytes(), name
+
+
+def test_a_forked_child_lets_go_of_the_output_lock_the_parent_keeps(tmp_path):
+    proc = _run(f"""
+        import fcntl, os
+        from subsurf.io._staging import HELD_LOCKS
+        from subsurf.io.transaction import OutputTransaction
+        txn = OutputTransaction("map")
+        txn.folder({str(tmp_path / "out")!r})
+        with txn:
+            fds = sorted(HELD_LOCKS)
+            pid = os.fork()
+            if pid == 0:
+                closed = 0
+                for fd in fds:
+                    try:
+                        os.fstat(fd)
+                    except OSError:
+                        closed += 1
+                os._exit(0 if fds and closed == len(fds) else 1)
+            _, status = os.waitpid(pid, 0)
+            lock = [p for p in os.listdir({str(tmp_path)!r}) if p.startswith(".subsurf-staging")]
+            probe = os.open(os.path.join({str(tmp_path)!r}, lock[0], "lock"), os.O_RDWR)
+            try:
+                fcntl.flock(probe, fcntl.LOCK_EX | fcntl.LOCK_NB)
+                held = False
+            except BlockingIOError:
+                held = True
+            print(os.waitstatus_to_exitcode(status), held)
+    """)
+    assert proc.returncode == 0, proc.stderr[-2000:]
+    assert proc.stdout.split() == ["0", "True"]  # closed in the child, still held by the parent
