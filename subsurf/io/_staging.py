@@ -301,6 +301,20 @@ def disk_full(parents) -> bool:
 HELD_LOCKS: set[int] = set()
 
 
+def hold_lock(fd: int) -> int:
+    """Lock ``fd`` exclusively (``flock``, blocking) and keep it from forked children; return it."""
+    fcntl.flock(fd, fcntl.LOCK_EX)
+    HELD_LOCKS.add(fd)
+    return fd
+
+
+def release_lock(fd: int) -> None:
+    """Close a descriptor :func:`hold_lock` locked (which releases the lock)."""
+    HELD_LOCKS.discard(fd)
+    with contextlib.suppress(OSError):
+        os.close(fd)
+
+
 def _drop_locks_in_child() -> None:
     for fd in HELD_LOCKS:
         with contextlib.suppress(OSError):

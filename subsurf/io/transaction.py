@@ -53,7 +53,6 @@ from typing import Literal
 
 from ..errors import InputError, OutputError, OutputExistsError, SubsurfError
 from ._staging import (
-    HELD_LOCKS,
     LOCK,
     STAGING_PREFIX,
     Interrupted,
@@ -63,10 +62,12 @@ from ._staging import (
     exchange,
     files_under,
     fsync_dir,
+    hold_lock,
     hold_signals,
     is_own,
     merge_one,
     move_file,
+    release_lock,
     remove_one,
     stale_sidecars,
     stale_staging,
@@ -257,9 +258,7 @@ class OutputTransaction:
                 with contextlib.suppress(OSError):
                     stage.rmdir()
                 raise OutputError(f"cannot write in the folder {parent}: {os_error_message(exc)}") from None
-            fcntl.flock(fd, fcntl.LOCK_EX)
-            self._lock_fds.append(fd)
-            HELD_LOCKS.add(fd)
+            self._lock_fds.append(hold_lock(fd))
             for t in self._targets:
                 if t.dest.parent == parent and t.kind == "folder":
                     t.staged.mkdir()
@@ -376,9 +375,7 @@ class OutputTransaction:
             with contextlib.suppress(FileNotFoundError):
                 shutil.rmtree(stage)
         for fd in self._lock_fds:
-            HELD_LOCKS.discard(fd)
-            with contextlib.suppress(OSError):
-                os.close(fd)
+            release_lock(fd)
         self._lock_fds.clear()
 
     def __enter__(self) -> OutputTransaction:
