@@ -190,9 +190,6 @@ def png_bytes(fig) -> bytes:
 
 def save_png(fig, path: os.PathLike | str, *, force: bool = False) -> Path:
     """Write ``fig`` as a PNG to ``path`` atomically (temporary name, then rename)."""
-    from .outputs import atomic_path
+    from .outputs import atomic_write_bytes
 
-    data = png_bytes(fig)
-    with atomic_path(path, force=force) as tmp:
-        Path(tmp).write_bytes(data)
-    return Path(path)
+    return atomic_write_bytes(path, png_bytes(fig), force=force)

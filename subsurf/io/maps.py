@@ -245,7 +245,7 @@ def write_map_outputs(maps, out_dir, *, force: bool = False, geotiff: bool = Tru
     """
     from . import figstyle
     from .map_figures import figure_jobs
-    from .outputs import atomic_path, check_outputs_free
+    from .outputs import atomic_write_bytes, check_outputs_free
     from .png_split import FigureProcesses
 
     survey = maps.survey
@@ -260,9 +260,7 @@ def write_map_outputs(maps, out_dir, *, force: bool = False, geotiff: bool = Tru
         figures.submit(figure_jobs(maps))
         _write_data_outputs(maps, paths, written, force=force, geotiff=geotiff)
         for key, png in figures.pngs():
-            with atomic_path(paths[key], force=force) as tmp:
-                Path(tmp).write_bytes(png)
-            written[key] = paths[key]
+            written[key] = atomic_write_bytes(paths[key], png, force=force)
     # listed as before the figures were drawn beside the other outputs: the PNGs before the GeoTIFFs
     return {**{k: p for k, p in written.items() if not k.startswith("tif_")},
             **{k: p for k, p in written.items() if k.startswith("tif_")}}

@@ -27,6 +27,7 @@ __all__ = [
     "to_jsonable",
     "check_outputs_free",
     "atomic_path",
+    "atomic_write_bytes",
     "atomic_write_text",
     "Column",
 ]
@@ -138,6 +139,13 @@ def atomic_path(path: os.PathLike | str, *, force: bool = False):
     finally:
         if tmp_path.exists():
             tmp_path.unlink()
+
+
+def atomic_write_bytes(path: os.PathLike | str, data: bytes, *, force: bool = False) -> Path:
+    """Write ``data`` to ``path`` atomically (temporary name, then rename)."""
+    with atomic_path(path, force=force) as tmp:
+        Path(tmp).write_bytes(data)
+    return Path(path)
 
 
 def atomic_write_text(path: os.PathLike | str, text: str, *, force: bool = False) -> Path:
