@@ -106,10 +106,11 @@ def entry() -> None:
     import os
 
     from ..io import png_split
-    from . import _numpy_only
+    from . import _collector, _numpy_only
 
     _numpy_only.enable()  # one command, then the process ends: map/demo/report may spare xarray's probes
     png_split.enable()  # ... and may draw figures in forked figure processes
+    _collector.enable()  # ... and need not garbage-collect their imports
     code = main()
     run_exit_handlers = getattr(atexit, "_run_exitfuncs", None)
     if run_exit_handlers is None:  # pragma: no cover - CPython and PyPy have it

@@ -15,6 +15,12 @@ changed and xarray probes as usual.  The cache lives as long as the process, so 
 command, a process that runs one command and ends (:func:`subsurf.cli.entry`), enables it
 (:func:`enable`); `subsurf.cli.main` called from Python (a notebook, the tests, a user's script
 that goes on to use dask) never changes xarray.  `region` (dask arrays) never calls it.
+
+xarray also asks, of every array it indexes, whether it is a dask collection, and to ask it imports
+``dask.base`` (and with it most of dask: 0.07 s) whenever dask is installed
+(``xarray.namedarray.utils.is_dask_collection``).  No object can be a dask collection in a process
+that has not imported dask, so :func:`declare_numpy_only` puts a check of ``sys.modules`` in front of
+that function; once dask is imported the question goes to dask as before.
 """
 
 from __future__ import annotations
@@ -54,4 +60,22 @@ def declare_numpy_only() -> tuple[str, ...]:
     marked = tuple(m for m in PROBED if m not in cache and m not in sys.modules)
     for m in marked:
         cache[m] = absent
+    _ask_dask_only_once_imported()
     return marked
+
+
+def _ask_dask_only_once_imported() -> None:
+    """``xarray.namedarray.utils.is_dask_collection``, answered False while dask is not imported."""
+    try:
+        from xarray.namedarray import utils
+    except ImportError:  # pragma: no cover - an xarray without it asks as usual
+        return
+    ask = getattr(utils, "is_dask_collection", None)
+    if ask is None or getattr(ask, "_subsurf_guard", False):
+        return
+
+    def is_dask_collection(x):
+        return "dask" in sys.modules and ask(x)
+
+    is_dask_collection._subsurf_guard = True
+    utils.is_dask_collection = is_dask_collection

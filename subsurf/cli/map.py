@@ -67,11 +67,19 @@ def summary_text(result: dict, out_dir) -> str:
 
 
 def run(args) -> int:
+    from ._collector import imports_first
+
+    with imports_first():  # console only: no garbage collection while importing, until preflight
+        return _run(args)
+
+
+def _run(args) -> int:
     from ..io.gdal_pam import GDAL_SIDECARS
     from ..io.maps import OWN_FILES, run_map
     from ..io.outputs import CAUTION, collect_warnings, print_notes, print_result
     from ..io.preflight import map_output_bytes
     from ..io.transaction import OutputTransaction
+    from ._collector import imports_done
     from ._numpy_only import declare_numpy_only
     from ._reach import reach_margin_from_args
 
@@ -86,6 +94,7 @@ def run(args) -> int:
         grid = build_grid(survey)
         txn.require_space(map_output_bytes(cells=grid.sizes["x"] * grid.sizes["y"], antennas=len(survey.antennas),
                                            scenarios=len(survey.scenarios), geotiff=geotiff))
+        imports_done()  # the modules and the survey stay till the end: later collections skip them
 
     # input notes (ignored columns, partial rasters, kriging ...) and model warnings become note: lines
     with collect_warnings() as notes, txn:  # the folder is staged, then moved into place whole with its manifest

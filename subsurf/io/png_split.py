@@ -34,6 +34,7 @@ Memory: a figure process starts as this process's pages, shared until written; e
 
 from __future__ import annotations
 
+import gc
 import os
 import pickle
 import sys
@@ -160,6 +161,7 @@ class FigureProcesses:
         self._fds, self._job_w = [r1, r2], job_w
         sys.stdout.flush()
         sys.stderr.flush()
+        gc.freeze()  # as the Python documentation advises before a fork: the children's collections leave these alone
         parent = os.getpid()
         try:
             pid = os.fork()
@@ -191,7 +193,10 @@ class FigureProcesses:
         with warnings.catch_warnings(record=True) as caught:
             warnings.simplefilter("always")
             try:
+                gc.disable()  # importing builds long-lived objects only: collect none, then freeze them
                 self.preload()
+                gc.freeze()
+                gc.enable()
                 header = read_exact(job_r, 8)
                 if len(header) < 8:  # nothing submitted: the parent stopped
                     return 0

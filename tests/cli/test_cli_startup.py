@@ -85,7 +85,7 @@ def test_map_console_spares_xarray_probes_and_changes_no_value(tmp_path):
     names = {m.group(1) for line in proc.stderr.splitlines()
              if (m := re.match(r"import time:\s+\d+ \|\s+\d+ \|\s*(\S+)$", line))}
     assert "xarray" in names and "netCDF4" in names  # the report was read, and the map used xarray
-    assert not {"pint", "dask.array", "uncertainties"} & names
+    assert not {"pint", "dask", "dask.array", "uncertainties"} & names
     run_map(survey, tmp_path / "inproc", quiet=True, geotiff=False)
     with netCDF4.Dataset(out / "feasibility.nc") as a, netCDF4.Dataset(tmp_path / "inproc" / "feasibility.nc") as b:
         layers = [v for v in a.variables if a[v].ndim >= 2]
@@ -96,10 +96,40 @@ def test_map_console_spares_xarray_probes_and_changes_no_value(tmp_path):
 
 def test_numpy_only_declaration_needs_the_console_entry():
     """Called from Python (here: the test process, which goes on to use dask), the declaration changes nothing."""
-    from xarray.namedarray import pycompat
+    from xarray.namedarray import pycompat, utils
 
     from subsurf.cli._numpy_only import declare_numpy_only
 
-    before = dict(pycompat._cached_duck_array_modules)
+    before, ask = dict(pycompat._cached_duck_array_modules), utils.is_dask_collection
     assert declare_numpy_only() == ()
-    assert pycompat._cached_duck_array_modules == before
+    assert pycompat._cached_duck_array_modules == before and utils.is_dask_collection is ask
+
+
+def test_console_guards_leave_dask_answers_and_collect_after_the_imports():
+    """In a console process (both switches on, as `subsurf.cli.entry` sets them): xarray's dask question is
+    answered without importing dask while dask is absent, and by dask (a real dask array: True) once it is
+    imported; the collector is off inside `imports_first` until `imports_done`, which freezes what is alive
+    and switches it on again, and on when the block is left.  Without the switches nothing changes."""
+    script = """
+import gc, sys
+import numpy as np
+from xarray.namedarray import utils
+from subsurf.cli import _collector, _numpy_only
+with _collector.imports_first():
+    assert gc.isenabled()  # not enabled: the test process's own collector is never touched
+_numpy_only.enable(); _collector.enable()
+_numpy_only.declare_numpy_only()
+assert utils.is_dask_collection(np.ones(3)) is False and "dask" not in sys.modules
+import dask.array as da
+assert utils.is_dask_collection(da.ones(3)) and not utils.is_dask_collection(np.ones(3))
+with _collector.imports_first():
+    assert not gc.isenabled()
+    _collector.imports_done()
+    assert gc.isenabled() and gc.get_freeze_count() > 10000
+with _collector.imports_first():
+    assert not gc.isenabled()
+assert gc.isenabled()
+print("ok")
+"""
+    proc = subprocess.run([sys.executable, "-c", script], capture_output=True, text=True, timeout=120)
+    assert proc.returncode == 0 and proc.stdout.strip() == "ok", proc.stderr[-2000:]
