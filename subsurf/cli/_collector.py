@@ -26,6 +26,7 @@ import gc
 __all__ = ["enable", "imports_first", "imports_done"]
 
 _ENABLED = False
+_PAUSED = False  # inside imports_first, before imports_done
 
 
 def enable() -> None:
@@ -37,18 +38,23 @@ def enable() -> None:
 @contextlib.contextmanager
 def imports_first():
     """The block a command runs in: no collection until :func:`imports_done` (console only, see the module notes)."""
+    global _PAUSED
     paused = _ENABLED and gc.isenabled()
     if paused:
         gc.disable()
+        _PAUSED = True
     try:
         yield
     finally:
         if paused:
+            _PAUSED = False
             gc.enable()
 
 
 def imports_done() -> None:
     """Freeze what is alive (the imported modules and the inputs) and collect again from here on."""
-    if _ENABLED and not gc.isenabled():
+    global _PAUSED
+    if _PAUSED:
+        _PAUSED = False
         gc.freeze()
         gc.enable()
