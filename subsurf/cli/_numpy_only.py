@@ -20,7 +20,8 @@ xarray also asks, of every array it indexes, whether it is a dask collection, an
 ``dask.base`` (and with it most of dask: 0.07 s) whenever dask is installed
 (``xarray.namedarray.utils.is_dask_collection``).  No object can be a dask collection in a process
 that has not imported dask, so :func:`declare_numpy_only` puts a check of ``sys.modules`` in front of
-that function; once dask is imported the question goes to dask as before.
+that function where xarray's array checks call it (``xarray.core.utils`` keeps its own reference, used
+on dask code paths only); once dask is imported the question goes to dask as before.
 """
 
 from __future__ import annotations

@@ -133,3 +133,31 @@ print("ok")
 """
     proc = subprocess.run([sys.executable, "-c", script], capture_output=True, text=True, timeout=120)
     assert proc.returncode == 0 and proc.stdout.strip() == "ok", proc.stderr[-2000:]
+
+
+def test_console_map_collects_again_before_computing(tmp_path):
+    """The console `subsurf map` reads the survey with the collector off and computes with it on again,
+    the imports frozen (subsurf.cli._collector; without the imports_done call the whole computation
+    would run uncollected)."""
+    from example_site import coarse_copy
+
+    survey = coarse_copy(tmp_path)
+    script = """
+import gc, sys
+import subsurf.site.maps as maps, subsurf.site.survey as survey
+def spy(module, name):
+    real = getattr(module, name)
+    def call(*args, **kwargs):
+        print(name, gc.isenabled(), gc.get_freeze_count() > 10000, file=sys.stderr, flush=True)
+        return real(*args, **kwargs)
+    setattr(module, name, call)
+spy(survey, "load_survey"); spy(maps, "compute_maps")
+from subsurf import cli
+sys.argv = ["subsurf", *sys.argv[1:]]
+cli.entry()
+"""
+    proc = subprocess.run([sys.executable, "-c", script, "map", str(survey), "--out", str(tmp_path / "out"),
+                           "--quiet", "--no-geotiff"], capture_output=True, text=True, timeout=300)
+    assert proc.returncode == 0, proc.stderr[-2000:]
+    lines = [line for line in proc.stderr.splitlines() if line.startswith(("load_survey", "compute_maps"))]
+    assert lines == ["load_survey False False", "compute_maps True True"], proc.stderr[-2000:]
